@@ -1,0 +1,11 @@
+"""Starkiln engine: star temperature and brightness to display colours.
+
+Pure numpy; never imports a window toolkit. Every output of the project (the
+command line, the window, lookup textures, palettes, catalogues) asks
+:func:`engine.render.render` for its colours.
+"""
+
+from engine.errors import StarkilnError
+
+__all__ = ["StarkilnError"]
+__version__ = "0.1.0"

@@ -1,0 +1,324 @@
+"""Displays: primaries, white, transfer function and peak luminance.
+
+Presets (chromaticities in CIE 1931 xy):
+
+==============  ===========================================  ==========  ================  =========
+name            primaries R, G, B                            white       transfer          peak
+==============  ===========================================  ==========  ================  =========
+``srgb``        (0.64, 0.33) (0.30, 0.60) (0.15, 0.06)        D65         sRGB piecewise    80 cd/m2
+``display-p3``  (0.680, 0.320) (0.265, 0.690) (0.150, 0.060)  D65         sRGB piecewise    80 cd/m2
+``dci-p3``      (0.680, 0.320) (0.265, 0.690) (0.150, 0.060)  DCI         gamma 2.6         48 cd/m2
+``rec2020``     (0.708, 0.292) (0.170, 0.797) (0.131, 0.046)  D65         gamma 2.4         100 cd/m2
+``rec2100-pq``  as rec2020                                    D65         SMPTE ST 2084     1000 cd/m2
+==============  ===========================================  ==========  ================  =========
+
+Sources: IEC 61966-2-1:1999 (sRGB, 80 cd/m2 reference display); SMPTE RP
+431-2:2011 (DCI-P3 primaries and white, 48 cd/m2); SMPTE EG 432-1:2010 (P3
+primaries with a D65 white; its use with the sRGB curve is common practice);
+ITU-R BT.2020-2 (primaries), ITU-R BT.1886 (gamma 2.4 reference EOTF, 100
+cd/m2 is common practice); ITU-R BT.2100-2 and SMPTE ST 2084:2014 (PQ; a
+1000 cd/m2 grading peak is common practice). D65 here is x = 0.3127, y =
+0.3290 (the four-digit value those standards use).
+
+A custom display is a small JSON *display profile*::
+
+    {
+      "starkiln_display": 1,
+      "name": "my-dome",
+      "primaries_xy": {"red": [0.68, 0.32], "green": [0.265, 0.69], "blue": [0.15, 0.06]},
+      "white_xy": [0.3127, 0.329],
+      "transfer": {"function": "gamma", "gamma": 2.2},
+      "peak_luminance_cd_m2": 14.0
+    }
+
+``transfer.function`` is one of ``srgb``, ``gamma`` (with ``gamma``, 1-4),
+``linear`` or ``pq``.
+"""
+
+from __future__ import annotations
+
+import json
+from dataclasses import asdict, dataclass
+from pathlib import Path
+
+import numpy as np
+
+from engine.errors import SettingsError
+
+TRANSFERS = ("srgb", "gamma", "linear", "pq")
+PROFILE_FORMAT = 1
+
+
+@dataclass(frozen=True)
+class Display:
+    """An immutable display description; see the module docstring for the fields' sources."""
+
+    name: str
+    red_xy: tuple[float, float]
+    green_xy: tuple[float, float]
+    blue_xy: tuple[float, float]
+    white_xy: tuple[float, float]
+    transfer: str = "srgb"
+    gamma: float = 2.2
+    peak_luminance_cd_m2: float = 80.0
+
+    def __post_init__(self):
+        where = f"display {self.name!r}"
+        for field in ("red_xy", "green_xy", "blue_xy", "white_xy"):
+            v = getattr(self, field)
+            try:
+                pair = (float(v[0]), float(v[1]))
+                if len(v) != 2:
+                    raise ValueError
+            except (TypeError, ValueError, IndexError):
+                raise SettingsError(f"{where}: {field} must be two numbers [x, y], got {v!r}") from None
+            if not (0.0 < pair[0] < 1.0 and 0.0 < pair[1] < 1.0 and pair[0] + pair[1] <= 1.0 + 1e-12):
+                raise SettingsError(f"{where}: {field} {list(pair)} is not a chromaticity "
+                                    "(0 < x, 0 < y, x + y <= 1)")
+            object.__setattr__(self, field, pair)
+        if self.transfer not in TRANSFERS:
+            raise SettingsError(f"{where}: transfer {self.transfer!r} unknown; accepted: "
+                                f"{', '.join(TRANSFERS)}")
+        g = _finite(self.gamma, f"{where}: gamma")
+        if not 1.0 <= g <= 4.0:
+            raise SettingsError(f"{where}: gamma {g:g} is outside 1-4")
+        object.__setattr__(self, "gamma", g)
+        peak = _finite(self.peak_luminance_cd_m2, f"{where}: peak_luminance_cd_m2")
+        if not 0.01 <= peak <= 10000.0:
+            raise SettingsError(f"{where}: peak_luminance_cd_m2 {peak:g} is outside 0.01-10000")
+        object.__setattr__(self, "peak_luminance_cd_m2", peak)
+        m = np.array([self.red_xy, self.green_xy, self.blue_xy])
+        area = 0.5 * np.linalg.det(np.column_stack([m, np.ones(3)]))
+        if abs(area) < 1e-4:
+            raise SettingsError(f"{where}: primaries are (nearly) collinear; they must span a "
+                                "triangle")
+        if not _in_triangle(np.array(self.white_xy), m):
+            raise SettingsError(f"{where}: white_xy {list(self.white_xy)} lies outside the "
+                                "primaries' triangle")
+
+    def to_profile(self) -> dict:
+        """The JSON display-profile form of this display (format in the module docstring)."""
+        d = asdict(self)
+        transfer = {"function": self.transfer}
+        if self.transfer == "gamma":
+            transfer["gamma"] = self.gamma
+        return {
+            "starkiln_display": PROFILE_FORMAT,
+            "name": self.name,
+            "primaries_xy": {"red": list(d["red_xy"]), "green": list(d["green_xy"]),
+                             "blue": list(d["blue_xy"])},
+            "white_xy": list(d["white_xy"]),
+            "transfer": transfer,
+            "peak_luminance_cd_m2": self.peak_luminance_cd_m2,
+        }
+
+    @property
+    def rgb_to_XYZ(self) -> np.ndarray:
+        """Normalised primary matrix (white -> Y = 1), SMPTE RP 177-1993 section 3.3."""
+        return _npm(self.red_xy, self.green_xy, self.blue_xy, self.white_xy)
+
+    @property
+    def XYZ_to_rgb(self) -> np.ndarray:
+        """Inverse of :attr:`rgb_to_XYZ` (SMPTE RP 177-1993)."""
+        return np.linalg.inv(self.rgb_to_XYZ)
+
+    @property
+    def white_XYZ(self) -> np.ndarray:
+        """Display white tristimulus values, Y = 1."""
+        x, y = self.white_xy
+        return np.array([x / y, 1.0, (1.0 - x - y) / y])
+
+    def encode(self, rgb_linear) -> np.ndarray:
+        """Display-linear 0-1 -> encoded signal 0-1 through this display's transfer function."""
+        return encode(rgb_linear, self.transfer, self.gamma, self.peak_luminance_cd_m2)
+
+    def decode(self, rgb_encoded) -> np.ndarray:
+        """Encoded signal 0-1 -> display-linear 0-1 (inverse of :meth:`encode`)."""
+        return decode(rgb_encoded, self.transfer, self.gamma, self.peak_luminance_cd_m2)
+
+
+def _finite(value, what: str) -> float:
+    try:
+        v = float(value)
+    except (TypeError, ValueError):
+        raise SettingsError(f"{what} must be a number, got {value!r}") from None
+    if not np.isfinite(v):
+        raise SettingsError(f"{what} must be finite, got {value!r}")
+    return v
+
+
+def _in_triangle(p: np.ndarray, tri: np.ndarray) -> bool:
+    def side(a, b):
+        return (b[0] - a[0]) * (p[1] - a[1]) - (b[1] - a[1]) * (p[0] - a[0])
+    s = [side(tri[0], tri[1]), side(tri[1], tri[2]), side(tri[2], tri[0])]
+    return all(v > 0 for v in s) or all(v < 0 for v in s)
+
+
+def _npm(r, g, b, w) -> np.ndarray:
+    def col(xy):
+        x, y = xy
+        return np.array([x / y, 1.0, (1.0 - x - y) / y])
+    p = np.column_stack([col(r), col(g), col(b)])
+    s = np.linalg.solve(p, col(w))
+    return p * s
+
+
+D65_4DIGIT = (0.3127, 0.3290)
+_P3 = ((0.680, 0.320), (0.265, 0.690), (0.150, 0.060))
+_BT2020 = ((0.708, 0.292), (0.170, 0.797), (0.131, 0.046))
+
+PRESETS: dict[str, Display] = {
+    "srgb": Display("srgb", (0.64, 0.33), (0.30, 0.60), (0.15, 0.06), D65_4DIGIT, "srgb", 2.2, 80.0),
+    "display-p3": Display("display-p3", *_P3, D65_4DIGIT, "srgb", 2.2, 80.0),
+    "dci-p3": Display("dci-p3", *_P3, (0.314, 0.351), "gamma", 2.6, 48.0),
+    "rec2020": Display("rec2020", *_BT2020, D65_4DIGIT, "gamma", 2.4, 100.0),
+    "rec2100-pq": Display("rec2100-pq", *_BT2020, D65_4DIGIT, "pq", 2.2, 1000.0),
+}
+
+PRESET_NOTES = {
+    "srgb": "IEC 61966-2-1 monitors and the web",
+    "display-p3": "P3 primaries, D65 white, sRGB curve (wide-gamut monitors)",
+    "dci-p3": "digital-cinema projector (SMPTE RP 431-2), DCI white, gamma 2.6",
+    "rec2020": "ITU-R BT.2020 primaries, BT.1886 gamma 2.4",
+    "rec2100-pq": "ITU-R BT.2100 with SMPTE ST 2084 PQ, 1000 cd/m2",
+}
+
+
+def display_from_profile(data: dict, source: str = "profile") -> Display:
+    """Build a :class:`Display` from a parsed JSON profile (format in the module docstring).
+
+    Raises :class:`SettingsError` naming ``source`` and the key for any problem.
+    """
+    if not isinstance(data, dict):
+        raise SettingsError(f"{source}: a display profile must be a JSON object")
+    known = {"starkiln_display", "name", "primaries_xy", "white_xy", "transfer",
+             "peak_luminance_cd_m2", "note"}
+    extra = sorted(set(data) - known)
+    if extra:
+        raise SettingsError(f"{source}: unknown key {extra[0]!r}; accepted: {', '.join(sorted(known))}")
+    version = data.get("starkiln_display", PROFILE_FORMAT)
+    if version != PROFILE_FORMAT:
+        raise SettingsError(f"{source}: starkiln_display {version!r} unsupported; accepted: "
+                            f"{PROFILE_FORMAT}")
+    for key in ("primaries_xy", "white_xy"):
+        if key not in data:
+            raise SettingsError(f"{source}: missing key {key!r}")
+    prim = data["primaries_xy"]
+    if not isinstance(prim, dict) or set(prim) != {"red", "green", "blue"}:
+        raise SettingsError(f"{source}: primaries_xy must be an object with keys red, green, blue")
+    transfer = data.get("transfer", {"function": "srgb"})
+    if isinstance(transfer, str):
+        transfer = {"function": transfer}
+    if not isinstance(transfer, dict) or "function" not in transfer:
+        raise SettingsError(f"{source}: transfer must be an object with key 'function' "
+                            f"({', '.join(TRANSFERS)})")
+    fn = str(transfer["function"]).lower()
+    if fn not in TRANSFERS:
+        raise SettingsError(f"{source}: transfer.function {transfer['function']!r} unknown; "
+                            f"accepted: {', '.join(TRANSFERS)}")
+    if fn == "gamma" and "gamma" not in transfer:
+        raise SettingsError(f"{source}: transfer.gamma is required with function 'gamma'")
+    name = str(data.get("name", Path(source).stem))
+    try:
+        return Display(name, tuple(prim["red"]), tuple(prim["green"]), tuple(prim["blue"]),
+                       tuple(data["white_xy"]), fn, transfer.get("gamma", 2.2),
+                       data.get("peak_luminance_cd_m2", 100.0))
+    except SettingsError as exc:
+        raise SettingsError(f"{source}: {exc}") from None
+    except TypeError:
+        raise SettingsError(f"{source}: primaries and white must be [x, y] pairs") from None
+
+
+def load_display_profile(path) -> Display:
+    """Read a JSON display profile from ``path`` (format in the module docstring)."""
+    path = Path(path)
+    try:
+        text = path.read_text(encoding="utf-8")
+    except OSError as exc:
+        raise SettingsError(f"{path}: cannot read display profile ({exc.strerror})") from None
+    try:
+        data = json.loads(text)
+    except json.JSONDecodeError as exc:
+        raise SettingsError(f"{path}: not valid JSON (line {exc.lineno}: {exc.msg})") from None
+    return display_from_profile(data, str(path))
+
+
+def get_display(spec) -> Display:
+    """A display from a preset name, a path to a ``.json`` profile, or a :class:`Display`."""
+    if isinstance(spec, Display):
+        return spec
+    text = str(spec).strip()
+    if text.lower() in PRESETS:
+        return PRESETS[text.lower()]
+    if text.lower().endswith(".json"):
+        return load_display_profile(text)
+    raise SettingsError(f"unknown display {text!r}; accepted: {', '.join(PRESETS)} or a "
+                        "path to a .json display profile")
+
+
+# --- transfer functions --------------------------------------------------------------------
+
+#: SMPTE ST 2084:2014 constants.
+PQ_M1 = 2610.0 / 16384.0
+PQ_M2 = 2523.0 / 4096.0 * 128.0
+PQ_C1 = 3424.0 / 4096.0
+PQ_C2 = 2413.0 / 4096.0 * 32.0
+PQ_C3 = 2392.0 / 4096.0 * 32.0
+
+
+def srgb_encode(linear) -> np.ndarray:
+    """sRGB inverse EOTF (encoding), IEC 61966-2-1:1999 section 5.2: 12.92 L below 0.0031308."""
+    v = np.clip(np.asarray(linear, dtype=np.float64), 0.0, 1.0)
+    return np.where(v <= 0.0031308, 12.92 * v, 1.055 * np.power(v, 1.0 / 2.4) - 0.055)
+
+
+def srgb_decode(encoded) -> np.ndarray:
+    """sRGB EOTF (decoding), IEC 61966-2-1:1999 section 5.2: V / 12.92 below 0.04045."""
+    v = np.clip(np.asarray(encoded, dtype=np.float64), 0.0, 1.0)
+    return np.where(v <= 0.04045, v / 12.92, np.power((v + 0.055) / 1.055, 2.4))
+
+
+def pq_encode(luminance_cd_m2) -> np.ndarray:
+    """SMPTE ST 2084:2014 inverse EOTF: absolute luminance (0-10000 cd/m2) to signal 0-1."""
+    y = np.clip(np.asarray(luminance_cd_m2, dtype=np.float64) / 10000.0, 0.0, 1.0)
+    ym = np.power(y, PQ_M1)
+    return np.power((PQ_C1 + PQ_C2 * ym) / (1.0 + PQ_C3 * ym), PQ_M2)
+
+
+def pq_decode(signal) -> np.ndarray:
+    """SMPTE ST 2084:2014 EOTF: signal 0-1 to absolute luminance in cd/m2."""
+    e = np.power(np.clip(np.asarray(signal, dtype=np.float64), 0.0, 1.0), 1.0 / PQ_M2)
+    return 10000.0 * np.power(np.maximum(e - PQ_C1, 0.0) / (PQ_C2 - PQ_C3 * e), 1.0 / PQ_M1)
+
+
+def encode(rgb_linear, transfer: str, gamma: float = 2.2, peak_cd_m2: float = 100.0) -> np.ndarray:
+    """Encode display-linear values (0-1 of peak) with a transfer function.
+
+    ``srgb`` (IEC 61966-2-1), ``gamma`` (V = L^(1/gamma), pure power as in
+    ITU-R BT.1886 with zero black), ``linear``, ``pq`` (SMPTE ST 2084, with
+    linear 1.0 at ``peak_cd_m2``).
+    """
+    v = np.clip(np.asarray(rgb_linear, dtype=np.float64), 0.0, 1.0)
+    if transfer == "srgb":
+        return srgb_encode(v)
+    if transfer == "gamma":
+        return np.power(v, 1.0 / gamma)
+    if transfer == "linear":
+        return v
+    if transfer == "pq":
+        return pq_encode(v * peak_cd_m2)
+    raise SettingsError(f"unknown transfer {transfer!r}; accepted: {', '.join(TRANSFERS)}")
+
+
+def decode(rgb_encoded, transfer: str, gamma: float = 2.2, peak_cd_m2: float = 100.0) -> np.ndarray:
+    """Inverse of :func:`encode` (same references)."""
+    v = np.clip(np.asarray(rgb_encoded, dtype=np.float64), 0.0, 1.0)
+    if transfer == "srgb":
+        return srgb_decode(v)
+    if transfer == "gamma":
+        return np.power(v, gamma)
+    if transfer == "linear":
+        return v
+    if transfer == "pq":
+        return np.clip(pq_decode(v) / peak_cd_m2, 0.0, 1.0)
+    raise SettingsError(f"unknown transfer {transfer!r}; accepted: {', '.join(TRANSFERS)}")

@@ -1,0 +1,132 @@
+"""Gamut mapping of display-linear RGB into the display's cube.
+
+Methods:
+
+- ``clip``: clamp each channel to [0, 1] (changes hue where a channel is cut).
+- ``scale``: keep the dominant wavelength: negative channels are lifted by
+  mixing in the least amount of display white at equal luminance (a straight
+  line toward the white in the chromaticity diagram), then the intensity is
+  scaled down so that no channel exceeds 1, which keeps the chromaticity.
+- ``chroma``: reduce chroma in Oklab at constant lightness and hue, by
+  bisection, until every channel is inside; the achromatic colour of the same
+  lightness is always inside, so the search always ends inside.
+
+Oklab: B. Ottosson (2020), "A perceptual color space for image processing",
+https://bottosson.github.io/posts/oklab/ (matrices M1, M2 of that post). The
+display's XYZ is adapted from its own white to D65 (Bradford) first, so the
+display white is Oklab-neutral.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from engine.errors import SettingsError
+
+GAMUT_METHODS = ("clip", "scale", "chroma")
+
+#: Ottosson (2020) Oklab, XYZ (D65) -> LMS.
+OKLAB_M1 = np.array([[0.8189330101, 0.3618667424, -0.1288597137],
+                     [0.0329845436, 0.9293118715, 0.0361456387],
+                     [0.0482003018, 0.2643662691, 0.6338517070]])
+#: Ottosson (2020) Oklab, LMS' -> Lab.
+OKLAB_M2 = np.array([[0.2104542553, 0.7936177850, -0.0040720468],
+                     [1.9779984951, -2.4285922050, 0.4505937099],
+                     [0.0259040371, 0.7827717662, -0.8086757660]])
+OKLAB_M1_INV = np.linalg.inv(OKLAB_M1)
+OKLAB_M2_INV = np.linalg.inv(OKLAB_M2)
+
+#: Tolerance on the cube faces for "in gamut" (numerical noise, not colour).
+GAMUT_TOLERANCE = 1e-9
+_BISECTION_STEPS = 24  # halves the interval to 6e-8 of the chroma
+
+
+def check_gamut_method(name: str) -> str:
+    """Canonical gamut method or :class:`SettingsError` (accepted: clip, scale, chroma)."""
+    key = str(name).strip().lower()
+    if key not in GAMUT_METHODS:
+        raise SettingsError(f"unknown gamut method {name!r}; accepted: {', '.join(GAMUT_METHODS)}")
+    return key
+
+
+def XYZ_to_Oklab(XYZ) -> np.ndarray:
+    """CIE XYZ (D65, Y = 1 for white) to Oklab (Ottosson 2020)."""
+    lms = np.asarray(XYZ, dtype=np.float64) @ OKLAB_M1.T
+    return np.cbrt(lms) @ OKLAB_M2.T
+
+
+def Oklab_to_XYZ(Lab) -> np.ndarray:
+    """Oklab to CIE XYZ (D65), inverse of :func:`XYZ_to_Oklab` (Ottosson 2020)."""
+    lms = (np.asarray(Lab, dtype=np.float64) @ OKLAB_M2_INV.T) ** 3
+    return lms @ OKLAB_M1_INV.T
+
+
+def in_gamut(rgb, upper: bool) -> np.ndarray:
+    """Whether each RGB triple lies in the cube (no channel < 0, and none > 1 if ``upper``)."""
+    rgb = np.asarray(rgb)
+    ok = rgb.min(axis=-1) >= -GAMUT_TOLERANCE
+    if upper:
+        ok &= rgb.max(axis=-1) <= 1.0 + GAMUT_TOLERANCE
+    return ok
+
+
+def map_to_gamut(rgb, method: str, rgb_to_oklab_xyz: np.ndarray, luminance_row: np.ndarray,
+                 upper: bool) -> np.ndarray:
+    """Bring display-linear RGB inside the cube by the named method.
+
+    Parameters
+    ----------
+    rgb : array_like
+        (..., 3) display-linear RGB; the display white is (1, 1, 1).
+    method : str
+        ``clip``, ``scale`` or ``chroma`` (module docstring).
+    rgb_to_oklab_xyz : numpy.ndarray
+        (3, 3) display RGB -> XYZ adapted to D65, for the Oklab step.
+    luminance_row : numpy.ndarray
+        (3,) the Y row of the display's RGB -> XYZ matrix (sums to 1).
+    upper : bool
+        Also enforce channels <= 1 (otherwise only >= 0; the caller
+        renormalises the brightest channel to 1 afterwards).
+
+    Returns
+    -------
+    numpy.ndarray
+        (..., 3) RGB with every channel in [0, 1] (or [0, inf) if not ``upper``).
+
+    References
+    ----------
+    Ottosson (2020) for Oklab; Morovic (2008), *Color Gamut Mapping*, Wiley,
+    ch. 10 (clipping toward the lightness axis), for the approach.
+    """
+    method = check_gamut_method(method)
+    rgb = np.asarray(rgb, dtype=np.float64)
+    if method == "clip":
+        return np.clip(rgb, 0.0, 1.0 if upper else np.inf)
+    if method == "scale":
+        lum = rgb @ luminance_row
+        low = np.minimum(rgb.min(axis=-1), 0.0)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            t = np.where(low < 0.0, -low / (lum - low), 0.0)
+        out = (1.0 - t)[..., None] * rgb + (t * lum)[..., None]
+        out = np.maximum(out, 0.0)
+        if upper:
+            top = out.max(axis=-1, keepdims=True)
+            out = np.where(top > 1.0, out / np.maximum(top, 1e-300), out)
+        return out
+    # chroma: bisection on the chroma factor s in [0, 1] at constant L and hue
+    xyz_from_rgb = rgb_to_oklab_xyz
+    rgb_from_xyz = np.linalg.inv(xyz_from_rgb)
+    lab = XYZ_to_Oklab(rgb @ xyz_from_rgb.T)
+    inside_now = in_gamut(rgb, upper)
+    lo = np.zeros(rgb.shape[:-1])
+    hi = np.ones(rgb.shape[:-1])
+    for _ in range(_BISECTION_STEPS):
+        mid = 0.5 * (lo + hi)
+        trial = Oklab_to_XYZ(lab * np.stack([np.ones_like(mid), mid, mid], axis=-1))
+        ok = in_gamut(trial @ rgb_from_xyz.T, upper)
+        lo = np.where(ok, mid, lo)
+        hi = np.where(ok, hi, mid)
+    s = np.where(inside_now, 1.0, lo)
+    out = Oklab_to_XYZ(lab * np.stack([np.ones_like(s), s, s], axis=-1)) @ rgb_from_xyz.T
+    out = np.where(inside_now[..., None], rgb, out)
+    return np.clip(out, 0.0, 1.0 if upper else np.inf)

@@ -1,0 +1,163 @@
+"""The one settings object, validated and immutable, and its TOML form.
+
+Every output path receives a :class:`Settings`; nothing else carries colour
+options. TOML layout (``starkiln_settings`` is the format version)::
+
+    starkiln_settings = 1
+    observer = "cie1931"
+    scene_white = "D65"
+    adaptation = "bradford"
+    gamut = "chroma"
+    normalisation = "max-channel"
+
+    [display]            # or: display = "srgb"  (a preset name)
+    name = "srgb"
+    red_xy = [0.64, 0.33]
+    green_xy = [0.3, 0.6]
+    blue_xy = [0.15, 0.06]
+    white_xy = [0.3127, 0.329]
+    transfer = "srgb"
+    gamma = 2.2
+    peak_luminance_cd_m2 = 80.0
+
+Reading uses the standard library's ``tomllib`` (TOML 1.0); writing uses
+``tomli-w``. Files are written atomically.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+from dataclasses import dataclass, field
+from pathlib import Path
+
+from engine.displays import PRESETS, Display, get_display
+from engine.errors import SettingsError
+from engine.gamut import check_gamut_method
+from engine.observers import check_observer
+from engine.whites import check_adaptation, normalise_white_spec
+
+SETTINGS_FORMAT = 1
+NORMALISATIONS = ("max-channel", "luminance")
+
+
+@dataclass(frozen=True)
+class Settings:
+    """Validated, immutable colour settings (hashable; use :meth:`replace` to change).
+
+    Attributes
+    ----------
+    observer : ``cie1931`` (default) or ``cie1964`` (CIE 15:2004).
+    scene_white : what should look neutral; see :mod:`engine.whites`.
+    adaptation : ``bradford`` (default), ``cat16``, ``cat02``, ``von-kries``, ``none``.
+    display : a :class:`engine.displays.Display` (preset or custom profile).
+    gamut : ``clip``, ``scale`` or ``chroma`` (default); see :mod:`engine.gamut`.
+    normalisation : ``max-channel`` (default: the largest linear channel is 1)
+        or ``luminance`` (every star at relative luminance ``luminance_Y``).
+    luminance_Y : relative luminance used by ``luminance`` normalisation, (0, 1].
+    """
+
+    observer: str = "cie1931"
+    scene_white: str = "D65"
+    adaptation: str = "bradford"
+    display: Display = field(default_factory=lambda: PRESETS["srgb"])
+    gamut: str = "chroma"
+    normalisation: str = "max-channel"
+    luminance_Y: float = 0.5
+
+    def __post_init__(self):
+        object.__setattr__(self, "observer", check_observer(self.observer))
+        object.__setattr__(self, "scene_white", normalise_white_spec(self.scene_white))
+        object.__setattr__(self, "adaptation", check_adaptation(self.adaptation))
+        object.__setattr__(self, "display", get_display(self.display))
+        object.__setattr__(self, "gamut", check_gamut_method(self.gamut))
+        norm = str(self.normalisation).strip().lower()
+        if norm not in NORMALISATIONS:
+            raise SettingsError(f"unknown normalisation {self.normalisation!r}; accepted: "
+                                f"{', '.join(NORMALISATIONS)}")
+        object.__setattr__(self, "normalisation", norm)
+        try:
+            y = float(self.luminance_Y)
+        except (TypeError, ValueError):
+            raise SettingsError(f"luminance_Y {self.luminance_Y!r} is not a number; accepted: "
+                                "0 < luminance_Y <= 1") from None
+        if not 0.0 < y <= 1.0:
+            raise SettingsError(f"luminance_Y {y:g} is outside the accepted range 0 < Y <= 1")
+        object.__setattr__(self, "luminance_Y", y)
+
+    def replace(self, **changes) -> "Settings":
+        """A copy with some fields changed, validated again."""
+        return dataclasses.replace(self, **changes)
+
+    def to_dict(self) -> dict:
+        """Plain-data form (the TOML and JSON-metadata form), with the display in full."""
+        d = {"starkiln_settings": SETTINGS_FORMAT}
+        for f in dataclasses.fields(self):
+            v = getattr(self, f.name)
+            if isinstance(v, Display):
+                v = {k: (list(x) if isinstance(x, tuple) else x)
+                     for k, x in dataclasses.asdict(v).items()}
+            d[f.name] = v
+        return d
+
+    @classmethod
+    def from_dict(cls, data: dict, source: str = "settings") -> "Settings":
+        """Build validated settings from the plain-data form; errors name ``source`` and the key."""
+        if not isinstance(data, dict):
+            raise SettingsError(f"{source}: settings must be a table of keys")
+        version = data.get("starkiln_settings", SETTINGS_FORMAT)
+        if version != SETTINGS_FORMAT:
+            raise SettingsError(f"{source}: starkiln_settings = {version!r} is not supported; "
+                                f"accepted: {SETTINGS_FORMAT}")
+        names = {f.name for f in dataclasses.fields(cls)}
+        kwargs = {}
+        for key, value in data.items():
+            if key == "starkiln_settings":
+                continue
+            if key not in names:
+                raise SettingsError(f"{source}: unknown key {key!r}; accepted: "
+                                    f"{', '.join(sorted(names))}")
+            if key == "display" and isinstance(value, dict):
+                try:
+                    value = Display(**{k: (tuple(v) if isinstance(v, list) else v)
+                                       for k, v in value.items()})
+                except TypeError as exc:
+                    raise SettingsError(f"{source}: key 'display': {exc}") from None
+                except SettingsError as exc:
+                    raise SettingsError(f"{source}: key 'display': {exc}") from None
+            kwargs[key] = value
+        try:
+            return cls(**kwargs)
+        except SettingsError as exc:
+            bad = next((k for k in kwargs if k in str(exc) or repr(kwargs[k]) in str(exc)), None)
+            where = f"key {bad!r}: " if bad else ""
+            raise SettingsError(f"{source}: {where}{exc}") from None
+
+
+def load_settings(path) -> Settings:
+    """Read settings from a TOML file (format in the module docstring; TOML 1.0)."""
+    import tomllib
+
+    path = Path(path)
+    try:
+        raw = path.read_bytes()
+    except OSError as exc:
+        raise SettingsError(f"{path}: cannot read settings file ({exc.strerror})") from None
+    try:
+        data = tomllib.loads(raw.decode("utf-8"))
+    except (tomllib.TOMLDecodeError, UnicodeDecodeError) as exc:
+        raise SettingsError(f"{path}: not a valid TOML settings file ({exc})") from None
+    return Settings.from_dict(data, str(path))
+
+
+def settings_to_toml(settings: Settings) -> str:
+    """The TOML text of a settings object (``tomli-w``)."""
+    import tomli_w
+
+    return tomli_w.dumps(settings.to_dict())
+
+
+def save_settings(settings: Settings, path, overwrite: bool = True) -> None:
+    """Write settings as TOML, atomically (temporary file in the same folder, then rename)."""
+    from engine.atomic import write_atomic
+
+    write_atomic(path, settings_to_toml(settings).encode("utf-8"), overwrite=overwrite)

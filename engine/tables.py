@@ -1,0 +1,171 @@
+"""Tabulated CIE functions, taken once from colour-science and cached.
+
+The hot path (command line, window, exports) must not pay for ``import colour``
+(about 0.7-1.4 s here). The tables it needs are therefore read from
+colour-science on first use, resampled to the engine's wavelength grid
+(360-830 nm at 1 nm) and cached as a ``.npz`` file keyed by the installed
+colour-science version, so that a new colour-science release rebuilds them.
+The cache lives in ``$STARKILN_CACHE_DIR``, else ``$XDG_CACHE_HOME/starkiln``,
+else ``~/.cache/starkiln``. If no cache folder is writable the tables are kept
+in memory for the process only.
+
+Why a cache rather than a build step at install time: the tables then follow
+whatever colour-science the user has (a wheel build would freeze them to the
+version present at build time), and an editable install needs no build hook.
+
+Sources of the tables (as published by CIE and shipped by colour-science):
+
+- CIE 1931 2 degree and CIE 1964 10 degree colour-matching functions,
+  CIE 15:2004 Tables T.4 and T.5 (CIE 018:2019 at 1 nm).
+- CIE 1924 photopic luminous efficiency V(lambda) and CIE 1951 scotopic
+  luminous efficiency V'(lambda), ISO 23539:2005 / CIE S 010:2004. V' is
+  tabulated at 380-780 nm; outside it is taken as 0 (its values at the ends
+  are below 6e-4 of the peak).
+- The CIE daylight basis functions S0, S1, S2, CIE 15:2004 Table T.2 (5 nm),
+  linearly interpolated to 1 nm as CIE 15:2004 section 3.1 recommends.
+"""
+
+from __future__ import annotations
+
+import os
+import tempfile
+from functools import lru_cache
+from pathlib import Path
+
+import numpy as np
+
+from engine.errors import StarkilnError
+
+#: Default wavelength grid of the engine (CIE 15:2004 recommends 360-830 nm).
+WAVELENGTH_MIN_NM = 360.0
+WAVELENGTH_MAX_NM = 830.0
+WAVELENGTH_STEP_NM = 1.0
+
+TABLE_FORMAT = 1  # bump when the content or layout of the cached file changes
+
+_KEYS = ("wavelength_nm", "cmf_cie1931", "cmf_cie1964", "v_photopic", "v_scotopic",
+         "daylight_s0", "daylight_s1", "daylight_s2")
+
+
+def wavelengths_nm() -> np.ndarray:
+    """The engine's default wavelength grid, 360-830 nm at 1 nm (CIE 15:2004 section 7.1)."""
+    return np.arange(WAVELENGTH_MIN_NM, WAVELENGTH_MAX_NM + 0.5 * WAVELENGTH_STEP_NM,
+                     WAVELENGTH_STEP_NM)
+
+
+def _colour_version() -> str:
+    from importlib import metadata
+
+    try:
+        return metadata.version("colour-science")
+    except metadata.PackageNotFoundError as exc:  # pragma: no cover - install problem
+        raise StarkilnError("colour-science is not installed; install it with "
+                            "'pip install colour-science'") from exc
+
+
+def cache_dir() -> Path:
+    """Folder of the table cache (see the module docstring for the order searched)."""
+    env = os.environ.get("STARKILN_CACHE_DIR")
+    if env:
+        return Path(env)
+    xdg = os.environ.get("XDG_CACHE_HOME")
+    base = Path(xdg) if xdg else Path.home() / ".cache"
+    return base / "starkiln"
+
+
+def cache_path() -> Path:
+    """Path of the cached table file for the installed colour-science version."""
+    return cache_dir() / f"cie-tables-colour-{_colour_version()}-f{TABLE_FORMAT}.npz"
+
+
+def build_tables() -> dict[str, np.ndarray]:
+    """Read the CIE tables from colour-science and resample them to :func:`wavelengths_nm`.
+
+    Returns
+    -------
+    dict
+        ``wavelength_nm`` (N,), ``cmf_cie1931`` and ``cmf_cie1964`` (N, 3),
+        ``v_photopic``, ``v_scotopic``, ``daylight_s0/s1/s2`` (N,).
+
+    References
+    ----------
+    CIE 15:2004 Colorimetry, 3rd edition, Tables T.2, T.4, T.5; CIE S 010:2004.
+    """
+    import warnings
+
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        from colour.colorimetry import (
+            MSDS_CMFS,
+            SDS_BASIS_FUNCTIONS_CIE_ILLUMINANT_D_SERIES,
+            SDS_LEFS,
+        )
+
+    wl = wavelengths_nm()
+
+    def on_grid(domain, values):
+        values = np.asarray(values, dtype=np.float64)
+        domain = np.asarray(domain, dtype=np.float64)
+        if values.ndim == 1:
+            return np.interp(wl, domain, values, left=0.0, right=0.0)
+        return np.stack([np.interp(wl, domain, values[:, i], left=0.0, right=0.0)
+                         for i in range(values.shape[1])], axis=-1)
+
+    out = {"wavelength_nm": wl}
+    for key, name in (("cmf_cie1931", "CIE 1931 2 Degree Standard Observer"),
+                      ("cmf_cie1964", "CIE 1964 10 Degree Standard Observer")):
+        m = MSDS_CMFS[name]
+        out[key] = on_grid(m.wavelengths, m.values)
+    for key, name in (("v_photopic", "CIE 1924 Photopic Standard Observer"),
+                      ("v_scotopic", "CIE 1951 Scotopic Standard Observer")):
+        s = SDS_LEFS[name]
+        out[key] = on_grid(s.wavelengths, s.values)
+    for i in range(3):
+        s = SDS_BASIS_FUNCTIONS_CIE_ILLUMINANT_D_SERIES[f"S{i}"]
+        out[f"daylight_s{i}"] = on_grid(s.wavelengths, s.values)
+    return out
+
+
+def _write_atomic_npz(path: Path, arrays: dict[str, np.ndarray]) -> None:
+    path.parent.mkdir(parents=True, exist_ok=True)
+    fd, tmp = tempfile.mkstemp(dir=path.parent, prefix=".tables-", suffix=".npz")
+    try:
+        with os.fdopen(fd, "wb") as fh:
+            np.savez(fh, **arrays)
+        os.replace(tmp, path)
+    except BaseException:
+        try:
+            os.unlink(tmp)
+        except OSError:
+            pass
+        raise
+
+
+@lru_cache(maxsize=1)
+def tables() -> dict[str, np.ndarray]:
+    """The CIE tables on the engine grid, from the cache or built (and cached) once.
+
+    References
+    ----------
+    See :func:`build_tables`.
+    """
+    path = cache_path()
+    try:
+        with np.load(path) as data:
+            loaded = {k: data[k] for k in _KEYS}
+        if loaded["wavelength_nm"].shape == wavelengths_nm().shape:
+            return _frozen(loaded)
+    except (OSError, KeyError, ValueError):
+        pass
+    built = build_tables()
+    try:
+        _write_atomic_npz(path, built)
+    except OSError:
+        pass  # read-only home: keep the tables in memory for this process
+    return _frozen(built)
+
+
+def _frozen(arrays: dict[str, np.ndarray]) -> dict[str, np.ndarray]:
+    for a in arrays.values():
+        a.setflags(write=False)
+    return arrays

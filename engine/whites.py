@@ -1,0 +1,261 @@
+"""Whites and chromatic adaptation.
+
+The *scene white* is the stimulus that should look neutral on the display; the
+*display white* is the display's own white (its RGB = 1, 1, 1). The engine
+adapts every star's tristimulus values from the scene white to the display
+white with a von Kries-type transform in a cone-like space.
+
+Scene white specifications (strings, case-insensitive):
+
+- ``D50``, ``D55``, ``D65``, ``D75``: CIE daylight illuminants, computed from
+  the daylight basis functions at the nominal CCT times 1.4388/1.4380, which
+  is how CIE defines them (CIE 15:2004 section 3.1 and note 2 of Table T.1).
+- ``E``: the equal-energy stimulus (CIE 15:2004 section 3.1), x = y = 1/3.
+- ``DCI``: the digital-cinema projector white x = 0.314, y = 0.351
+  (SMPTE RP 431-2:2011).
+- ``daylight:<CCT>``: a point of the CIE daylight locus, 4000-25 000 K
+  (CIE 15:2004 eq. 3.3-3.5).
+- ``blackbody:<K>``: a Planckian radiator at that temperature (500-100 000 K).
+- ``xy:<x>,<y>``: a chromaticity, which must lie inside the spectral locus.
+
+Spectral whites are integrated with the chosen observer; ``DCI`` and ``xy:``
+are chromaticities in that observer's diagram.
+
+Adaptation transforms (the 3 x 3 "sharpened" cone matrices):
+
+- ``bradford`` (default): K. M. Lam (1985), as given by Lindbloom and in
+  CIE 159:2004 Annex; the linear form without the blue non-linearity.
+- ``cat02``: CIE 159:2004 (CIECAM02), M_CAT02.
+- ``cat16``: C. Li et al. (2017), Color Res. Appl. 42(6), 703-718, M_16.
+- ``von-kries``: Hunt-Pointer-Estevez cone space normalised to D65
+  (Fairchild, Color Appearance Models, 3rd ed., 2013, eq. 9.x).
+- ``none``: no adaptation (XYZ scaling is not applied either).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from functools import lru_cache
+
+import numpy as np
+
+from engine.errors import SettingsError
+from engine.observers import XYZ_to_xy, check_observer, cmfs, inside_spectral_locus, xy_to_XYZ
+from engine.tables import tables
+
+#: Sharpened cone matrices, XYZ -> LMS. Sources in the module docstring.
+CAT_MATRICES = {
+    "bradford": np.array([[0.8951, 0.2664, -0.1614],
+                          [-0.7502, 1.7135, 0.0367],
+                          [0.0389, -0.0685, 1.0296]]),
+    "cat02": np.array([[0.7328, 0.4296, -0.1624],
+                       [-0.7036, 1.6975, 0.0061],
+                       [0.0030, 0.0136, 0.9834]]),
+    "cat16": np.array([[0.401288, 0.650173, -0.051461],
+                       [-0.250268, 1.204414, 0.045854],
+                       [-0.002079, 0.048952, 0.953127]]),
+    "von-kries": np.array([[0.40024, 0.70760, -0.08081],
+                           [-0.22630, 1.16532, 0.04570],
+                           [0.00000, 0.00000, 0.91822]]),
+}
+ADAPTATIONS = ("bradford", "cat16", "cat02", "von-kries", "none")
+
+#: Nominal CCTs of the CIE D illuminants (CIE 15:2004 Table T.1).
+_D_NOMINAL_K = {"D50": 5000.0, "D55": 5500.0, "D65": 6500.0, "D75": 7500.0}
+#: c2 correction of the D-illuminant CCTs: 1.4388 / 1.4380 (CIE 15:2004 Table T.1, note).
+_C2_RATIO = 1.4388 / 1.4380
+#: DCI projector white (SMPTE RP 431-2:2011, section 7.8).
+DCI_WHITE_XY = (0.314, 0.351)
+WHITE_PRESETS = ("D50", "D55", "D65", "D75", "E", "DCI")
+DAYLIGHT_RANGE_K = (4000.0, 25000.0)
+
+
+def check_adaptation(name: str) -> str:
+    """Canonical adaptation name or :class:`SettingsError` (accepted: see ``ADAPTATIONS``)."""
+    key = str(name).strip().lower().replace("_", "-").replace(" ", "-")
+    key = {"vonkries": "von-kries", "von-kries-hpe": "von-kries", "ciecat02": "cat02",
+           "ciecat16": "cat16"}.get(key, key)
+    if key not in ADAPTATIONS:
+        raise SettingsError(f"unknown adaptation {name!r}; accepted: {', '.join(ADAPTATIONS)}")
+    return key
+
+
+def daylight_xy(cct_K) -> np.ndarray:
+    """Chromaticity of CIE daylight at a correlated colour temperature.
+
+    Parameters
+    ----------
+    cct_K : array_like
+        CCT in kelvin, 4000-25 000 K.
+
+    Returns
+    -------
+    numpy.ndarray
+        (..., 2) x_D, y_D from CIE 15:2004 equations 3.3 (4000-7000 K),
+        3.4 (7000-25 000 K) and 3.5 (y_D = -3 x_D^2 + 2.87 x_D - 0.275).
+
+    References
+    ----------
+    CIE 15:2004 Colorimetry, section 3.1.
+
+    Examples
+    --------
+    >>> [round(float(v), 4) for v in daylight_xy(6504.0)]
+    [0.3127, 0.3291]
+    """
+    t = np.asarray(cct_K, dtype=np.float64)
+    low = -4.6070e9 / t**3 + 2.9678e6 / t**2 + 0.09911e3 / t + 0.244063
+    high = -2.0064e9 / t**3 + 1.9018e6 / t**2 + 0.24748e3 / t + 0.237040
+    x = np.where(t <= 7000.0, low, high)
+    y = -3.000 * x**2 + 2.870 * x - 0.275
+    return np.stack([x, y], axis=-1)
+
+
+def daylight_spectrum(cct_K: float) -> np.ndarray:
+    """Relative spectral power of CIE daylight on the engine grid (CIE 15:2004 eq. 3.6-3.7).
+
+    M1 and M2 are rounded to three decimals, as CIE 15:2004 section 3.1 directs.
+    """
+    x, y = daylight_xy(cct_K)
+    m = 0.0241 + 0.2562 * x - 0.7341 * y
+    m1 = round((-1.3515 - 1.7703 * x + 5.9114 * y) / m, 3)
+    m2 = round((0.0300 - 31.4424 * x + 30.0717 * y) / m, 3)
+    tab = tables()
+    return tab["daylight_s0"] + m1 * tab["daylight_s1"] + m2 * tab["daylight_s2"]
+
+
+@dataclass(frozen=True)
+class White:
+    """A resolved white: its specification, chromaticity and tristimulus values (Y = 1)."""
+
+    spec: str
+    xy: tuple[float, float]
+
+    @property
+    def XYZ(self) -> np.ndarray:
+        """Tristimulus values with Y = 1 (CIE 15:2004 eq. 7.3)."""
+        return xy_to_XYZ(np.array(self.xy))
+
+
+def _number(text: str, what: str, spec: str) -> float:
+    try:
+        value = float(text)
+    except ValueError:
+        raise SettingsError(f"white {spec!r}: {what} {text!r} is not a number") from None
+    if not np.isfinite(value):
+        raise SettingsError(f"white {spec!r}: {what} must be finite")
+    return value
+
+
+def normalise_white_spec(spec: str) -> str:
+    """Canonical spelling of a white specification, validated (see the module docstring)."""
+    resolve_white(spec, "cie1931")
+    text = str(spec).strip()
+    head, _, rest = text.partition(":")
+    if not rest:
+        return head.upper()
+    return f"{head.lower()}:{rest.replace(' ', '')}"
+
+
+@lru_cache(maxsize=256)
+def resolve_white(spec: str, observer: str = "cie1931") -> White:
+    """Resolve a scene-white specification to a chromaticity for an observer.
+
+    Parameters
+    ----------
+    spec : str
+        A preset (``D50 D55 D65 D75 E DCI``), ``daylight:<CCT>``,
+        ``blackbody:<K>`` or ``xy:<x>,<y>``.
+    observer : str
+        ``cie1931`` or ``cie1964``; spectral whites are integrated with it.
+
+    Returns
+    -------
+    White
+
+    Raises
+    ------
+    SettingsError
+        Unknown preset, number out of range, or xy outside the spectral locus.
+
+    References
+    ----------
+    CIE 15:2004 sections 3.1 and 7.3; SMPTE RP 431-2:2011 (DCI white).
+    """
+    from engine.spectrum import planck_radiance  # local: spectrum imports nothing of ours
+
+    observer = check_observer(observer)
+    text = str(spec).strip()
+    head, sep, rest = text.partition(":")
+    key = head.strip().upper()
+    accepted = ("accepted: D50, D55, D65, D75, E, DCI, daylight:<4000-25000 K>, "
+                "blackbody:<500-100000 K>, xy:<x>,<y>")
+    if not sep:
+        if key in _D_NOMINAL_K:
+            return White(key, _spectrum_xy(daylight_spectrum(_D_NOMINAL_K[key] * _C2_RATIO),
+                                           observer))
+        if key == "E":
+            return White("E", (1.0 / 3.0, 1.0 / 3.0))
+        if key == "DCI":
+            return White("DCI", DCI_WHITE_XY)
+        raise SettingsError(f"unknown white {text!r}; {accepted}")
+    kind = head.strip().lower()
+    if kind == "daylight":
+        cct = _number(rest, "CCT", text)
+        lo, hi = DAYLIGHT_RANGE_K
+        if not lo <= cct <= hi:
+            raise SettingsError(f"white {text!r}: daylight CCT {cct:g} K is outside {lo:g}-{hi:g} K")
+        return White(f"daylight:{cct:g}", _spectrum_xy(daylight_spectrum(cct), observer))
+    if kind == "blackbody":
+        t = _number(rest, "temperature", text)
+        if not 500.0 <= t <= 100000.0:
+            raise SettingsError(f"white {text!r}: blackbody temperature {t:g} K is outside "
+                                "500-100000 K")
+        return White(f"blackbody:{t:g}", _spectrum_xy(planck_radiance(t), observer))
+    if kind == "xy":
+        parts = rest.split(",")
+        if len(parts) != 2:
+            raise SettingsError(f"white {text!r}: expected xy:<x>,<y>, e.g. xy:0.3127,0.3290")
+        xy = (_number(parts[0], "x", text), _number(parts[1], "y", text))
+        if not inside_spectral_locus(np.array(xy), observer):
+            raise SettingsError(f"white {text!r}: chromaticity ({xy[0]:g}, {xy[1]:g}) lies outside "
+                                "the spectral locus; accepted: a point inside it")
+        return White(f"xy:{xy[0]:g},{xy[1]:g}", xy)
+    raise SettingsError(f"unknown white {text!r}; {accepted}")
+
+
+def _spectrum_xy(spectrum: np.ndarray, observer: str) -> tuple[float, float]:
+    xy = XYZ_to_xy(spectrum @ cmfs(observer))
+    return (float(xy[0]), float(xy[1]))
+
+
+def adaptation_matrix(source_XYZ, target_XYZ, method: str = "bradford") -> np.ndarray:
+    """3 x 3 matrix adapting tristimulus values from one white to another.
+
+    ``M = A^-1 diag(A target / A source) A`` with ``A`` the method's cone
+    matrix (von Kries 1902 scaling in a sharpened space). ``none`` returns
+    the identity.
+
+    Parameters
+    ----------
+    source_XYZ, target_XYZ : array_like
+        Tristimulus values of the source (scene) and target (display) whites.
+    method : str
+        One of ``bradford``, ``cat16``, ``cat02``, ``von-kries``, ``none``.
+
+    Returns
+    -------
+    numpy.ndarray
+        (3, 3), to be applied as ``XYZ_target = M @ XYZ_source``.
+
+    References
+    ----------
+    Lam (1985); CIE 159:2004; Li et al. (2017); Fairchild (2013) ch. 9.
+    """
+    method = check_adaptation(method)
+    if method == "none":
+        return np.eye(3)
+    a = CAT_MATRICES[method]
+    gain = (a @ np.asarray(target_XYZ, dtype=np.float64)) / (a @ np.asarray(source_XYZ,
+                                                                              dtype=np.float64))
+    return np.linalg.inv(a) @ np.diag(gain) @ a
