@@ -45,6 +45,25 @@ def _add_colour_options(p: argparse.ArgumentParser) -> None:
     g.add_argument("--observer", metavar="NAME", help="cie1931 (default) or cie1964")
     g.add_argument("--normalisation", "--normalization", dest="normalisation", metavar="MODE",
                    help="max-channel (default) or luminance")
+    v = p.add_argument_group("night vision (applies when magnitudes are given)")
+    v.add_argument("--vision", metavar="MODEL",
+                   help="mesopic (default: CIE 191 cone weight) or none (full colour, camera look)")
+    v.add_argument("--aperture-mm", type=_number, metavar="D",
+                   help="instrument aperture in mm (default: naked eye)")
+    v.add_argument("--transmission", type=_number, metavar="T",
+                   help="instrument transmission, 0 < T <= 1 (default 1)")
+    v.add_argument("--pupil-mm", type=_number, metavar="d", help="dark-adapted pupil, mm (default 7)")
+    v.add_argument("--blur-spot-arcmin", type=_number, metavar="A",
+                   help="diameter of the effective star image, arcmin (default 6)")
+    v.add_argument("--intensity-curve", metavar="CURVE", help="asinh (default), log or linear")
+    v.add_argument("--magnitude-bright", type=_number, metavar="M",
+                   help="magnitude shown at intensity 1 (default -1.5)")
+    v.add_argument("--magnitude-faint", type=_number, metavar="M",
+                   help="magnitude shown at intensity 0 (default 6.5)")
+    v.add_argument("--night-tint", type=_number, metavar="S",
+                   help="0-1, cool tint of faint stars (a rendering convention; default 0)")
+    v.add_argument("--compensate", action="store_true", default=None,
+                   help="pre-boost chroma for a dark dome at the display's peak luminance")
 
 
 def settings_from_args(args) -> "Settings":
@@ -55,7 +74,14 @@ def settings_from_args(args) -> "Settings":
     changes = {}
     for opt, key in (("white", "scene_white"), ("display", "display"),
                      ("adaptation", "adaptation"), ("gamut", "gamut"),
-                     ("observer", "observer"), ("normalisation", "normalisation")):
+                     ("observer", "observer"), ("normalisation", "normalisation"),
+                     ("vision", "vision"), ("aperture_mm", "aperture_mm"),
+                     ("transmission", "transmission"), ("pupil_mm", "pupil_mm"),
+                     ("blur_spot_arcmin", "blur_spot_arcmin"),
+                     ("intensity_curve", "intensity_curve"),
+                     ("magnitude_bright", "magnitude_bright"),
+                     ("magnitude_faint", "magnitude_faint"), ("night_tint", "night_tint"),
+                     ("compensate", "compensate")):
         value = getattr(args, opt, None)
         if value is not None:
             changes[key] = value
@@ -66,7 +92,12 @@ def build_parser() -> argparse.ArgumentParser:
     """The full argument parser (also used by the docs)."""
     p = _Parser(prog="starkiln", description="Star colours for domes and screens.")
     p.add_argument("--version", action="version", version="starkiln 0.1.0")
-    p.add_argument("--screenshot", metavar="OUT.png", help=argparse.SUPPRESS)
+    p.add_argument("--screenshot", metavar="OUT.png",
+                   help="with no command: render the window offscreen at 1280 x 800 into OUT.png")
+    p.add_argument("--settings", dest="window_settings", metavar="FILE.toml",
+                   help="with no command: open the window with these settings")
+    p.add_argument("--temperature", dest="window_temperature", type=_number, metavar="K",
+                   help="with no command: open the window at this temperature")
     sub = p.add_subparsers(dest="command", parser_class=_Parser)
 
     c = sub.add_parser("colour", aliases=["color"], help="the display colour of one star",
@@ -75,6 +106,8 @@ def build_parser() -> argparse.ArgumentParser:
     src.add_argument("--temperature", type=_number, metavar="K", help="effective temperature, K")
     src.add_argument("--bv", type=_number, metavar="B-V", help="Johnson B-V colour index")
     src.add_argument("--spectral-class", metavar="CLASS", help="main-sequence class, e.g. G2V")
+    c.add_argument("--magnitude", type=_number, metavar="M",
+                   help="apparent visual magnitude: turns on the night-vision model")
     c.add_argument("--json", action="store_true", help="print one JSON object")
     _add_colour_options(c)
 
@@ -118,7 +151,7 @@ def cmd_colour(args, out) -> int:
 
     settings = settings_from_args(args)
     temperature = _temperature_from_args(args)
-    r = render(settings, temperature)
+    r = render(settings, temperature, args.magnitude)
     record = {
         "temperature_K": float(r.temperature_K),
         "xy": [round(float(v), 6) for v in r.xy],
@@ -130,6 +163,36 @@ def cmd_colour(args, out) -> int:
                      "adaptation": settings.adaptation, "display": settings.display.name,
                      "gamut": settings.gamut, "normalisation": settings.normalisation},
     }
+    night = []
+    if args.magnitude is not None:
+        record.update({
+            "magnitude": float(r.magnitude),
+            "photopic_luminance_cd_m2": float(r.photopic_luminance_cd_m2),
+            "scotopic_ratio": round(float(r.scotopic_ratio), 6),
+            "cone_weight": round(float(r.cone_weight), 6),
+            "saturation": round(float(r.saturation), 6),
+            "intensity": round(float(r.intensity), 6),
+            "rgb_dimmed_encoded": [round(float(v), 6) for v in r.rgb_dimmed_encoded],
+        })
+        if r.compensation_reached is not None:
+            record["compensation_reached"] = bool(r.compensation_reached)
+        record["settings"].update({"vision": settings.vision,
+                                   "aperture_mm": settings.aperture_mm,
+                                   "transmission": settings.transmission})
+        instrument = ("naked eye" if settings.aperture_mm is None
+                      else f"{settings.aperture_mm:g} mm aperture, transmission "
+                           f"{settings.transmission:g}")
+        night = [
+            ("magnitude", f"{record['magnitude']:g} ({instrument})"),
+            ("image luminance", f"{record['photopic_luminance_cd_m2']:.4g} cd/m2 photopic, "
+                                f"S/P {record['scotopic_ratio']:.3f}"),
+            ("cone weight", f"{record['cone_weight']:.3f} (0 rods only, 1 full colour)"),
+            ("saturation", f"{record['saturation']:.3f} of full colour ({settings.vision})"),
+            ("intensity", f"{record['intensity']:.3f}"),
+        ]
+        if r.compensation_reached is not None:
+            night.append(("dome compensation", "reached" if record["compensation_reached"]
+                          else "out of reach (clamped to the gamut)"))
     if args.json:
         out.write(json.dumps(record) + "\n")
         return 0
@@ -142,7 +205,7 @@ def cmd_colour(args, out) -> int:
         ("inside gamut", "yes" if record["in_gamut"] else f"no (mapped by {settings.gamut})"),
         ("white / display", f"{settings.scene_white} -> {settings.display.name} "
                             f"({settings.adaptation})"),
-    ]
+    ] + night
     width = max(len(k) for k, _ in rows)
     for k, v in rows:
         out.write(f"{k:<{width}}  {v}\n")

@@ -9,6 +9,17 @@ options. TOML layout (``starkiln_settings`` is the format version)::
     adaptation = "bradford"
     gamut = "chroma"
     normalisation = "max-channel"
+    luminance_Y = 0.5
+    vision = "mesopic"         # night-vision fields: see the class docstring
+    pupil_mm = 7.0
+    # aperture_mm = 250.0      # absent = naked eye
+    transmission = 1.0
+    blur_spot_arcmin = 6.0
+    intensity_curve = "asinh"
+    magnitude_bright = -1.5
+    magnitude_faint = 6.5
+    night_tint = 0.0
+    compensate = false
 
     [display]            # or: display = "srgb"  (a preset name)
     name = "srgb"
@@ -30,6 +41,8 @@ import dataclasses
 from dataclasses import dataclass, field
 from pathlib import Path
 
+import numpy as np
+
 from engine.displays import PRESETS, Display, get_display
 from engine.errors import SettingsError
 from engine.gamut import check_gamut_method
@@ -38,6 +51,21 @@ from engine.whites import check_adaptation, normalise_white_spec
 
 SETTINGS_FORMAT = 1
 NORMALISATIONS = ("max-channel", "luminance")
+VISIONS = ("mesopic", "none")
+INTENSITY_CURVES = ("asinh", "log", "linear")
+
+
+def _bounded(value, name: str, lo: float, hi: float, lo_open: bool = False) -> float:
+    """A finite float within [lo, hi] (or (lo, hi] if ``lo_open``), else a one-line SettingsError."""
+    try:
+        v = float(value)
+    except (TypeError, ValueError):
+        raise SettingsError(f"{name} {value!r} is not a number") from None
+    ok = np.isfinite(v) and (v > lo if lo_open else v >= lo) and v <= hi
+    if not ok:
+        rng = f"{lo:g} < {name} <= {hi:g}" if lo_open else f"{lo:g} <= {name} <= {hi:g}"
+        raise SettingsError(f"{name} {v:g} is outside the accepted range {rng}")
+    return v
 
 
 @dataclass(frozen=True)
@@ -54,6 +82,20 @@ class Settings:
     normalisation : ``max-channel`` (default: the largest linear channel is 1)
         or ``luminance`` (every star at relative luminance ``luminance_Y``).
     luminance_Y : relative luminance used by ``luminance`` normalisation, (0, 1].
+
+    Night vision (used only when magnitudes are rendered; see :mod:`engine.vision`):
+
+    vision : ``mesopic`` (default, CIE 191:2010 cone weight and desaturation) or
+        ``none`` (the camera look: full colour).
+    pupil_mm : dark-adapted pupil diameter, 7 mm (common practice), 1-9.
+    aperture_mm : instrument aperture in mm, or None for the naked eye.
+    transmission : instrument transmission, 0 < tau <= 1 (used with an aperture).
+    blur_spot_arcmin : diameter of the effective star image, 0.1-60 arcmin (default 6).
+    intensity_curve : ``asinh`` (default), ``log`` or ``linear``.
+    magnitude_bright, magnitude_faint : magnitudes mapped to intensity 1 and 0.
+    night_tint : 0 (neutral, default) to 1: cool tint of the colourless night percept
+        (a rendering convention, not physics).
+    compensate : pre-boost chroma for viewing on a dark dome at the display's peak luminance.
     """
 
     observer: str = "cie1931"
@@ -63,6 +105,16 @@ class Settings:
     gamut: str = "chroma"
     normalisation: str = "max-channel"
     luminance_Y: float = 0.5
+    vision: str = "mesopic"
+    pupil_mm: float = 7.0
+    aperture_mm: float | None = None
+    transmission: float = 1.0
+    blur_spot_arcmin: float = 6.0
+    intensity_curve: str = "asinh"
+    magnitude_bright: float = -1.5
+    magnitude_faint: float = 6.5
+    night_tint: float = 0.0
+    compensate: bool = False
 
     def __post_init__(self):
         object.__setattr__(self, "observer", check_observer(self.observer))
@@ -83,6 +135,37 @@ class Settings:
         if not 0.0 < y <= 1.0:
             raise SettingsError(f"luminance_Y {y:g} is outside the accepted range 0 < Y <= 1")
         object.__setattr__(self, "luminance_Y", y)
+        self._check_vision()
+
+    def _check_vision(self):
+        """Validate the night-vision fields (ranges in the class docstring)."""
+        choice = {"vision": VISIONS, "intensity_curve": INTENSITY_CURVES}
+        for name, accepted in choice.items():
+            v = str(getattr(self, name)).strip().lower()
+            if v not in accepted:
+                raise SettingsError(f"unknown {name} {getattr(self, name)!r}; accepted: "
+                                    f"{', '.join(accepted)}")
+            object.__setattr__(self, name, v)
+        set_ = object.__setattr__
+        set_(self, "pupil_mm", _bounded(self.pupil_mm, "pupil_mm", 1.0, 9.0))
+        if self.aperture_mm is not None:
+            set_(self, "aperture_mm", _bounded(self.aperture_mm, "aperture_mm", 0.0, 100000.0,
+                                               lo_open=True))
+        set_(self, "transmission", _bounded(self.transmission, "transmission", 0.0, 1.0,
+                                            lo_open=True))
+        set_(self, "blur_spot_arcmin", _bounded(self.blur_spot_arcmin, "blur_spot_arcmin",
+                                                0.1, 60.0))
+        set_(self, "magnitude_bright", _bounded(self.magnitude_bright, "magnitude_bright",
+                                                -30.0, 30.0))
+        set_(self, "magnitude_faint", _bounded(self.magnitude_faint, "magnitude_faint",
+                                               -30.0, 30.0))
+        if not self.magnitude_faint > self.magnitude_bright:
+            raise SettingsError(f"magnitude_faint {self.magnitude_faint:g} must be fainter "
+                                f"(larger) than magnitude_bright {self.magnitude_bright:g}")
+        set_(self, "night_tint", _bounded(self.night_tint, "night_tint", 0.0, 1.0))
+        if not isinstance(self.compensate, (bool, np.bool_)):
+            raise SettingsError(f"compensate {self.compensate!r} must be true or false")
+        set_(self, "compensate", bool(self.compensate))
 
     def replace(self, **changes) -> "Settings":
         """A copy with some fields changed, validated again."""
@@ -96,6 +179,8 @@ class Settings:
             if isinstance(v, Display):
                 v = {k: (list(x) if isinstance(x, tuple) else x)
                      for k, x in dataclasses.asdict(v).items()}
+            if v is None:
+                continue  # TOML has no null: an absent key means the default (None)
             d[f.name] = v
         return d
 

@@ -194,7 +194,11 @@ def planck_weighted_sums(temperature_K, weights, wavelength_nm=None) -> np.ndarr
     if inv_t.size >= 8 * _CHUNK:
         from concurrent.futures import ThreadPoolExecutor
 
-        with ThreadPoolExecutor(max_workers=2) as pool:
+        from threadpoolctl import threadpool_limits
+
+        # Two Python threads share the blocks; BLAS must not start threads of its own inside
+        # them (OpenBLAS does for the 5-column product and then the cores thrash: 4x slower).
+        with threadpool_limits(limits=1, user_api="blas"), ThreadPoolExecutor(2) as pool:
             list(pool.map(block, starts))
     else:
         for start in starts:

@@ -18,8 +18,10 @@ Scene white specifications (strings, case-insensitive):
 - ``blackbody:<K>``: a Planckian radiator at that temperature (500-100 000 K).
 - ``xy:<x>,<y>``: a chromaticity, which must lie inside the spectral locus.
 
-Spectral whites are integrated with the chosen observer; ``DCI`` and ``xy:``
-are chromaticities in that observer's diagram.
+``daylight:<CCT>`` is the locus point itself for the 2 degree observer; for
+the 10 degree observer, and for the D presets always, the daylight spectrum
+(S0 + M1 S1 + M2 S2) is integrated with the chosen observer, as CIE tabulates
+them. ``DCI`` and ``xy:`` are chromaticities in the chosen observer's diagram.
 
 Adaptation transforms (the 3 x 3 "sharpened" cone matrices):
 
@@ -205,6 +207,9 @@ def resolve_white(spec: str, observer: str = "cie1931") -> White:
         lo, hi = DAYLIGHT_RANGE_K
         if not lo <= cct <= hi:
             raise SettingsError(f"white {text!r}: daylight CCT {cct:g} K is outside {lo:g}-{hi:g} K")
+        if observer == "cie1931":  # the locus is defined in the 2 degree diagram
+            x, y = daylight_xy(cct)
+            return White(f"daylight:{cct:g}", (float(x), float(y)))
         return White(f"daylight:{cct:g}", _spectrum_xy(daylight_spectrum(cct), observer))
     if kind == "blackbody":
         t = _number(rest, "temperature", text)

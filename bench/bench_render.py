@@ -1,0 +1,118 @@
+"""Render-path benchmark: Starkiln's vectorised render against colour-science's per-sample route.
+
+Prints, in one run and side by side:
+
+1. A 1024 x 256 grid of temperatures through ``engine.render.render``:
+   (a) lookup-texture layout, 1024 temperatures repeated on 256 rows;
+   (b) 262 144 distinct temperatures (the hard case: no sharing).
+   Against the per-sample colour-science route ``sd_blackbody -> sd_to_XYZ -> XYZ_to_RGB``
+   timed on a sample and scaled to the grid. Goal: >= 500x.
+2. The night-vision model on the same grids (temperature x magnitude): the ratio of
+   night / colour-only render time. Goal: <= 2x.
+3. Cold start of ``starkiln colour --temperature 5800 --json`` against a bare
+   ``python -c "import colour"``, median of several runs. Goal: < 0.6.
+
+Usage: ``python bench/bench_render.py [--quick]``.
+"""
+
+from __future__ import annotations
+
+import argparse
+import statistics
+import subprocess
+import sys
+import time
+import warnings
+
+import numpy as np
+
+
+def best_of(fn, repeats: int) -> float:
+    """Best wall time of ``repeats`` calls (the least disturbed by other processes)."""
+    times = []
+    for _ in range(repeats):
+        t0 = time.perf_counter()
+        fn()
+        times.append(time.perf_counter() - t0)
+    return min(times)
+
+
+def colour_science_per_sample(n_samples: int) -> float:
+    """Seconds per sample of the colour-science spectral route (sRGB, D65)."""
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        import colour
+
+        shape = colour.SpectralShape(360, 830, 1)
+        cmfs = colour.MSDS_CMFS["CIE 1931 2 Degree Standard Observer"]
+        temps = np.geomspace(1000, 40000, n_samples)
+        colour.XYZ_to_RGB(colour.sd_to_XYZ(colour.sd_blackbody(5000.0, shape), cmfs), "sRGB")
+        t0 = time.perf_counter()
+        for t in temps:
+            xyz = colour.sd_to_XYZ(colour.sd_blackbody(float(t), shape), cmfs)
+            colour.XYZ_to_RGB(xyz / 100.0, "sRGB")
+        return (time.perf_counter() - t0) / n_samples
+
+
+def cold_start(cmd: list[str], runs: int) -> float:
+    """Median wall time of a fresh process."""
+    times = []
+    for _ in range(runs):
+        t0 = time.perf_counter()
+        subprocess.run(cmd, check=True, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
+        times.append(time.perf_counter() - t0)
+    return statistics.median(times)
+
+
+def main() -> None:
+    ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    ap.add_argument("--quick", action="store_true", help="fewer repeats")
+    args = ap.parse_args()
+    repeats = 3 if args.quick else 7
+
+    from engine.render import render
+    from engine.settings import Settings
+
+    settings = Settings()
+    w, h = 1024, 256
+    row = np.geomspace(1000.0, 40000.0, w)
+    lut_grid = np.broadcast_to(row, (h, w))
+    distinct = np.geomspace(1000.0, 40000.0, w * h).reshape(h, w)
+    mags_col = np.linspace(-1.0, 7.0, h)[:, None]
+    mags_distinct = np.random.default_rng(0).uniform(-1.0, 7.0, (h, w))
+    render(settings, row[:8])  # warm the tables cache and the settings chain
+
+    t_lut = best_of(lambda: render(settings, lut_grid), repeats)
+    t_distinct = best_of(lambda: render(settings, distinct), repeats)
+    t_lut_night = best_of(lambda: render(settings, row[None, :], mags_col), repeats)
+    t_distinct_night = best_of(lambda: render(settings, distinct, mags_distinct), repeats)
+    per_sample = colour_science_per_sample(100 if args.quick else 300)
+    t_ref = per_sample * w * h
+
+    print(f"grid {w} x {h} = {w * h} samples; colour-science route {per_sample * 1e3:.3f} ms/sample "
+          f"-> {t_ref:.1f} s for the grid (scaled from a sample)")
+    print(f"{'case':<44}{'starkiln s':>12}{'colour-sci s':>14}{'speed-up':>10}")
+    print(f"{'(a) texture layout, 1024 temps x 256 rows':<44}{t_lut:>12.4f}{t_ref:>14.1f}"
+          f"{t_ref / t_lut:>9.0f}x")
+    print(f"{'(b) 262144 distinct temperatures':<44}{t_distinct:>12.4f}{t_ref:>14.1f}"
+          f"{t_ref / t_distinct:>9.0f}x")
+    print()
+    print(f"{'night vision on the same grids':<44}{'colour s':>12}{'night s':>14}{'ratio':>10}")
+    print(f"{'(a) 1024 temps x 256 magnitudes':<44}{t_lut:>12.4f}{t_lut_night:>14.4f}"
+          f"{t_lut_night / t_lut:>9.2f}x")
+    print(f"{'(b) 262144 distinct (T, m) pairs':<44}{t_distinct:>12.4f}{t_distinct_night:>14.4f}"
+          f"{t_distinct_night / t_distinct:>9.2f}x")
+    print()
+    runs = 5 if args.quick else 9
+    starkiln = [sys.executable, "-m", "engine.cli", "colour", "--temperature", "5800", "--json"]
+    bare_colour = [sys.executable, "-W", "ignore", "-c", "import colour"]
+    subprocess.run(starkiln, check=True, stdout=subprocess.DEVNULL)  # make sure tables are cached
+    t_cli = cold_start(starkiln, runs)
+    t_colour = cold_start(bare_colour, runs)
+    print(f"{'cold start (median of %d)' % runs:<44}{'starkiln s':>12}{'import colour s':>16}{'ratio':>8}")
+    print(f"{'starkiln colour --temperature 5800 --json':<44}{t_cli:>12.3f}{t_colour:>16.3f}"
+          f"{t_cli / t_colour:>8.2f}")
+
+
+if __name__ == "__main__":
+    main()

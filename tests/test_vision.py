@@ -1,0 +1,304 @@
+"""Night-vision model: CIE 191:2010 mesopic weighting, photometry and the behaviour artists expect.
+
+Sources are named beside each check.
+"""
+
+import warnings
+
+import numpy as np
+import pytest
+
+from engine import vision as nv
+from engine.errors import InputRangeError, SettingsError
+from engine.observers import KM_PHOTOPIC_LM_W, KM_SCOTOPIC_LM_W, v_photopic, v_scotopic
+from engine.render import render, scotopic_ratio
+from engine.settings import Settings
+from engine.tables import wavelengths_nm
+
+with warnings.catch_warnings():
+    warnings.simplefilter("ignore")
+    import colour
+
+COLOURFUL_K = np.array([2500.0, 3000.0, 3500.0, 4000.0, 20000.0, 30000.0])
+SEQUENCE_K = np.array([2500.0, 3000.0, 4000.0, 5000.0, 7000.0, 10000.0, 20000.0, 30000.0])
+
+
+def cielab_chroma(rgb_encoded):
+    """CIELAB C*ab of sRGB-encoded colours, computed by colour-science (the referee)."""
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        lab = colour.XYZ_to_Lab(colour.sRGB_to_XYZ(rgb_encoded))
+    return np.hypot(lab[..., 1], lab[..., 2])
+
+
+def plain_cie191(lp, ls, steps=3000):
+    """The MES2 procedure exactly as CIE 191:2010 states it (m_0 = 0.5, fixed-point steps)."""
+    v0 = 683.0 / 1699.0  # CIE 191:2010: V'(lambda_0) = 683/1699
+    m = np.full(np.shape(lp), 0.5)
+    for _ in range(steps):
+        lmes = (m * lp + (1 - m) * ls * v0) / (m + (1 - m) * v0)
+        m = np.clip(0.7670 + 0.3334 * np.log10(lmes), 0.0, 1.0)  # CIE 191:2010 a, b
+    return m, (m * lp + (1 - m) * ls * v0) / (m + (1 - m) * v0)
+
+
+# --- CIE 191:2010 --------------------------------------------------------------------------
+
+@pytest.mark.parametrize("sp", [0.5, 1.0, 2.0, 3.0])
+def test_cie191_photopic_limit(sp):
+    # CIE 191:2010: m = 1 at and above 5 cd/m2 (mesopic range upper limit).
+    lp = np.array([5.0, 10.0, 100.0])
+    m, lmes = nv.mesopic_cie191(lp, lp * max(sp, 1.0))
+    assert np.all(m == 1.0)
+    np.testing.assert_allclose(lmes, lp, rtol=1e-12)
+
+
+@pytest.mark.parametrize("sp", [0.5, 1.0])
+def test_cie191_scotopic_limit(sp):
+    # CIE 191:2010: m = 0 at and below 0.005 cd/m2 (mesopic range lower limit); L_mes = L_s.
+    ls = np.array([0.005, 0.001, 1e-5])
+    m, lmes = nv.mesopic_cie191(ls / sp if sp < 1 else ls, ls)
+    assert np.all(m == 0.0)
+    np.testing.assert_allclose(lmes, ls, rtol=1e-12)
+
+
+def test_cie191_sp_one_gives_photopic():
+    # CIE 191:2010: with S/P = 1 the mesopic luminance equals the photopic luminance.
+    lp = np.geomspace(1e-4, 50.0, 200)
+    m, lmes = nv.mesopic_cie191(lp, lp)
+    np.testing.assert_allclose(lmes, lp, rtol=1e-9)
+    # and m = a + b log10(L) inside the mesopic range (CIE 191:2010 a = 0.7670, b = 0.3334)
+    inside = (lp > 0.005) & (lp < 5.0)
+    np.testing.assert_allclose(m[inside], 0.7670 + 0.3334 * np.log10(lp[inside]), atol=1e-9)
+
+
+def test_cie191_matches_the_published_iteration():
+    # CIE 191:2010 MES2 procedure as published, iterated to convergence, on random inputs.
+    rng = np.random.default_rng(7)
+    lp = 10 ** rng.uniform(-5, 3, 5000)
+    ls = lp * rng.uniform(0.2, 4.0, lp.size)
+    m, lmes = nv.mesopic_cie191(lp, ls)
+    m_ref, lmes_ref = plain_cie191(lp, ls)
+    np.testing.assert_allclose(m, m_ref, atol=1e-8)
+    np.testing.assert_allclose(lmes, lmes_ref, rtol=1e-7)
+
+
+def test_mesopic_luminance_between_photopic_and_scotopic():
+    # CIE 191:2010: L_mes is a weighted mean of L_p and L_s V'(555)-scaled, so it lies between them.
+    lp = np.geomspace(0.001, 10, 50)
+    ls = 2.5 * lp
+    _, lmes = nv.mesopic_cie191(lp, ls)
+    assert np.all(lmes >= lp * (1 - 1e-12)) and np.all(lmes <= ls * (1 + 1e-12))
+
+
+# --- luminous efficiency and photometric constants -----------------------------------------
+
+def test_luminous_efficiency_peaks():
+    # CIE S 010:2004: V(lambda) peaks at 555 nm, V'(lambda) at 507 nm.
+    # (The 1 nm table rounds V' to 1.000 at 506-508 nm, so check 507 holds the maximum.)
+    wl = wavelengths_nm()
+    assert wl[np.argmax(v_photopic())] == 555.0
+    assert v_scotopic()[wl == 507.0][0] == v_scotopic().max() == pytest.approx(1.0)
+    assert v_scotopic()[wl == 500.0][0] < 1.0 and v_scotopic()[wl == 515.0][0] < 1.0
+
+
+def test_efficacy_constants():
+    # SI Brochure 9th ed. (2019): K_cd = 683 lm/W; CIE S 010:2004: K'_m = 1700 lm/W (rounded).
+    assert KM_PHOTOPIC_LM_W == 683.0
+    assert KM_SCOTOPIC_LM_W == pytest.approx(1700.0, abs=0.1)
+    # CIE 191:2010: V'(lambda_0) = 683/1699 at 555 nm; CIE S 010 tabulates V'(555) = 0.402.
+    assert nv.V_PRIME_555 == pytest.approx(0.402, abs=5e-4)
+
+
+def test_sp_ratio_of_2856K_against_colour_science():
+    # S/P of a 2856 K Planckian radiator with colour-science's own luminous efficiency functions
+    # (colour.luminous_flux with CIE 1924 photopic and CIE 1951 scotopic LEFs).
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        sd = colour.sd_blackbody(2856.0, colour.SpectralShape(360, 830, 1))
+        lefs = colour.colorimetry.SDS_LEFS
+        phot = colour.luminous_flux(sd, lefs["CIE 1924 Photopic Standard Observer"], K_m=683)
+        scot = colour.luminous_flux(sd, lefs["CIE 1951 Scotopic Standard Observer"], K_m=1700)
+    assert float(scotopic_ratio(2856.0)) == pytest.approx(scot / phot, rel=2e-3)
+    # common practice: incandescent (CIE A) light has S/P of about 1.4 (from memory)
+    assert 1.35 < float(scotopic_ratio(2856.0)) < 1.47
+
+
+def test_hot_stars_have_larger_sp():
+    # Physics of V' (peak 507 nm) against V (555 nm): bluer light excites rods more (CIE S 010).
+    sp = scotopic_ratio(np.geomspace(2000, 40000, 30))
+    assert np.all(np.diff(sp) > 0)
+
+
+def test_aperture_gain_in_magnitudes():
+    # Common practice: an aperture D gains 5 log10(D/d) magnitudes over a pupil d.
+    for d_mm in (50.0, 250.0, 1000.0):
+        gain = nv.aperture_gain(d_mm, 7.0, 1.0)
+        assert 2.5 * np.log10(gain) == pytest.approx(5 * np.log10(d_mm / 7.0), rel=1e-12)
+        e_scope = nv.photopic_illuminance_lux(8.0, gain)
+        e_eye = nv.photopic_illuminance_lux(8.0 - 5 * np.log10(d_mm / 7.0))
+        assert e_scope == pytest.approx(e_eye, rel=1e-12)
+
+
+def test_zero_magnitude_illuminance_order_of_magnitude():
+    # From memory: published E0 values lie within about 2.0e-6 to 2.6e-6 lx.
+    assert 2.0e-6 <= float(nv.photopic_illuminance_lux(0.0)) <= 2.6e-6
+
+
+# --- behaviour with the defaults (common practice) -----------------------------------------
+
+def test_magnitude_6_is_colourless_to_the_naked_eye():
+    # Common practice: naked-eye stars near magnitude 6 look white. "Colourless" here: CIELAB
+    # C*ab below 2.3, about one just-noticeable difference (Sharma 2003, from memory).
+    r = render(Settings(), SEQUENCE_K, 6.0)
+    assert np.all(cielab_chroma(r.rgb_encoded) < 2.3)
+
+
+def test_bright_stars_show_clear_colour():
+    # Common practice: stars of magnitude 1 and brighter show clear colour (red giants, blue stars).
+    for mag in (1.0, 0.0, -1.0):
+        r = render(Settings(), COLOURFUL_K, mag)
+        assert np.all(cielab_chroma(r.rgb_encoded) > 10.0), mag
+
+
+def test_colour_fades_monotonically_with_faintness():
+    # Common practice: fainter stars look less coloured; never more.
+    mags = np.linspace(-2.0, 8.0, 41)[:, None]
+    r = render(Settings(), SEQUENCE_K[None, :], mags)
+    chroma = cielab_chroma(r.rgb_encoded)
+    # 0.05 C*ab slack: renormalising the brightest channel to 1 nudges CIELAB lightness as the
+    # colour nears white; 0.05 is far below one just-noticeable difference (~2.3, from memory).
+    assert np.all(np.diff(chroma, axis=0) <= 0.05)
+    assert np.all(np.diff(r.cone_weight, axis=0) <= 0.0)
+    assert np.all(np.diff(r.saturation, axis=0) <= 0.0)
+
+
+def test_large_aperture_brings_colour_back():
+    # Common practice: a magnitude-5 star through a 250 mm aperture shows clear colour again.
+    eye = render(Settings(), COLOURFUL_K, 5.0)
+    scope = render(Settings(aperture_mm=250.0), COLOURFUL_K, 5.0)
+    assert np.all(cielab_chroma(eye.rgb_encoded) < 5.0)
+    assert np.all(cielab_chroma(scope.rgb_encoded) > 10.0)
+    assert np.all(scope.cone_weight > eye.cone_weight)
+
+
+def test_purkinje_shift_in_brightness():
+    # Purkinje (1825), common practice: at night a blue and a red star of equal V magnitude do
+    # not look equally bright: the blue one looks brighter (rods favour short wavelengths).
+    r = render(Settings(), np.array([3000.0, 20000.0]), 4.0)
+    assert r.intensity[1] > r.intensity[0]
+    # In photopic conditions (big aperture, bright star) the difference disappears.
+    day = render(Settings(aperture_mm=1000.0, magnitude_faint=14.0), np.array([3000.0, 20000.0]), 4.0)
+    assert day.cone_weight[0] == day.cone_weight[1] == 1.0
+    assert day.intensity[0] == pytest.approx(day.intensity[1], abs=1e-12)
+
+
+def test_vision_none_is_the_full_colour():
+    # The camera look: with vision = none the colour equals the render without magnitudes.
+    s = Settings(vision="none")
+    full = render(s, SEQUENCE_K)
+    night = render(s, SEQUENCE_K, 6.0)
+    np.testing.assert_allclose(night.rgb_linear, full.rgb_linear, atol=1e-9)
+    np.testing.assert_array_equal(night.saturation, 1.0)
+
+
+def test_without_magnitude_nothing_changes():
+    r = render(Settings(aperture_mm=250.0, night_tint=1.0), SEQUENCE_K)
+    base = render(Settings(), SEQUENCE_K)
+    np.testing.assert_array_equal(r.rgb_encoded, base.rgb_encoded)
+    assert r.magnitude is None and r.cone_weight is None
+    np.testing.assert_array_equal(r.intensity, 1.0)
+
+
+def test_broadcast_temperature_by_magnitude():
+    t = np.geomspace(2000, 30000, 7)[None, :]
+    m = np.linspace(-1, 7, 5)[:, None]
+    r = render(Settings(), t, m)
+    assert r.rgb_linear.shape == (5, 7, 3) and r.intensity.shape == (5, 7)
+    single = render(Settings(), t[0, 3], m[2, 0])
+    np.testing.assert_allclose(r.rgb_linear[2, 3], single.rgb_linear, atol=1e-12)
+    np.testing.assert_allclose(r.intensity[2, 3], single.intensity, atol=1e-12)
+
+
+def test_night_tint_is_cool_and_only_for_faint_stars():
+    # Rendering convention: the tint leans blue (b < 0 in Oklab); bright photopic stars untouched.
+    tinted = render(Settings(night_tint=1.0), 5800.0, 7.0)
+    assert tinted.rgb_linear[2] > tinted.rgb_linear[0]
+    bright = render(Settings(night_tint=1.0, aperture_mm=1000.0), 5800.0, 0.0)
+    plain = render(Settings(aperture_mm=1000.0), 5800.0, 0.0)
+    np.testing.assert_allclose(bright.rgb_linear, plain.rgb_linear, atol=1e-9)
+
+
+# --- intensity tone curves ------------------------------------------------------------------
+
+@pytest.mark.parametrize("curve", nv.INTENSITY_CURVES)
+def test_tone_curves_map_the_ends_and_fall(curve):
+    m = np.linspace(-3, 9, 200)
+    i = nv.intensity_from_magnitude(m, -1.5, 6.5, curve)
+    assert np.all((i >= 0) & (i <= 1))
+    assert np.all(np.diff(i) <= 0)
+    assert nv.intensity_from_magnitude(-1.5, -1.5, 6.5, curve) == pytest.approx(1.0)
+    assert nv.intensity_from_magnitude(6.5, -1.5, 6.5, curve) == pytest.approx(0.0, abs=1e-12)
+
+
+def test_linear_curve_is_proportional_to_flux():
+    # Pogson (1856): flux ratio 10^(-0.4 dm); a linear-flux curve with a far faint end is
+    # proportional to it.
+    i = nv.intensity_from_magnitude(np.array([0.0, 2.5]), 0.0, 30.0, "linear")
+    assert i[1] / i[0] == pytest.approx(0.1, rel=1e-9)
+
+
+def test_log_curve_is_linear_in_magnitude():
+    i = nv.intensity_from_magnitude(np.array([-1.5, 2.5, 6.5]), -1.5, 6.5, "log")
+    np.testing.assert_allclose(i, [1.0, 0.5, 0.0], atol=1e-12)
+
+
+# --- dome compensation ----------------------------------------------------------------------
+
+def dim_dome(peak):
+    from engine.displays import PRESETS
+    import dataclasses
+    return dataclasses.replace(PRESETS["dci-p3"], name="test-dome", peak_luminance_cd_m2=peak)
+
+
+def test_compensation_makes_the_dome_percept_match_the_intent():
+    # Model check of step 7: perceived chroma on the dome = displayed chroma x s(dome luminance);
+    # where the intent is reached it equals the intended saturation of the real star.
+    s = Settings(display=dim_dome(3.0), scene_white="DCI", compensate=True)
+    t = np.array([3000.0, 4000.0, 20000.0])[None, :]
+    m = np.array([1.0, 2.0, 3.0])[:, None]
+    r = render(s, t, m)
+    intended = render(s.replace(compensate=False), t, m).saturation
+    y_rel = r.rgb_linear @ s.display.rgb_to_XYZ[1]
+    lp = r.intensity * s.display.peak_luminance_cd_m2 * y_rel
+    cone_dome, _ = nv.mesopic_cie191(lp, lp * r.scotopic_ratio)
+    perceived = r.saturation * nv.saturation_from_cone_weight(cone_dome)
+    ok = r.compensation_reached
+    assert ok.any()
+    np.testing.assert_allclose(perceived[ok], intended[ok], rtol=0.05)
+    assert np.all(r.saturation >= intended - 1e-9)  # the boost never lowers chroma
+
+
+def test_compensation_reports_out_of_reach():
+    # A dome far too dim for cone vision cannot show the intended colour.
+    s = Settings(display=dim_dome(0.01), scene_white="DCI", compensate=True)
+    r = render(s, np.array([3000.0, 20000.0]), 0.0)
+    assert not r.compensation_reached.any()
+
+
+# --- bad input ------------------------------------------------------------------------------
+
+@pytest.mark.parametrize("mag", [np.nan, np.inf, 31.0, -31.0])
+def test_bad_magnitudes(mag):
+    with pytest.raises(InputRangeError, match="magnitude"):
+        render(Settings(), 5000.0, mag)
+
+
+@pytest.mark.parametrize("field,value", [("aperture_mm", 0.0), ("aperture_mm", -5.0),
+                                         ("transmission", 0.0), ("transmission", 1.5),
+                                         ("pupil_mm", 0.0), ("vision", "scotopic"),
+                                         ("intensity_curve", "cubic"), ("night_tint", 2.0),
+                                         ("magnitude_faint", -5.0)])
+def test_bad_vision_settings(field, value):
+    with pytest.raises(SettingsError) as exc:
+        Settings(**{field: value})
+    assert "\n" not in str(exc.value) and field.split("_")[0] in str(exc.value)
