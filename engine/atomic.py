@@ -31,6 +31,25 @@ def check_writable(path, overwrite: bool) -> Path:
     return path
 
 
+def new_file_mode() -> int:
+    """The mode an ordinary new file gets here: 0666 less the process umask (POSIX open(2)).
+
+    ``tempfile.mkstemp`` creates files readable by their owner only; a finished export must be
+    as readable as any file the user saves. The umask is read from /proc where Linux offers it,
+    so it is never changed, even for a moment, in a threaded program.
+    """
+    try:
+        with open("/proc/self/status", encoding="ascii") as fh:
+            for line in fh:
+                if line.startswith("Umask:"):
+                    return 0o666 & ~int(line.split()[1], 8)
+    except (OSError, ValueError):
+        pass
+    mask = os.umask(0o022)
+    os.umask(mask)
+    return 0o666 & ~mask
+
+
 @contextmanager
 def atomic_path(path, overwrite: bool = True):
     """Yield a temporary path beside ``path``; on success rename it over ``path``.
@@ -45,6 +64,7 @@ def atomic_path(path, overwrite: bool = True):
         yield Path(tmp)
         if path.exists() and not overwrite:
             raise OutputExistsError(f"{path} exists; pass --force to overwrite it")
+        os.chmod(tmp, new_file_mode())
         os.replace(tmp, path)
     except BaseException:
         try:

@@ -1,0 +1,243 @@
+"""Image files for exports: PNG (8/16-bit, with a text chunk) and OpenEXR (float, with an attribute).
+
+Writers take arrays exactly as they are to be stored and never add
+timestamps, so equal inputs give byte-identical files.
+
+- 8-bit PNG through Pillow (``PIL.PngImagePlugin``), text in a ``tEXt`` chunk.
+- 16-bit PNG through pypng (Pillow cannot write 16-bit RGB or RGBA); the
+  ``tEXt`` chunk is placed right after ``IHDR``.
+- EXR through the OpenEXR Python bindings (``OpenEXR.File(header, channels)``,
+  OpenEXR 3.x), 32-bit float channels R, G, B (, A), ZIP compression
+  (lossless), the metadata as string header attributes and the display
+  primaries as the standard ``chromaticities`` attribute.
+
+References
+----------
+ISO/IEC 15948:2004 (PNG), section 11.3.4.3 (``tEXt``: Latin-1 keyword of 1-79
+characters, a null separator, Latin-1 text); OpenEXR technical introduction
+(header attributes, ``chromaticities``).
+"""
+
+from __future__ import annotations
+
+import json
+import os
+from pathlib import Path
+
+import numpy as np
+
+from engine.errors import StarkilnError
+
+PNG_SIGNATURE = b"\x89PNG\r\n\x1a\n"
+EXR_MAGIC = b"\x76\x2f\x31\x01"
+
+
+def _check_image(array: np.ndarray) -> np.ndarray:
+    a = np.asarray(array)
+    if a.ndim != 3 or a.shape[2] not in (3, 4):
+        raise StarkilnError(f"image array must be (H, W, 3) or (H, W, 4), got shape {a.shape}")
+    return np.ascontiguousarray(a)
+
+
+def _finish(path) -> None:
+    """Flush a finished temporary file to disk (engine.atomic gives it its mode and name)."""
+    fd = os.open(path, os.O_RDONLY)
+    try:
+        os.fsync(fd)
+    finally:
+        os.close(fd)
+
+
+def write_bytes(path, data: bytes) -> None:
+    """Write ``data`` to ``path`` (a temporary file of :func:`engine.atomic.atomic_path`)."""
+    with open(path, "wb") as fh:
+        fh.write(data)
+    _finish(path)
+
+
+def write_png(path, array: np.ndarray, text: dict[str, str] | None = None) -> None:
+    """Write an 8-bit (uint8) or 16-bit (uint16) RGB/RGBA PNG with ``tEXt`` chunks.
+
+    Parameters
+    ----------
+    path : path-like
+        Destination (written directly: callers wrap it in
+        :func:`engine.atomic.atomic_path`).
+    array : numpy.ndarray
+        ``(H, W, 3|4)`` uint8 or uint16; row 0 is the top of the image.
+    text : dict, optional
+        Keyword -> Latin-1 text, stored uncompressed (``tEXt``).
+
+    References
+    ----------
+    ISO/IEC 15948:2004 sections 11.2.2 (IHDR, bit depths 8 and 16 for colour
+    types 2 and 6) and 11.3.4.3 (tEXt).
+    """
+    a = _check_image(array)
+    text = dict(text or {})
+    for key, value in text.items():
+        if not 1 <= len(key) <= 79:
+            raise StarkilnError(f"PNG text keyword {key!r} must have 1-79 characters")
+        value.encode("latin-1")
+    if a.dtype == np.uint8:
+        from PIL import Image, PngImagePlugin
+
+        info = PngImagePlugin.PngInfo()
+        for key, value in text.items():
+            info.add_text(key, value, zip=False)
+        img = Image.fromarray(a, "RGBA" if a.shape[2] == 4 else "RGB")
+        with open(path, "wb") as fh:
+            img.save(fh, format="PNG", pnginfo=info, compress_level=6)
+    elif a.dtype == np.uint16:
+        _write_png16(path, a, text)
+    else:
+        raise StarkilnError(f"PNG samples must be uint8 or uint16, got {a.dtype}")
+    _finish(path)
+
+
+def _write_png16(path, a: np.ndarray, text: dict[str, str]) -> None:
+    import io
+
+    import png
+
+    h, w, c = a.shape
+    writer = png.Writer(width=w, height=h, greyscale=False, alpha=(c == 4), bitdepth=16,
+                        compression=6)
+    # pypng writes the signature, IHDR, then IDAT chunks and has no text
+    # option: write in memory, then re-emit its chunks with tEXt after IHDR.
+    buf = io.BytesIO()
+    writer.write(buf, a.reshape(h, w * c))
+    chunks = list(png.Reader(bytes=buf.getvalue()).chunks())
+    del buf
+    out = []
+    for tag, data in chunks:
+        out.append((tag, data))
+        if tag == b"IHDR":
+            for key, value in text.items():
+                out.append((b"tEXt", key.encode("latin-1") + b"\x00" + value.encode("latin-1")))
+    with open(path, "wb") as fh:
+        png.write_chunks(fh, out)
+
+
+def write_exr(path, array: np.ndarray, attributes: dict[str, str] | None = None,
+              chromaticities=None) -> None:
+    """Write a 32-bit float RGB/RGBA OpenEXR file with string header attributes.
+
+    Parameters
+    ----------
+    path : path-like
+        Destination (callers wrap it in :func:`engine.atomic.atomic_path`).
+    array : numpy.ndarray
+        ``(H, W, 3|4)`` values, stored as float32; row 0 is the top of the image
+        (OpenEXR's ``INCREASING_Y`` line order, y down).
+    attributes : dict, optional
+        Attribute name -> string value.
+    chromaticities : sequence of 8 floats, optional
+        Red, green, blue and white xy of the RGB values (the standard
+        ``chromaticities`` attribute).
+
+    References
+    ----------
+    OpenEXR technical introduction ("chromaticities" attribute; data window, y
+    down); OpenEXR Python bindings 3.x (``OpenEXR.File(header, channels)``).
+    """
+    import OpenEXR
+
+    a = np.ascontiguousarray(_check_image(array), dtype=np.float32)
+    header = {"compression": OpenEXR.ZIP_COMPRESSION, "type": OpenEXR.scanlineimage}
+    for key, value in (attributes or {}).items():
+        header[key] = str(value)
+    if chromaticities is not None:
+        header["chromaticities"] = tuple(float(v) for v in chromaticities)
+    channels = {"RGBA" if a.shape[2] == 4 else "RGB": a}
+    with OpenEXR.File(header, channels) as f:
+        f.write(str(path))
+    _finish(path)
+
+
+def read_embedded_text(path, key: str = "starkiln") -> str:
+    """The text stored under ``key`` in a PNG ``tEXt``/``zTXt``/``iTXt`` chunk or an EXR attribute.
+
+    Raises
+    ------
+    engine.errors.StarkilnError
+        The file cannot be read, is neither PNG nor EXR, or holds no ``key``.
+
+    References
+    ----------
+    ISO/IEC 15948:2004 section 11.3.4; OpenEXR header attributes.
+    """
+    path = Path(path)
+    try:
+        with open(path, "rb") as fh:
+            magic = fh.read(8)
+    except OSError as exc:
+        raise StarkilnError(f"{path}: cannot read ({exc.strerror})") from None
+    if magic == PNG_SIGNATURE:
+        value = _png_text(path, key)
+    elif magic[:4] == EXR_MAGIC:
+        import OpenEXR
+
+        try:
+            with OpenEXR.File(str(path), header_only=True) as f:
+                value = f.header().get(key)
+        except Exception as exc:  # the bindings raise RuntimeError and others
+            raise StarkilnError(f"{path}: not a readable OpenEXR file ({exc})") from None
+        if value is not None and not isinstance(value, str):
+            value = None
+    else:
+        raise StarkilnError(f"{path}: neither a PNG nor an OpenEXR file")
+    if value is None:
+        raise StarkilnError(f"{path}: holds no {key!r} metadata; accepted: a texture written "
+                            "by 'starkiln lut'")
+    return value
+
+
+def _png_text(path, key: str):
+    """Scan a PNG's chunks for ``tEXt``/``zTXt``/``iTXt`` under ``key``; no pixels are decoded."""
+    import zlib
+
+    import png
+
+    want = key.encode("latin-1")
+    try:
+        with open(path, "rb") as fh:
+            return _scan_png_text(png.Reader(file=fh), want)
+    except (png.Error, zlib.error, IndexError, UnicodeDecodeError, OSError) as exc:
+        raise StarkilnError(f"{path}: not a readable PNG ({exc})") from None
+
+
+def _scan_png_text(reader, want: bytes):
+    """The text of the first text chunk whose keyword is ``want`` (ISO/IEC 15948 11.3.4)."""
+    import zlib
+
+    while True:
+        tag, data = reader.chunk(lenient=True)
+        if tag == b"IEND":
+            return None
+        if tag not in (b"tEXt", b"zTXt", b"iTXt"):
+            continue
+        keyword, _, rest = data.partition(b"\x00")
+        if keyword != want:
+            continue
+        if tag == b"tEXt":  # keyword NUL text (Latin-1)
+            return rest.decode("latin-1")
+        if tag == b"zTXt":  # keyword NUL method(0 = zlib) stream
+            return zlib.decompress(rest[1:]).decode("latin-1")
+        # iTXt: keyword NUL flag method language NUL translated-keyword NUL text (UTF-8)
+        compressed, rest = rest[0], rest[2:]
+        _language, _, rest = rest.partition(b"\x00")
+        _translated, _, text = rest.partition(b"\x00")
+        return (zlib.decompress(text) if compressed else text).decode("utf-8")
+
+
+def read_embedded_json(path, key: str = "starkiln") -> dict:
+    """The JSON object stored under ``key`` (see :func:`read_embedded_text`)."""
+    text = read_embedded_text(path, key)
+    try:
+        data = json.loads(text)
+    except json.JSONDecodeError as exc:
+        raise StarkilnError(f"{path}: {key!r} metadata is not valid JSON ({exc.msg})") from None
+    if not isinstance(data, dict):
+        raise StarkilnError(f"{path}: {key!r} metadata is not a JSON object")
+    return data

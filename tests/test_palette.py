@@ -1,0 +1,197 @@
+"""Palettes (engine.palette): swatch sets and the JSON, CSV, GPL and contact-sheet writers.
+
+References used here:
+- GIMP palette format as GIMP reads it: GIMP source, app/core/gimppalette-load.c,
+  gimp_palette_load_gpl (first line starts with "GIMP Palette"; then "Name: ";
+  then optionally "Columns: " with 0-256; lines starting with "#" are comments;
+  other lines are R G B split on spaces/tabs, 0-255, and an optional name to the
+  end of the line), and app/core/gimppalette-save.c ("%3d %3d %3d\\t%s\\n", LF).
+- RFC 4180 (CSV) via Python's csv reader; the JSON standard via json.loads.
+- 8-bit quantisation floor(v * 255 + 0.5) (common practice).
+- colour-science: sRGB encoding colour.cctf_encoding (IEC 61966-2-1).
+"""
+
+import csv
+import io
+import json
+import re
+import warnings
+
+import numpy as np
+import pytest
+
+from engine.errors import StarkilnError
+from engine.palette import (build_palette, class_temperatures, palette_csv, palette_dict,
+                            palette_gpl, sheet_swatch_boxes, step_temperatures, write_palette)
+from engine.render import render
+from engine.settings import Settings
+
+
+def parse_gimp_palette(data: bytes):
+    """A strict reader of the rules of GIMP's gimp_palette_load_gpl (module docstring)."""
+    text = data.decode("utf-8")
+    assert "\r" not in text, "GIMP palettes use LF line ends"
+    lines = text.split("\n")
+    assert lines[-1] == "", "file ends with a newline"
+    lines = lines[:-1]
+    assert lines[0].startswith("GIMP Palette")
+    assert lines[1].startswith("Name: ")
+    name = lines[1][len("Name: "):].strip()
+    i, columns = 2, None
+    if lines[2].startswith("Columns: "):
+        columns = int(lines[2][len("Columns: "):].strip())
+        assert 0 <= columns <= 256
+        i = 3
+    colours = []
+    for line in lines[i:]:
+        assert line != "", "a blank line would be read as a colour by GIMP"
+        if line.startswith("#"):
+            continue
+        m = re.match(r"^[ \t]*(\d+)[ \t]+(\d+)[ \t]+(\d+)(?:[ \t](.*))?$", line)
+        assert m, f"not an 'R G B<tab>name' row: {line!r}"
+        rgb = tuple(int(m.group(k)) for k in (1, 2, 3))
+        assert all(0 <= v <= 255 for v in rgb)
+        colours.append((rgb, m.group(4)))
+    return name, columns, colours
+
+
+def test_steps_include_both_ends_and_follow_the_axis():
+    t = step_temperatures((2000.0, 20000.0), 5, "mired")
+    assert t[0] == 2000.0 and t[-1] == 20000.0
+    # mired = 1e6 / T (common practice): equal steps in reciprocal temperature
+    assert np.allclose(np.diff(1e6 / t), (1e6 / 20000 - 1e6 / 2000) / 4)
+    tl = step_temperatures((2000.0, 20000.0), 5, "log")
+    assert np.allclose(tl[1:] / tl[:-1], 10 ** 0.25)
+    tk = step_temperatures((2000.0, 20000.0), 4, "linear")
+    assert np.allclose(np.diff(tk), 6000.0)
+
+
+@pytest.mark.parametrize("steps", [1, 0, 4097, 2.5])
+def test_steps_out_of_range_are_refused(steps):
+    with pytest.raises(StarkilnError):
+        step_temperatures((2000.0, 20000.0), steps)
+
+
+def test_reversed_range_is_refused():
+    with pytest.raises(StarkilnError):
+        build_palette(Settings(), range_K=(9000, 3000), steps=4)
+
+
+def test_classes_cover_the_main_sequence_table():
+    from engine.sources import SPECTRAL_CLASS_TEFF_K
+
+    names, temps = class_temperatures()
+    assert len(names) == len(SPECTRAL_CLASS_TEFF_K)
+    assert names[0] == "O5V" and names[-1] == "M8V"
+    # temperatures fall from O to M (the spectral sequence, common practice)
+    assert np.all(np.diff(temps) < 0)
+    names, temps = class_temperatures(["g2v", "K0"])
+    assert names == ("G2V", "K0V")
+
+
+def test_json_swatches_are_the_render_path(tmp_path):
+    s = Settings().replace(display="display-p3")
+    p = build_palette(s, range_K=(1800.0, 30000.0), steps=9)
+    path = tmp_path / "p.json"
+    write_palette(p, path)
+    data = json.loads(path.read_text("utf-8"))
+    assert set(data) >= {"settings", "swatches"}
+    assert Settings.from_dict(data["settings"]) == s
+    ref = render(s, np.array([sw["temperature_K"] for sw in data["swatches"]]))
+    for k, sw in enumerate(data["swatches"]):
+        assert set(sw) >= {"temperature_K", "hex", "rgb_encoded", "rgb_linear"}
+        assert np.allclose(sw["rgb_linear"], ref.rgb_linear[k], atol=0)
+        assert np.allclose(sw["rgb_encoded"], ref.rgb_encoded[k], atol=0)
+        q = [int(np.floor(v * 255 + 0.5)) for v in ref.rgb_encoded[k]]  # common practice
+        assert sw["hex"] == "#{:02x}{:02x}{:02x}".format(*q)
+        assert sw["rgb_8bit"] == q
+
+
+def test_json_encoding_matches_the_srgb_standard(colour):
+    # IEC 61966-2-1 encoding as implemented by colour-science, applied to the linear values
+    p = build_palette(Settings(), range_K=(2000.0, 20000.0), steps=7)
+    d = palette_dict(p)
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        for sw in d["swatches"]:
+            enc = colour.cctf_encoding(np.array(sw["rgb_linear"]), function="sRGB")
+            assert np.allclose(sw["rgb_encoded"], enc, atol=1e-12)
+
+
+def test_csv_has_a_header_and_one_row_a_swatch():
+    p = build_palette(Settings(), use_classes=True, classes=["B0V", "A0V", "G2V", "M0V"])
+    data = palette_csv(p).decode("utf-8")
+    assert "\r\n" in data  # RFC 4180 line ends
+    rows = list(csv.DictReader(io.StringIO(data, newline="")))
+    assert len(rows) == 4
+    assert [r["spectral_class"] for r in rows] == ["B0V", "A0V", "G2V", "M0V"]
+    ref = render(Settings(), np.array([float(r["temperature_K"]) for r in rows]))
+    for k, r in enumerate(rows):
+        enc = [float(r[c]) for c in ("r_encoded", "g_encoded", "b_encoded")]
+        lin = [float(r[c]) for c in ("r_linear", "g_linear", "b_linear")]
+        assert np.array_equal(enc, ref.rgb_encoded[k]) and np.array_equal(lin, ref.rgb_linear[k])
+        q8 = [int(r[c]) for c in ("r_8bit", "g_8bit", "b_8bit")]
+        assert np.abs(np.array(q8) / 255.0 - ref.rgb_encoded[k]).max() <= 0.5 / 255 + 1e-12
+        assert r["hex"] == "#{:02x}{:02x}{:02x}".format(*q8)
+
+
+def test_gpl_follows_the_gimp_palette_format():
+    p = build_palette(Settings(), range_K=(1000.0, 40000.0), steps=12)
+    name, columns, colours = parse_gimp_palette(palette_gpl(p, name="Cinderfold Ridge dome"))
+    assert name == "Cinderfold Ridge dome"
+    assert columns == 8
+    assert len(colours) == 12
+    ref = render(Settings(), p.temperature_K)
+    for (rgb, label), enc, t in zip(colours, ref.rgb_encoded, p.temperature_K):
+        # 8-bit within half a level of the render path's encoded value
+        assert np.abs(np.array(rgb) / 255.0 - enc).max() <= 0.5 / 255 + 1e-12
+        assert label.startswith(f"{t:.0f} K")
+
+
+def test_gpl_name_cannot_break_the_format():
+    p = build_palette(Settings(), range_K=(3000.0, 9000.0), steps=2)
+    name, _, colours = parse_gimp_palette(palette_gpl(p, name="two\nlines\tand tab"))
+    assert "\n" not in name and len(colours) == 2
+
+
+def test_sheet_shows_each_swatch_as_a_solid_block_on_dark(tmp_path):
+    from PIL import Image
+
+    s = Settings()
+    p = build_palette(s, range_K=(2000.0, 25000.0), steps=10)
+    path = tmp_path / "sheet.png"
+    write_palette(p, path, name="Brackenmoor Hollow planetarium")
+    with Image.open(path) as img:
+        px = np.asarray(img.convert("RGB"))
+        meta = json.loads(img.text["starkiln"])
+    # dark background (corner pixel): Rec. 709 luma below 10 %
+    corner = px[2, 2] / 255.0
+    assert 0.2126 * corner[0] + 0.7152 * corner[1] + 0.0722 * corner[2] < 0.1
+    ref = render(s, p.temperature_K)
+    for (x0, y0, x1, y1), enc in zip(sheet_swatch_boxes(10), ref.rgb_encoded):
+        block = px[y0:y1 + 1, x0:x1 + 1].reshape(-1, 3)
+        assert (block == block[0]).all()
+        assert np.abs(block[0] / 255.0 - enc).max() <= 0.5 / 255 + 1e-12
+    # labels were drawn: text pixels differ from the background under each swatch
+    x0, y0, x1, y1 = sheet_swatch_boxes(10)[0]
+    label = px[y1 + 2:y1 + 36, x0:x1 + 1]
+    assert (label != px[2, 2]).any()
+    assert "display srgb" in meta["title"] and "white D65" in meta["title"]
+    assert len(meta["swatches"]) == 10
+
+
+def test_unknown_palette_extension_is_refused(tmp_path):
+    p = build_palette(Settings(), range_K=(3000.0, 9000.0), steps=2)
+    with pytest.raises(StarkilnError, match="accepted: .json, .csv, .gpl, .png"):
+        write_palette(p, tmp_path / "p.txt")
+    assert not list(tmp_path.iterdir())
+
+
+@pytest.mark.parametrize("name", ["p.json", "p.csv", "p.gpl", "p.png"])
+def test_palette_files_are_deterministic(tmp_path, name):
+    s = Settings()
+    (tmp_path / "a").mkdir()
+    (tmp_path / "b").mkdir()
+    write_palette(build_palette(s, steps=5), tmp_path / "a" / name)
+    write_palette(build_palette(s, steps=5), tmp_path / "b" / name)
+    assert (tmp_path / "a" / name).read_bytes() == (tmp_path / "b" / name).read_bytes()
