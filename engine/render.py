@@ -25,7 +25,7 @@ from functools import lru_cache
 import numpy as np
 
 from engine import vision as nv
-from engine.gamut import Oklab_to_XYZ, XYZ_to_Oklab, in_gamut, map_to_gamut
+from engine.gamut import Oklab_to_XYZ, XYZ_to_Oklab, channel_max, in_gamut, map_to_gamut
 from engine.observers import KM_PHOTOPIC_LM_W, KM_SCOTOPIC_LM_W, XYZ_to_xy, cmfs, v_photopic, v_scotopic
 from engine.settings import Settings
 from engine.sources import check_temperature
@@ -160,18 +160,25 @@ def render(settings: Settings, temperature_K, magnitude=None) -> Rendered:
     '#fff9fe'
     """
     t = check_temperature(temperature_K)
-    if magnitude is None:
-        return _render_colour(settings, t)
-    return _render_night(settings, t, nv.check_magnitude(magnitude))
+    mag = None if magnitude is None else nv.check_magnitude(magnitude)
+    size = t.size if mag is None else int(np.prod(np.broadcast_shapes(t.shape, mag.shape)))
+    if size < _BLAS_SINGLE_FROM:
+        return _render_colour(settings, t) if mag is None else _render_night(settings, t, mag)
+    from threadpoolctl import threadpool_limits
+
+    # OpenBLAS splits even (n x 3) @ (3 x 3) products over threads and is then ~6x slower
+    # here than on one; the engine parallelises its own blocks instead.
+    with threadpool_limits(limits=1, user_api="blas"):
+        return _render_colour(settings, t) if mag is None else _render_night(settings, t, mag)
 
 
-def _render_colour(settings: Settings, t: np.ndarray, with_sp: bool = False):
-    """Full colour per temperature (no magnitudes): steps 1-6 of the chain.
+def _per_temperature(settings: Settings, t_flat: np.ndarray, with_sp: bool):
+    """Steps 1-5 once per distinct temperature: (unique, inverse, XYZ, rgb, in_gamut, S/P).
 
-    With ``with_sp`` the same spectral pass also integrates V and V' and the S/P ratio
-    per temperature is returned beside the result.
+    With ``with_sp`` the same spectral pass also integrates V and V' for the S/P ratio.
     """
-    unique, inverse = np.unique(t.reshape(-1), return_inverse=True)
+    unique, inverse = np.unique(t_flat, return_inverse=True)
+    sp_u = None
     if with_sp:
         weights = np.concatenate([cmfs(settings.observer), v_photopic()[:, None],
                                   v_scotopic()[:, None]], axis=1)
@@ -181,11 +188,17 @@ def _render_colour(settings: Settings, t: np.ndarray, with_sp: bool = False):
     else:
         XYZ_u = blackbody_XYZ(unique, settings.observer)
     rgb_u, ok_u = _display_rgb(settings, XYZ_u)
+    return unique, inverse, XYZ_u, rgb_u, ok_u, sp_u
+
+
+def _render_colour(settings: Settings, t: np.ndarray) -> Rendered:
+    """Full colour per temperature (no magnitudes): steps 1-6 of the chain."""
+    _, inverse, XYZ_u, rgb_u, ok_u, _ = _per_temperature(settings, t.reshape(-1), False)
     enc_u = settings.display.encode(rgb_u)
     shape = t.shape
     XYZ = XYZ_u[inverse].reshape(shape + (3,))
     encoded = enc_u[inverse].reshape(shape + (3,))
-    result = Rendered(
+    return Rendered(
         temperature_K=t,
         XYZ=XYZ,
         xy=XYZ_to_xy(XYZ),
@@ -195,9 +208,6 @@ def _render_colour(settings: Settings, t: np.ndarray, with_sp: bool = False):
         intensity=np.ones(shape),
         rgb_dimmed_encoded=encoded,
     )
-    if with_sp:
-        return result, sp_u[inverse].reshape(shape)
-    return result
 
 
 def scotopic_ratio(temperature_K) -> np.ndarray:
@@ -211,34 +221,83 @@ def scotopic_ratio(temperature_K) -> np.ndarray:
     return KM_SCOTOPIC_LM_W * sums[..., 1] / (KM_PHOTOPIC_LM_W * sums[..., 0])
 
 
-def _render_night(settings: Settings, t: np.ndarray, mag: np.ndarray) -> Rendered:
-    """Colour and brightness at night: the chain plus :mod:`engine.vision`, broadcast T x m."""
-    shape = np.broadcast_shapes(t.shape, mag.shape)
-    full, sp_t = _render_colour(settings, t, with_sp=True)
-    chain = _chain(settings)
-    tb = np.broadcast_to(t, shape)
-    mb = np.broadcast_to(mag, shape)
-    sp = np.broadcast_to(sp_t, shape)
+_NIGHT_CHUNK = 65536  # stars per block of the night-vision pass (a few MB per array)
+_BLAS_SINGLE_FROM = 4096  # from this many stars, render with single-threaded BLAS
 
+
+def _render_night(settings: Settings, t: np.ndarray, mag: np.ndarray) -> Rendered:
+    """Colour and brightness at night: the chain plus :mod:`engine.vision`, broadcast T x m.
+
+    The spectral work runs once per distinct temperature; the per-star vision work runs in
+    blocks of ``_NIGHT_CHUNK`` stars on two threads (numpy releases the GIL in its kernels).
+    """
+    shape = np.broadcast_shapes(t.shape, mag.shape)
+    unique, inverse, XYZ_u, rgb_u, ok_u, sp_u = _per_temperature(settings, t.reshape(-1), True)
+    chain = _chain(settings)
+    lab_u = XYZ_to_Oklab(rgb_u @ chain.oklab_xyz_from_rgb.T)
+    idx = np.broadcast_to(inverse.reshape(t.shape), shape).reshape(-1)
+    m_flat = np.ascontiguousarray(np.broadcast_to(mag, shape), dtype=np.float64).reshape(-1)
+    n = idx.size
+    out = {"rgb": np.empty((n, 3)), "enc": np.empty((n, 3)), "dim": np.empty((n, 3)),
+           "intensity": np.empty(n), "lp": np.empty(n), "cone": np.empty(n),
+           "sat": np.empty(n), "reached": np.empty(n, dtype=bool)}
+
+    def block(start: int) -> None:
+        sl = slice(start, start + _NIGHT_CHUNK)
+        res = _night_block(settings, chain, m_flat[sl], sp_u[idx[sl]], lab_u[idx[sl]])
+        for key, value in res.items():
+            out[key][sl] = value
+
+    starts = range(0, n, _NIGHT_CHUNK)
+    if n > 2 * _NIGHT_CHUNK:
+        from concurrent.futures import ThreadPoolExecutor
+
+        with ThreadPoolExecutor(2) as pool:  # render() has made BLAS single-threaded
+            list(pool.map(block, starts))
+    else:
+        for start in starts:
+            block(start)
+
+    def grid(a, last=()):
+        return a.reshape(shape + last)
+
+    XYZ = grid(XYZ_u[idx], (3,))
+    return Rendered(
+        temperature_K=grid(unique[idx]),
+        XYZ=XYZ,
+        xy=XYZ_to_xy(XYZ),
+        rgb_linear=grid(out["rgb"], (3,)),
+        rgb_encoded=grid(out["enc"], (3,)),
+        in_gamut=grid(ok_u[idx]),
+        intensity=grid(out["intensity"]),
+        rgb_dimmed_encoded=grid(out["dim"], (3,)),
+        magnitude=grid(m_flat.copy()),
+        photopic_luminance_cd_m2=grid(out["lp"]),
+        scotopic_ratio=grid(sp_u[idx]),
+        cone_weight=grid(out["cone"]),
+        saturation=grid(out["sat"]),
+        compensation_reached=grid(out["reached"]) if settings.compensate else None,
+    )
+
+
+def _night_block(settings: Settings, chain: "_Chain", mag, sp, lab) -> dict:
+    """Night-vision steps for one block of stars (1-D arrays): see :mod:`engine.vision`."""
     gain = nv.aperture_gain(settings.aperture_mm, settings.pupil_mm, settings.transmission)
     omega = nv.blur_spot_solid_angle_sr(settings.blur_spot_arcmin)
-    lp = nv.photopic_illuminance_lux(mb, gain) / omega
-    ls = lp * sp
-    cone, lmes = nv.mesopic_cie191(lp, ls)
-    m_eye = mb - 2.5 * np.log10(gain)
+    lp = nv.photopic_illuminance_lux(mag, gain) / omega
+    cone, lmes = nv.mesopic_cie191(lp, lp * sp)
+    m_eye = mag - 2.5 * np.log10(gain)
     if settings.vision == "mesopic":
         sat = nv.saturation_from_cone_weight(cone)
         m_eff = m_eye - 2.5 * np.log10(lmes / lp)
     else:
-        sat = np.ones(shape)
+        sat = np.ones(mag.shape)
         m_eff = m_eye
     intensity = nv.intensity_from_magnitude(m_eff, settings.magnitude_bright,
                                             settings.magnitude_faint, settings.intensity_curve)
-
     to_xyz = chain.oklab_xyz_from_rgb
-    lab = np.broadcast_to(XYZ_to_Oklab(full.rgb_linear @ to_xyz.T), shape + (3,))
-    reached = None
     rgb, inside, factor = _apply_chroma(settings, lab, sat, to_xyz, chain)
+    reached = np.zeros(mag.shape, dtype=bool)
     if settings.compensate:
         # The audience sees each pixel at intensity x peak x its relative luminance, with their
         # own cone weight there. Boost chroma by s / s_dome; s_dome depends on the boosted
@@ -254,24 +313,9 @@ def _render_night(settings: Settings, t: np.ndarray, mag: np.ndarray) -> Rendere
             rgb, inside, factor = _apply_chroma(settings, lab,
                                                 np.where(reachable, wanted, 1.0e6), to_xyz, chain)
         reached = reachable & inside
-    enc = settings.display.encode(rgb)
-    dimmed = settings.display.encode(rgb * intensity[..., None])
-    return Rendered(
-        temperature_K=np.array(tb),
-        XYZ=np.array(np.broadcast_to(full.XYZ, shape + (3,))),
-        xy=np.array(np.broadcast_to(full.xy, shape + (2,))),
-        rgb_linear=rgb,
-        rgb_encoded=enc,
-        in_gamut=np.array(np.broadcast_to(full.in_gamut, shape)),
-        intensity=intensity,
-        rgb_dimmed_encoded=dimmed,
-        magnitude=np.array(mb),
-        photopic_luminance_cd_m2=lp,
-        scotopic_ratio=np.array(sp),
-        cone_weight=cone,
-        saturation=np.array(np.broadcast_to(factor, shape)),
-        compensation_reached=reached,
-    )
+    return {"rgb": rgb, "enc": settings.display.encode(rgb),
+            "dim": settings.display.encode(rgb * intensity[:, None]), "intensity": intensity,
+            "lp": lp, "cone": cone, "sat": factor, "reached": reached}
 
 
 def _apply_chroma(settings: Settings, lab: np.ndarray, factor: np.ndarray, to_xyz, chain):
@@ -280,7 +324,7 @@ def _apply_chroma(settings: Settings, lab: np.ndarray, factor: np.ndarray, to_xy
     Returns the RGB, whether the scaled colour was inside the gamut before mapping, and the
     chroma factor achieved (``factor`` where inside; less where the gamut cut it).
     """
-    tint = settings.night_tint * (1.0 - np.clip(factor, 0.0, 1.0))
+    tint = settings.night_tint * (1.0 - np.minimum(np.maximum(factor, 0.0), 1.0))
     lab_out = np.stack([lab[..., 0],
                         factor * lab[..., 1] + tint * nv.NIGHT_TINT_AB[0],
                         factor * lab[..., 2] + tint * nv.NIGHT_TINT_AB[1]], axis=-1)
@@ -296,7 +340,33 @@ def _apply_chroma(settings: Settings, lab: np.ndarray, factor: np.ndarray, to_xy
             achieved[bad] = np.where(c_full > 1e-12, np.hypot(got[:, 1], got[:, 2]) / c_full,
                                      achieved[bad])
     rgb = np.maximum(rgb, 0.0)
-    return np.clip(rgb / rgb.max(axis=-1, keepdims=True), 0.0, 1.0), inside, achieved
+    rgb /= channel_max(rgb)[..., None]
+    return np.minimum(rgb, 1.0), inside, achieved
+
+
+def display_rgb_from_XYZ(settings: Settings, XYZ):
+    """Steps 3-5 of the chain for any tristimulus values: display RGB and in-gamut flags.
+
+    The same adaptation, display matrix, normalisation and gamut mapping that stars get, for
+    stimuli that are not Planckian (e.g. monochromatic light for a spectrum plot).
+
+    Parameters
+    ----------
+    settings : Settings
+    XYZ : array_like
+        (..., 3) tristimulus values with Y = 1 in the settings' observer.
+
+    Returns
+    -------
+    (rgb_linear, in_gamut) : (..., 3) display-linear RGB in the cube, (...,) bool before mapping.
+
+    References
+    ----------
+    As :func:`render` (CIE 15:2004; SMPTE RP 177-1993; :mod:`engine.gamut`).
+    """
+    XYZ = np.asarray(XYZ, dtype=np.float64)
+    rgb, ok = _display_rgb(settings, XYZ.reshape(-1, 3))
+    return rgb.reshape(XYZ.shape), ok.reshape(XYZ.shape[:-1])
 
 
 def _display_rgb(settings: Settings, XYZ: np.ndarray):
@@ -307,7 +377,7 @@ def _display_rgb(settings: Settings, XYZ: np.ndarray):
     if upper:
         rgb = rgb * settings.luminance_Y
     else:
-        rgb = rgb / rgb.max(axis=-1, keepdims=True)
+        rgb = rgb / channel_max(rgb)[..., None]
     ok = in_gamut(rgb, upper)
     out = rgb.copy()
     bad = ~ok
@@ -315,5 +385,5 @@ def _display_rgb(settings: Settings, XYZ: np.ndarray):
         out[bad] = map_to_gamut(rgb[bad], settings.gamut, chain.oklab_xyz_from_rgb,
                                 chain.luminance_row, upper)
     if not upper:
-        out = out / out.max(axis=-1, keepdims=True)
-    return np.clip(out, 0.0, 1.0), ok
+        out = out / channel_max(out)[..., None]
+    return np.minimum(np.maximum(out, 0.0), 1.0), ok

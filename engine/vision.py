@@ -132,7 +132,7 @@ def photopic_illuminance_lux(magnitude, gain=1.0) -> np.ndarray:
 
     References: Allen's Astrophysical Quantities (2000) for E0 (from memory; see module docstring).
     """
-    return E0_LUX * np.power(10.0, -0.4 * np.asarray(magnitude, dtype=np.float64)) * gain
+    return E0_LUX * np.exp(-0.4 * np.log(10.0) * np.asarray(magnitude, dtype=np.float64)) * gain
 
 
 def mesopic_cie191(photopic_cd_m2, scotopic_cd_m2, iterations: int = 400):
@@ -179,7 +179,7 @@ def mesopic_cie191(photopic_cd_m2, scotopic_cd_m2, iterations: int = 400):
     for step in range(iterations):
         prev = m
         f = (m + (1.0 - m) * r_act) / (m + (1.0 - m) * v0)
-        m = np.clip(b_act + MES2_B * np.log10(f), 0.0, 1.0)
+        m = np.minimum(np.maximum(b_act + MES2_B * np.log10(f), 0.0), 1.0)
         if step % 4 == 3:
             moving = np.abs(m - prev) >= 1e-10
             m_all[active] = m
@@ -231,7 +231,7 @@ def intensity_from_magnitude(magnitude, bright: float, faint: float, curve: str 
     if curve == "log":
         out = (faint - m) / (faint - bright)
     else:
-        f = np.power(10.0, -0.4 * (m - bright))  # 1 at bright
+        f = np.exp(-0.4 * np.log(10.0) * (m - bright))  # 10^(-0.4 (m - bright)): 1 at bright
         f_faint = 10.0 ** (-0.4 * (faint - bright))
         if curve == "linear":
             out = (f - f_faint) / (1.0 - f_faint)
