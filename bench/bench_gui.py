@@ -1,0 +1,187 @@
+"""Window speed: slider step to finished repaint, and cold start to a shown window.
+
+Run: ``QT_QPA_PLATFORM=offscreen python bench/bench_gui.py [--steps 300] [--starts 5]``
+
+1. Slider step to repaint: the window is shown at 1280 x 800 on the offscreen
+   platform; each step is one ``SliderSingleStepAdd``/``Sub`` action (one mired,
+   as the arrow keys do), then events are processed until a pass of the event
+   loop paints nothing more (an application-wide filter counts paint events);
+   the time runs to the end of the last pass that painted. Every step must
+   have repainted the current swatch, the spectrum plot and the chromaticity
+   diagram (the strips repaint when their picture changes). The steps are
+   15 runs of single steps from starting points spread over the whole slider
+   (the jump to each start is not timed). Goal: median <= 8 ms (half a 60 Hz
+   frame).
+2. Cold start: a fresh interpreter (``python -c``) imports the window, builds
+   it, shows it and reports when the first paint has been processed; timed
+   from before the process is spawned to the moment its line arrives. Goal: < 2 s.
+
+Both figures are printed with their goal and the ratio measured / goal.
+"""
+
+from __future__ import annotations
+
+import argparse
+import os
+import statistics
+import subprocess
+import sys
+import time
+from pathlib import Path
+
+os.environ.setdefault("QT_QPA_PLATFORM", "offscreen")
+ROOT = Path(__file__).resolve().parent.parent
+sys.path.insert(0, str(ROOT))
+
+STEP_GOAL_MS = 8.0
+START_GOAL_S = 2.0
+
+
+def _percentile(values, q):
+    s = sorted(values)
+    k = (len(s) - 1) * q
+    lo, hi = int(k), min(int(k) + 1, len(s) - 1)
+    return s[lo] + (s[hi] - s[lo]) * (k - lo)
+
+
+def bench_steps(steps: int, table: bool = True) -> list[float]:
+    from PySide6 import QtCore, QtWidgets
+
+    from gui import create_window
+
+    app = QtWidgets.QApplication.instance() or QtWidgets.QApplication([])
+    window = create_window(store=None)
+    window.resize(1280, 800)
+    window.show()
+    window.session.use_slider_table(table)
+    for _ in range(5):
+        app.processEvents()
+    if window.session.table_ready != table:
+        raise RuntimeError("the slider table is not in the state asked for")
+
+    class PaintCounter(QtCore.QObject):
+        def __init__(self):
+            super().__init__()
+            self.count = 0
+
+        def eventFilter(self, obj, event):  # noqa: N802 - Qt API
+            if event.type() == QtCore.QEvent.Type.Paint:
+                self.count += 1
+            return False
+
+    everything = PaintCounter()
+    app.installEventFilter(everything)
+    must = []
+    for widget in (window.current.swatch, window.spectrum.viewport(),
+                   window.chromaticity.viewport()):
+        c = PaintCounter()
+        widget.installEventFilter(c)
+        must.append(c)
+    slider = window.audition.slider
+    add = QtWidgets.QAbstractSlider.SliderAction.SliderSingleStepAdd
+    sub = QtWidgets.QAbstractSlider.SliderAction.SliderSingleStepSub
+    runs = 15  # runs of single steps from starting points spread over the whole slider
+    per_run = -(-steps // runs)
+    times = []
+    for i in range(steps):
+        if i % per_run == 0:
+            run = i // per_run
+            slider.setValue(round(slider.maximum() * (run + 0.5) / runs))  # untimed jump
+            for _ in range(3):
+                app.processEvents()
+            direction = add if run % 2 == 0 else sub
+        before = [c.count for c in must]
+        t0 = time.perf_counter()
+        slider.triggerAction(direction)
+        t_end = time.perf_counter()
+        for _ in range(20):
+            n = everything.count
+            app.processEvents()
+            if everything.count == n:
+                break
+            t_end = time.perf_counter()
+        if not all(c.count > b for c, b in zip(must, before)):
+            raise RuntimeError("a view did not repaint after a slider step")
+        times.append((t_end - t0) * 1e3)
+    app.removeEventFilter(everything)
+    window.close()
+    return times
+
+
+def bench_table_build(repeats: int = 5) -> float:
+    """Median time to render every slider position for fresh settings, ms."""
+    from PySide6 import QtWidgets
+
+    from engine.settings import Settings
+    from gui import create_window
+
+    QtWidgets.QApplication.instance() or QtWidgets.QApplication([])
+    window = create_window(store=None)
+    out = []
+    for i in range(repeats):
+        window.session.set_settings(Settings(luminance_Y=0.5 - 0.01 * i))  # a new object each time
+        t0 = time.perf_counter()
+        window.session.build_table()
+        out.append((time.perf_counter() - t0) * 1e3)
+    window.close()
+    return statistics.median(out)
+
+
+CHILD = r"""
+import os, sys
+os.environ.setdefault("QT_QPA_PLATFORM", "offscreen")
+from PySide6 import QtCore, QtWidgets
+app = QtWidgets.QApplication([])
+from gui import create_window
+w = create_window(store=None)
+w.resize(1280, 800)
+w.show()
+app.processEvents()
+app.processEvents()
+sys.stdout.write("shown\n")
+sys.stdout.flush()
+"""
+
+
+def bench_start(starts: int) -> list[float]:
+    env = dict(os.environ, QT_QPA_PLATFORM="offscreen")
+    out = []
+    for _ in range(starts):
+        t0 = time.perf_counter()
+        proc = subprocess.Popen([sys.executable, "-c", CHILD], cwd=ROOT, env=env,
+                                stdout=subprocess.PIPE, stderr=subprocess.DEVNULL, text=True)
+        line = proc.stdout.readline()
+        t1 = time.perf_counter()
+        proc.wait()
+        if line.strip() != "shown":
+            raise RuntimeError("the window did not start")
+        out.append(t1 - t0)
+    return out
+
+
+def main(argv=None) -> int:
+    p = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    p.add_argument("--steps", type=int, default=300, help="slider steps (>= 200)")
+    p.add_argument("--starts", type=int, default=5, help="cold starts")
+    a = p.parse_args(argv)
+    steps = bench_steps(max(a.steps, 200))
+    med, p95 = statistics.median(steps), _percentile(steps, 0.95)
+    direct = bench_steps(max(a.steps, 200), table=False)
+    dmed, dp95 = statistics.median(direct), _percentile(direct, 0.95)
+    build = bench_table_build()
+    starts = bench_start(a.starts)
+    smed = statistics.median(starts)
+    print(f"slider step -> repaint, {len(steps)} steps, 1280 x 800 offscreen")
+    print(f"  median {med:7.2f} ms   goal {STEP_GOAL_MS:.1f} ms   ratio {med / STEP_GOAL_MS:.2f}")
+    print(f"  p95    {p95:7.2f} ms   (max {max(steps):.2f} ms)")
+    print(f"  without the slider table (every step rendered directly): median {dmed:.2f} ms, "
+          f"p95 {dp95:.2f} ms; table / direct = {med / dmed:.2f}")
+    print(f"  building the table after a settings change: {build:.1f} ms (idle time)")
+    print(f"cold start -> shown window, {len(starts)} runs")
+    print(f"  median {smed:7.2f} s    goal {START_GOAL_S:.1f} s    ratio {smed / START_GOAL_S:.2f}"
+          f"   (min {min(starts):.2f} s, max {max(starts):.2f} s)")
+    return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())

@@ -1,0 +1,620 @@
+"""Data for the window's views, computed by the engine so that the window draws only.
+
+The window (:mod:`gui`) may not compute colour. Everything it draws that is not
+a plain render of a temperature comes from here, and every colour here goes
+through the same chain as :func:`engine.render.render`:
+
+- :class:`MiredScale`: slider positions evenly spaced in mired (reciprocal
+  megakelvin, ``1e6 / T``; common practice: equal mired steps look roughly
+  equally large across the range, Wyszecki & Stiles 1982 section 3.11).
+- :func:`spectral_band_colours`: display colours of monochromatic stimuli
+  (the visible band of the spectrum plot), through the display chain and the
+  settings' gamut mapping.
+- :func:`planckian_locus_xy`, :func:`chromaticity_diagram`: the lines and
+  points of the chromaticity diagram (CIE 15:2004 section 7.3).
+- :func:`planck_curve`, :func:`efficiency_overlays`: the spectrum plot.
+- :func:`magnitude_ladder`, :func:`load_demo_cluster`, :func:`sky_image`: the
+  magnitude strip and the small sky preview of the invented demo cluster.
+
+References
+----------
+CIE 15:2004 Colorimetry, 3rd ed. (locus, Planckian radiators, summation);
+Planck (1901); G. Wyszecki & W. S. Stiles (1982), *Color Science*, 2nd ed.,
+Wiley, section 3.11 (mired); ITU-R BT.709 / common practice for drawing a
+point source as a small Gaussian spot.
+"""
+
+from __future__ import annotations
+
+import csv
+from dataclasses import dataclass
+from pathlib import Path
+
+import numpy as np
+
+from engine.errors import InputRangeError, SettingsError
+from engine.observers import XYZ_to_xy, check_observer, cmfs, spectral_locus_xy, v_photopic
+from engine.observers import v_scotopic
+from engine.render import blackbody_XYZ, display_rgb_from_XYZ, render, to_8bit
+from engine.settings import Settings
+from engine.sources import check_temperature
+from engine.spectrum import peak_wavelength_nm, planck_radiance
+from engine.tables import wavelengths_nm
+from engine.whites import resolve_white
+
+#: The visible band marked on the spectrum plot, nm (CIE 15:2004 tabulates 380-780 nm as the
+#: range of the visible spectrum that matters for colorimetry; common practice).
+VISIBLE_BAND_NM = (380.0, 780.0)
+#: Default range of the temperature slider and strips, K: brown-dwarf-cool to O-star-hot
+#: (covers M9 to O5 dwarfs, common practice); the number entry accepts the full engine range.
+AUDITION_RANGE_K = (1000.0, 40000.0)
+#: Wavelength range of the spectrum plot, nm: wider than the eye's so that the Planck peak of
+#: cool stars (near-infrared) and the ultraviolet side of hot stars show.
+SPECTRUM_PLOT_RANGE_NM = (150.0, 2500.0)
+#: Temperatures labelled on the Planckian locus (round values; common practice).
+LOCUS_TICKS_K = (1000.0, 1500.0, 2000.0, 3000.0, 4000.0, 5000.0, 6500.0, 10000.0, 20000.0)
+#: Wavelengths labelled on the spectral locus, nm.
+SPECTRAL_TICKS_NM = (460.0, 480.0, 490.0, 500.0, 520.0, 540.0, 560.0, 580.0, 600.0, 620.0)
+
+
+def temperature_to_mired(temperature_K) -> np.ndarray:
+    """Mired (micro reciprocal degree) of a temperature, ``1e6 / T``.
+
+    References
+    ----------
+    Wyszecki & Stiles (1982), *Color Science*, section 3.11 (mired scale).
+
+    Examples
+    --------
+    >>> float(temperature_to_mired(5000.0))
+    200.0
+    """
+    return 1e6 / np.asarray(temperature_K, dtype=np.float64)
+
+
+def mired_to_temperature(mired) -> np.ndarray:
+    """Temperature in kelvin of a mired value, ``1e6 / mired`` (Wyszecki & Stiles 1982, 3.11).
+
+    Examples
+    --------
+    >>> float(mired_to_temperature(250.0))
+    4000.0
+    """
+    return 1e6 / np.asarray(mired, dtype=np.float64)
+
+
+@dataclass(frozen=True)
+class MiredScale:
+    """Integer positions 0..``steps`` evenly spaced in mired between two temperatures.
+
+    Position 0 is the coolest end (``temperature_min_K``), ``steps`` the
+    hottest, so that the temperature rises to the right of a slider.
+
+    Parameters
+    ----------
+    temperature_min_K, temperature_max_K : float
+        The ends, within the engine's 500-100 000 K.
+    mired_per_step : float
+        Width of one position in mired.
+
+    References
+    ----------
+    Wyszecki & Stiles (1982), section 3.11: equal mired differences are roughly
+    equally perceptible along the Planckian locus (common practice).
+
+    Examples
+    --------
+    >>> s = MiredScale(1000.0, 40000.0, 0.25)
+    >>> s.steps, float(s.temperature_at(0)), float(s.temperature_at(s.steps))
+    (3900, 1000.0, 40000.0)
+    """
+
+    temperature_min_K: float = AUDITION_RANGE_K[0]
+    temperature_max_K: float = AUDITION_RANGE_K[1]
+    mired_per_step: float = 0.25
+
+    def __post_init__(self):
+        check_temperature([self.temperature_min_K, self.temperature_max_K])
+        if not self.temperature_max_K > self.temperature_min_K:
+            raise InputRangeError(f"temperature range {self.temperature_min_K:g}-"
+                                  f"{self.temperature_max_K:g} K is empty")
+        if not self.mired_per_step > 0:
+            raise InputRangeError(f"mired_per_step {self.mired_per_step:g} must be positive")
+
+    @property
+    def mired_cool(self) -> float:
+        """Mired of the cool end (the largest mired)."""
+        return 1e6 / self.temperature_min_K
+
+    @property
+    def mired_hot(self) -> float:
+        """Mired of the hot end (the smallest mired)."""
+        return 1e6 / self.temperature_max_K
+
+    @property
+    def steps(self) -> int:
+        """Number of steps between the ends (the last position)."""
+        return int(round((self.mired_cool - self.mired_hot) / self.mired_per_step))
+
+    def mired_at(self, position) -> np.ndarray:
+        """Mired of a (possibly fractional) position; the ends are exact."""
+        p = np.asarray(position, dtype=np.float64)
+        frac = p / self.steps
+        return self.mired_cool + frac * (self.mired_hot - self.mired_cool)
+
+    def temperature_at(self, position) -> np.ndarray:
+        """Temperature in kelvin at a (possibly fractional) position."""
+        return mired_to_temperature(self.mired_at(position))
+
+    def position_of(self, temperature_K) -> np.ndarray:
+        """Nearest integer position of a temperature (clipped to the ends)."""
+        m = temperature_to_mired(temperature_K)
+        p = (m - self.mired_cool) / (self.mired_hot - self.mired_cool) * self.steps
+        return np.clip(np.rint(p), 0, self.steps).astype(int)
+
+    def fraction_of(self, temperature_K) -> np.ndarray:
+        """Position of a temperature as a fraction 0..1 of the scale (clipped)."""
+        m = temperature_to_mired(temperature_K)
+        return np.clip((m - self.mired_cool) / (self.mired_hot - self.mired_cool), 0.0, 1.0)
+
+    def cell_temperatures(self, cells: int) -> np.ndarray:
+        """Temperatures at the centres of ``cells`` equal-mired cells spanning the scale."""
+        centres = (np.arange(cells) + 0.5) / cells * self.steps
+        return self.temperature_at(centres)
+
+
+@dataclass(frozen=True)
+class BandColours:
+    """Display colours of monochromatic stimuli (see :func:`spectral_band_colours`)."""
+
+    wavelength_nm: np.ndarray
+    rgb_linear: np.ndarray
+    rgb_encoded: np.ndarray
+    rgb_8bit: np.ndarray
+    in_gamut: np.ndarray
+
+
+def spectral_band_colours(settings: Settings, wavelength_nm=None) -> BandColours:
+    """Display colours of monochromatic light, gamut-mapped by the settings' method.
+
+    The tristimulus values of a monochromatic stimulus are the observer's
+    colour-matching functions at its wavelength (CIE 15:2004 section 7.1);
+    they go through the render path's display chain (adaptation from the
+    scene white, display matrix, gamut mapping) and the display's transfer
+    function. The band is shown at full brightness: max-channel normalisation
+    is used whatever the settings say, so that every hue is visible.
+
+    Parameters
+    ----------
+    settings : Settings
+        Observer, whites, display and gamut method.
+    wavelength_nm : array_like, optional
+        Wavelengths within the tables' 360-830 nm; default 380-780 nm at 1 nm.
+
+    Returns
+    -------
+    BandColours
+        ``rgb_linear``, ``rgb_encoded`` (0-1) and ``rgb_8bit`` (uint8) of shape
+        (N, 3); ``in_gamut`` (N,) before mapping (False for every spectral
+        colour on real displays, whose triangles lie inside the locus).
+
+    Raises
+    ------
+    InputRangeError
+        A wavelength outside 360-830 nm.
+
+    References
+    ----------
+    CIE 15:2004 sections 7.1 and 7.3; SMPTE RP 177-1993; the gamut methods of
+    :mod:`engine.gamut`.
+    """
+    wl = (np.arange(VISIBLE_BAND_NM[0], VISIBLE_BAND_NM[1] + 0.5)
+          if wavelength_nm is None else np.asarray(wavelength_nm, dtype=np.float64))
+    grid = wavelengths_nm()
+    bad = ~np.isfinite(wl) | (wl < grid[0]) | (wl > grid[-1])
+    if np.any(bad):
+        raise InputRangeError(f"wavelength {wl[bad].flat[0]:g} nm is outside the tabulated "
+                              f"{grid[0]:g}-{grid[-1]:g} nm")
+    table = cmfs(settings.observer)
+    XYZ = np.stack([np.interp(wl, grid, table[:, i]) for i in range(3)], axis=-1)
+    # Scale each stimulus to Y = 1 (the chain's input); the tiny ends keep their direction.
+    XYZ = XYZ / np.maximum(XYZ[..., 1:2], 1e-12)
+    full = settings if settings.normalisation == "max-channel" else settings.replace(
+        normalisation="max-channel")
+    flat = XYZ.reshape(-1, 3)
+    rgb, ok = display_rgb_from_XYZ(full, flat)
+    enc = full.display.encode(rgb)
+    shape = wl.shape
+    return BandColours(wl, rgb.reshape(shape + (3,)), enc.reshape(shape + (3,)),
+                       to_8bit(enc).reshape(shape + (3,)), ok.reshape(shape))
+
+
+def planckian_locus_xy(observer: str, temperature_K) -> np.ndarray:
+    """Chromaticities of Planckian radiators, the Planckian locus.
+
+    Parameters
+    ----------
+    observer : str
+        ``cie1931`` or ``cie1964``.
+    temperature_K : array_like
+        Temperatures, 500-100 000 K; any shape.
+
+    Returns
+    -------
+    numpy.ndarray
+        (..., 2) x, y by summation at 1 nm over 360-830 nm.
+
+    References
+    ----------
+    CIE 15:2004 sections 3.1 and 7.3; Planck (1901).
+
+    Examples
+    --------
+    >>> [round(float(v), 4) for v in planckian_locus_xy("cie1931", 2856.0)]  # ~CIE illuminant A
+    [0.4475, 0.4074]
+    """
+    t = check_temperature(temperature_K)
+    return XYZ_to_xy(blackbody_XYZ(t, check_observer(observer)))
+
+
+@dataclass(frozen=True)
+class ChromaticityDiagram:
+    """Everything drawn on the chromaticity diagram, in the observer's x, y.
+
+    Attributes
+    ----------
+    observer : the observer whose diagram this is.
+    spectral_locus_xy : (N, 2) closed outline (spectral locus and purple line).
+    spectral_tick_nm, spectral_tick_xy : labelled wavelengths and their points.
+    planckian_temperature_K, planckian_xy : dense Planckian locus.
+    tick_temperature_K, tick_xy : labelled temperatures on it.
+    gamut_xy : (4, 2) the display's primaries R, G, B, R (closed triangle).
+    scene_white_xy, display_white_xy : (2,) the two whites.
+    """
+
+    observer: str
+    spectral_locus_xy: np.ndarray
+    spectral_tick_nm: np.ndarray
+    spectral_tick_xy: np.ndarray
+    planckian_temperature_K: np.ndarray
+    planckian_xy: np.ndarray
+    tick_temperature_K: np.ndarray
+    tick_xy: np.ndarray
+    gamut_xy: np.ndarray
+    scene_white_xy: np.ndarray
+    display_white_xy: np.ndarray
+
+
+def chromaticity_diagram(settings: Settings, temperature_min_K: float = 1000.0,
+                         temperature_max_K: float = 100000.0,
+                         tick_temperatures_K=LOCUS_TICKS_K) -> ChromaticityDiagram:
+    """Lines and points of the chromaticity diagram for a settings object.
+
+    Parameters
+    ----------
+    settings : Settings
+        Observer (which diagram), scene white and display.
+    temperature_min_K, temperature_max_K : float
+        Extent of the Planckian locus drawn (mired-spaced, 400 points).
+    tick_temperatures_K : sequence of float
+        Temperatures to label on the Planckian locus.
+
+    Returns
+    -------
+    ChromaticityDiagram
+
+    Notes
+    -----
+    The display's primaries and white are specified in CIE 1931 x, y (as the
+    display standards give them) and are drawn as given, also on the 10 degree
+    diagram.
+
+    References
+    ----------
+    CIE 15:2004 section 7.3 (spectral locus, purple boundary, Planckian locus).
+    """
+    obs = settings.observer
+    locus = spectral_locus_xy(obs)
+    closed = np.vstack([locus, locus[:1]])
+    wl = wavelengths_nm()
+    table = cmfs(obs)
+    ticks_nm = np.asarray(SPECTRAL_TICKS_NM)
+    tick_XYZ = np.stack([np.interp(ticks_nm, wl, table[:, i]) for i in range(3)], axis=-1)
+    scale = MiredScale(temperature_min_K, temperature_max_K, 1.0)
+    temps = scale.temperature_at(np.linspace(0, scale.steps, 400))
+    ticks = np.asarray(tick_temperatures_K, dtype=np.float64)
+    d = settings.display
+    gamut = np.array([d.red_xy, d.green_xy, d.blue_xy, d.red_xy])
+    return ChromaticityDiagram(
+        observer=obs,
+        spectral_locus_xy=closed,
+        spectral_tick_nm=ticks_nm,
+        spectral_tick_xy=XYZ_to_xy(tick_XYZ),
+        planckian_temperature_K=temps,
+        planckian_xy=planckian_locus_xy(obs, temps),
+        tick_temperature_K=ticks,
+        tick_xy=planckian_locus_xy(obs, ticks),
+        gamut_xy=gamut,
+        scene_white_xy=np.array(resolve_white(settings.scene_white, obs).xy),
+        display_white_xy=np.array(d.white_xy),
+    )
+
+
+@dataclass(frozen=True)
+class PlanckCurve:
+    """Relative spectral radiance of one temperature over a wavelength range."""
+
+    temperature_K: float
+    wavelength_nm: np.ndarray
+    relative_radiance: np.ndarray
+    peak_nm: float
+
+
+def spectrum_plot_wavelengths_nm(step_outside_nm: float = 5.0,
+                                 step_band_nm: float = 1.0) -> np.ndarray:
+    """Wavelengths for the spectrum plot: finer inside the visible band, coarser outside.
+
+    Covers :data:`SPECTRUM_PLOT_RANGE_NM`; the band edges 380 and 780 nm are grid points.
+
+    References
+    ----------
+    CIE 15:2004 (380-780 nm, the range that matters for colorimetry).
+    """
+    lo, hi = SPECTRUM_PLOT_RANGE_NM
+    a, b = VISIBLE_BAND_NM
+    return np.concatenate([np.arange(lo, a, step_outside_nm),
+                           np.arange(a, b + 0.5 * step_band_nm, step_band_nm),
+                           np.arange(b + step_outside_nm, hi + 0.5, step_outside_nm)])
+
+
+def planck_curve(temperature_K: float, wavelength_nm) -> PlanckCurve:
+    """Planck spectral radiance over ``wavelength_nm``, scaled so that its maximum there is 1.
+
+    Parameters
+    ----------
+    temperature_K : float
+        500-100 000 K.
+    wavelength_nm : array_like
+        Wavelengths in nm, > 0 (may extend beyond the visible band).
+
+    Returns
+    -------
+    PlanckCurve
+        ``relative_radiance`` (N,), and ``peak_nm`` from Wien's displacement
+        law (may lie outside the range given).
+
+    References
+    ----------
+    Planck (1901); CODATA 2018 (Wien's constant), via :mod:`engine.spectrum`.
+    """
+    t = float(check_temperature(temperature_K))
+    wl = np.asarray(wavelength_nm, dtype=np.float64)
+    if wl.size == 0 or np.any(~np.isfinite(wl) | (wl <= 0)):
+        raise InputRangeError("wavelengths must be positive and finite")
+    radiance = planck_radiance(t, wl)
+    return PlanckCurve(t, wl, radiance / radiance.max(), float(peak_wavelength_nm(t)))
+
+
+def efficiency_overlays(observer: str = "cie1931") -> dict[str, tuple[np.ndarray, np.ndarray]]:
+    """Curves to overlay on the spectrum plot, on the tables' 360-830 nm grid.
+
+    Returns
+    -------
+    dict
+        ``"V"`` photopic V(lambda) and ``"V'"`` scotopic V'(lambda), both with
+        peak 1 as tabulated; ``"x"``, ``"y"``, ``"z"`` the observer's
+        colour-matching functions, all three divided by the largest value of
+        z-bar so that their relative heights stay as tabulated and they fit
+        a 0-1 axis. Each value is ``(wavelength_nm, values)``.
+
+    References
+    ----------
+    CIE S 010:2004 / ISO 23539:2005 (V, V'); CIE 15:2004 Tables T.4, T.5 (CMFs).
+    """
+    wl = wavelengths_nm()
+    table = cmfs(observer)
+    scale = table.max()
+    return {"V": (wl, np.asarray(v_photopic())), "V'": (wl, np.asarray(v_scotopic())),
+            "x": (wl, table[:, 0] / scale), "y": (wl, table[:, 1] / scale),
+            "z": (wl, table[:, 2] / scale)}
+
+
+def save_display_profile(display, path, overwrite: bool = True) -> None:
+    """Write a display as a JSON display profile (format: :mod:`engine.displays`), atomically.
+
+    The text is ``json.dumps(display.to_profile(), indent=2)`` plus a newline;
+    :func:`engine.displays.load_display_profile` reads it back to an equal display.
+
+    References
+    ----------
+    RFC 8259 (JSON); :mod:`engine.atomic` for the write.
+    """
+    import json
+
+    from engine.atomic import write_atomic
+    from engine.displays import get_display
+
+    text = json.dumps(get_display(display).to_profile(), indent=2) + "\n"
+    write_atomic(path, text.encode("utf-8"), overwrite=overwrite)
+
+
+def has_vision(settings: Settings) -> bool:
+    """Whether this engine's settings carry the night-vision fields (``aperture_mm`` etc.).
+
+    References
+    ----------
+    The engine API contract (night-vision fields of :class:`engine.settings.Settings`).
+    """
+    return hasattr(settings, "aperture_mm") and hasattr(settings, "magnitude_faint")
+
+
+def magnitude_ladder(settings: Settings, step: float = 1.0) -> np.ndarray:
+    """Magnitudes for the brightness strip: from ``magnitude_bright`` to ``magnitude_faint``.
+
+    Steps of ``step`` magnitudes, both ends included (the faint end is added if
+    the steps do not land on it). Without the night-vision fields, -1.5 to 6.5
+    (the engine defaults; naked-eye limit about 6.5, common practice).
+
+    References
+    ----------
+    Pogson (1856) magnitude scale; :mod:`engine.vision` (tone curve ends).
+    """
+    bright = float(getattr(settings, "magnitude_bright", -1.5))
+    faint = float(getattr(settings, "magnitude_faint", 6.5))
+    mags = np.arange(bright, faint + 1e-9, step)
+    if faint - mags[-1] > 1e-9:
+        mags = np.append(mags, faint)
+    return mags
+
+
+@dataclass(frozen=True)
+class Cluster:
+    """A small star list: names, positions (degrees), temperatures and magnitudes."""
+
+    name: np.ndarray
+    ra_deg: np.ndarray
+    dec_deg: np.ndarray
+    temperature_K: np.ndarray
+    magnitude: np.ndarray
+
+    def __len__(self) -> int:
+        return int(self.name.size)
+
+
+DEMO_CLUSTER_COLUMNS = ("name", "ra_deg", "dec_deg", "temperature_K", "magnitude")
+
+
+def load_demo_cluster(path=None) -> Cluster:
+    """Read a star list in the demo-cluster CSV layout (default: the invented ``assets`` cluster).
+
+    The CSV has a header row with the columns ``name, ra_deg, dec_deg,
+    temperature_K, magnitude`` (extra columns are ignored).
+
+    Raises
+    ------
+    SettingsError
+        Unreadable file, missing column or a value that is not a number.
+
+    References
+    ----------
+    RFC 4180 (CSV); the data are invented (``assets/make_demo_cluster.py``).
+    """
+    if path is None:
+        from assets import asset_path
+
+        path = asset_path("demo_cluster.csv")
+    path = Path(str(path))
+    try:
+        with open(path, newline="", encoding="utf-8") as fh:
+            rows = list(csv.DictReader(line for line in fh if not line.startswith("#")))
+    except OSError as exc:
+        raise SettingsError(f"{path}: cannot read star list ({exc.strerror})") from None
+    if not rows:
+        raise SettingsError(f"{path}: star list is empty")
+    missing = [c for c in DEMO_CLUSTER_COLUMNS if c not in rows[0]]
+    if missing:
+        raise SettingsError(f"{path}: missing column {missing[0]!r}; needed: "
+                            f"{', '.join(DEMO_CLUSTER_COLUMNS)}")
+    cols = {}
+    for c in DEMO_CLUSTER_COLUMNS[1:]:
+        try:
+            cols[c] = np.array([float(r[c]) for r in rows])
+        except (TypeError, ValueError):
+            raise SettingsError(f"{path}: column {c!r} holds a value that is not a number") \
+                from None
+    check_temperature(cols["temperature_K"], f"{path}: temperature")
+    return Cluster(np.array([r["name"] for r in rows]), cols["ra_deg"], cols["dec_deg"],
+                   cols["temperature_K"], cols["magnitude"])
+
+
+@dataclass(frozen=True)
+class SkyImage:
+    """A rendered preview of a star list: 8-bit pixels and where each star landed."""
+
+    rgb_8bit: np.ndarray  # (H, W, 3) uint8, C-contiguous
+    x_px: np.ndarray
+    y_px: np.ndarray
+    radius_px: np.ndarray
+    in_gamut: np.ndarray
+    magnitudes_rendered: bool
+
+
+def sky_image(settings: Settings, cluster: Cluster, width_px: int, height_px: int,
+              radius_px=(0.7, 2.6)) -> SkyImage:
+    """Draw a star list as it would appear on the display, with the current settings.
+
+    Each star's colour and intensity come from :func:`engine.render.render`
+    with its temperature and magnitude (night vision, tone curve). It is drawn
+    as a small Gaussian spot in display-linear light; spots add; where a sum
+    exceeds 1 the pixel is scaled down to keep its hue; then the display's
+    transfer function encodes the picture. Brighter stars get wider spots
+    (between ``radius_px`` ends, linear in magnitude over the settings' bright
+    and faint magnitudes), a drawing convention of star projectors and sky
+    charts (common practice), which does not change any star's colour.
+
+    Parameters
+    ----------
+    settings : Settings
+    cluster : Cluster
+        Positions are projected onto a tangent plane at the list's centre
+        (gnomonic projection, common practice) and fitted into the picture.
+    width_px, height_px : int
+        Picture size, 16-4096 each.
+    radius_px : (float, float)
+        Gaussian sigma of the spot, pixels, at the faint and at the bright end.
+
+    Returns
+    -------
+    SkyImage
+
+    References
+    ----------
+    Snyder (1987), *Map Projections: A Working Manual*, USGS PP 1395, p. 164
+    (gnomonic projection); :func:`engine.render.render` for the colours.
+    """
+    w, h = int(width_px), int(height_px)
+    if not (16 <= w <= 4096 and 16 <= h <= 4096):
+        raise InputRangeError(f"picture size {w} x {h} is outside 16-4096 pixels")
+    ra = np.radians(cluster.ra_deg)
+    dec = np.radians(cluster.dec_deg)
+    ra0 = np.arctan2(np.mean(np.sin(ra)), np.mean(np.cos(ra)))
+    dec0 = 0.5 * (dec.max() + dec.min())
+    cos_c = np.sin(dec0) * np.sin(dec) + np.cos(dec0) * np.cos(dec) * np.cos(ra - ra0)
+    xi = np.cos(dec) * np.sin(ra - ra0) / cos_c
+    eta = (np.cos(dec0) * np.sin(dec) - np.sin(dec0) * np.cos(dec) * np.cos(ra - ra0)) / cos_c
+    xi = -xi  # east to the left, as on the sky seen from inside a dome
+    margin = 0.06
+    span = max(np.ptp(xi) / (w * (1 - 2 * margin)), np.ptp(eta) / (h * (1 - 2 * margin)), 1e-12)
+    cx, cy = 0.5 * (xi.max() + xi.min()), 0.5 * (eta.max() + eta.min())
+    x = np.rint(w / 2 + (xi - cx) / span).astype(int)
+    y = np.rint(h / 2 - (eta - cy) / span).astype(int)
+
+    try:
+        r = render(settings, cluster.temperature_K, cluster.magnitude)
+        with_mags = True
+    except NotImplementedError:  # engine without the night-vision model
+        r = render(settings, cluster.temperature_K)
+        with_mags = False
+    bright = float(getattr(settings, "magnitude_bright", np.min(cluster.magnitude)))
+    faint = float(getattr(settings, "magnitude_faint", np.max(cluster.magnitude)))
+    frac = np.clip((faint - cluster.magnitude) / max(faint - bright, 1e-9), 0.0, 1.0)
+    sigma = radius_px[0] + frac * (radius_px[1] - radius_px[0])
+    colour = r.rgb_linear * np.asarray(r.intensity)[..., None]
+
+    half = int(np.ceil(3.0 * radius_px[1]))
+    offs = np.arange(-half, half + 1)
+    dx, dy = np.meshgrid(offs, offs)  # (S, S)
+    px = x[:, None, None] + dx[None]
+    py = y[:, None, None] + dy[None]
+    weight = np.exp(-0.5 * (dx[None] ** 2 + dy[None] ** 2) / sigma[:, None, None] ** 2)
+    keep = (px >= 0) & (px < w) & (py >= 0) & (py < h) & (weight > 1e-4)
+    index = (py * w + px)[keep]
+    img = np.empty((h * w, 3))
+    for c in range(3):
+        contrib = (weight * colour[:, c][:, None, None])[keep]
+        img[:, c] = np.bincount(index, weights=contrib, minlength=h * w)
+    top = img.max(axis=-1, keepdims=True)
+    img = np.where(top > 1.0, img / np.maximum(top, 1e-300), img)
+    enc = settings.display.encode(img)
+    pixels = np.ascontiguousarray(to_8bit(enc).reshape(h, w, 3))
+    return SkyImage(pixels, x, y, sigma, np.asarray(r.in_gamut), with_mags)

@@ -1,0 +1,571 @@
+"""The look controls: white, display, gamut and output, night sky (brightness and vision).
+
+Every option list is read from the engine (presets, methods, curves); every
+value goes to :meth:`gui.session.Session.change`, which asks
+:meth:`engine.settings.Settings.replace` to validate. A rejected value is
+shown under its control and the settings stay as they were.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+from functools import lru_cache
+from pathlib import Path
+
+from PySide6 import QtCore, QtWidgets
+
+from engine import displays as engine_displays
+from engine import settings as engine_settings
+from engine.errors import StarkilnError
+from engine.gamut import GAMUT_METHODS
+from engine.observers import OBSERVERS
+from engine.whites import ADAPTATIONS, WHITE_PRESETS, resolve_white
+from gui.fields import INPUT_ERRORS, Choice, ErrorLine, Field, parse_number
+from gui.fields import parse_optional_number
+
+WHITE_KINDS = ("daylight", "blackbody", "xy")
+DEMO_DISPLAY = "demo-dome"
+CUSTOM_DISPLAY = "custom"
+
+LABELS = {
+    "D50": "D50 daylight 5003 K", "D55": "D55 daylight 5503 K", "D65": "D65 daylight 6504 K",
+    "D75": "D75 daylight 7504 K", "E": "E equal energy", "DCI": "DCI projector white",
+    "daylight": "Daylight at a temperature\u2026", "blackbody": "Blackbody at a temperature\u2026",
+    "xy": "Custom chromaticity x, y\u2026",
+    "bradford": "Bradford", "cat16": "CAT16", "cat02": "CAT02", "von-kries": "von Kries",
+    "none": "None (no adaptation)",
+    "cie1931": "CIE 1931 2\u00b0", "cie1964": "CIE 1964 10\u00b0",
+    "clip": "Clip channels", "scale": "Toward white", "chroma": "Less chroma (Oklab)",
+    "max-channel": "Brightest channel 1", "luminance": "Fixed luminance Y",
+    "mesopic": "Mesopic (CIE 191)", "asinh": "asinh (soft)", "log": "log (linear in mag)",
+    "linear": "linear in flux", "srgb": "sRGB", "display-p3": "Display P3", "dci-p3": "DCI-P3",
+    "rec2020": "Rec. 2020", "rec2100-pq": "Rec. 2100 PQ",
+    DEMO_DISPLAY: "Harbourlight dome (demo)", CUSTOM_DISPLAY: "Custom profile",
+}
+VISION_LABELS = {"none": "Off: camera look"}
+
+CAUTION = ("Night vision here is an appearance model for rendering, not a basis for "
+           "lighting-design compliance: follow local codes and licensed practice for that. "
+           "For a dark-adapted dome audience avoid sudden bright flashes.")
+
+
+def engine_choices(name: str, fallback):
+    """An option list from engine.settings (or engine.vision), else the contract's list."""
+    for module_name in ("engine.settings", "engine.vision"):
+        try:
+            module = __import__(module_name, fromlist=[name])
+        except ImportError:
+            continue
+        if hasattr(module, name):
+            return tuple(getattr(module, name))
+    return tuple(fallback)
+
+
+def demo_display_path() -> Path:
+    """Path of the invented dome projector profile in ``assets``."""
+    from assets import asset_path
+
+    return Path(str(asset_path("dome_projector.json")))
+
+
+@lru_cache(maxsize=1)
+def demo_display():
+    """The invented dome projector's Display (read once), or None if the file is unreadable."""
+    try:
+        return engine_displays.load_display_profile(demo_display_path())
+    except StarkilnError:
+        return None
+
+
+def _fmt(v) -> str:
+    return "" if v is None else f"{float(v):g}"
+
+
+class _Form(QtWidgets.QWidget):
+    """A two-column form with muted labels."""
+
+    def __init__(self, parent=None):
+        super().__init__(parent)
+        self.form = QtWidgets.QFormLayout(self)
+        self.form.setContentsMargins(8, 8, 8, 8)
+        self.form.setHorizontalSpacing(8)
+        self.form.setVerticalSpacing(5)
+        self.form.setLabelAlignment(QtCore.Qt.AlignmentFlag.AlignRight |
+                                    QtCore.Qt.AlignmentFlag.AlignTop)
+
+    def row(self, label: str, widget: QtWidgets.QWidget, tip: str = "", errors=()):
+        """A labelled row; the error lines of ``widget`` (a Field) or ``errors`` go under it,
+        across the whole width of the form."""
+        lab = QtWidgets.QLabel(label, self)
+        lab.setProperty("role", "muted")
+        if tip:
+            lab.setToolTip(tip)
+            widget.setToolTip(tip)
+        self.form.addRow(lab, widget)
+        if isinstance(widget, Field):
+            errors = (widget, *errors)
+        for f in errors:
+            self.form.addRow(f.take_error())
+        return widget
+
+    def note(self, text: str) -> QtWidgets.QLabel:
+        lab = QtWidgets.QLabel(text, self)
+        lab.setWordWrap(True)
+        lab.setProperty("role", "muted")
+        self.form.addRow(lab)
+        return lab
+
+
+class WhiteTab(_Form):
+    """Scene white (preset, daylight or blackbody by temperature, or x, y); adaptation; observer."""
+
+    def __init__(self, session, parent=None):
+        super().__init__(parent)
+        self.session = session
+        kinds = tuple(WHITE_PRESETS) + WHITE_KINDS
+        self.kind = self.row("Scene white", Choice("white", kinds, self._kind_changed, LABELS),
+                             "What should look neutral on the display")
+        self.white_temperature = self.row(
+            "Temperature", Field("white-temperature",
+                                 lambda s: parse_number(s, "white temperature"),
+                                 lambda v: self._apply_white(temperature=v), width=80, unit="K",
+                                 placeholder="6500"),
+            "Daylight 4000-25000 K, blackbody 500-100000 K")
+        xy = QtWidgets.QWidget(self)
+        xy_row = QtWidgets.QHBoxLayout(xy)
+        xy_row.setContentsMargins(0, 0, 0, 0)
+        self.white_x = Field("white-x", lambda s: parse_number(s, "white x"),
+                             lambda v: self._apply_white(x=v), width=70, placeholder="x")
+        self.white_y = Field("white-y", lambda s: parse_number(s, "white y"),
+                             lambda v: self._apply_white(y=v), width=70, placeholder="y")
+        xy_row.addWidget(self.white_x, 0, QtCore.Qt.AlignmentFlag.AlignTop)
+        xy_row.addWidget(self.white_y, 0, QtCore.Qt.AlignmentFlag.AlignTop)
+        xy_row.addStretch(1)
+        self.row("Chromaticity", xy, "A custom white must lie inside the spectral locus",
+                 errors=(self.white_x, self.white_y))
+        self.use_star = QtWidgets.QPushButton("Use this star's colour as the white", self)
+        self.use_star.setObjectName("white-from-star")
+        self.use_star.clicked.connect(self._white_from_star)
+        self.form.addRow(self.use_star)
+        self.white_error = ErrorLine(self)
+        self.white_error.setObjectName("error-white")
+        self.form.addRow(self.white_error)
+        self.resolved = self.note("")
+        self.adaptation = self.row("Adaptation", Choice(
+            "adaptation", ADAPTATIONS, lambda v: session.change("adaptation", adaptation=v),
+            LABELS), "Chromatic adaptation from the scene white to the display white")
+        self.observer = self.row("Observer", Choice(
+            "observer", OBSERVERS, lambda v: session.change("observer", observer=v), LABELS),
+            "Standard colorimetric observer (CIE 15:2004)")
+        self._pending_temperature = 6500.0
+        self.refresh(force=True)
+
+    def _kind_changed(self, kind: str) -> None:
+        if kind in WHITE_PRESETS:
+            self.session.change("white", scene_white=kind)
+        else:
+            self._apply_white()
+        self._show_inputs(kind)
+
+    def _show_inputs(self, kind: str) -> None:
+        self.white_temperature.setEnabled(kind in ("daylight", "blackbody"))
+        self.white_x.setEnabled(kind == "xy")
+        self.white_y.setEnabled(kind == "xy")
+
+    def _apply_white(self, temperature=None, x=None, y=None) -> None:
+        """Build the white specification from the chosen kind and fields; the engine validates."""
+        kind = self.kind.value()
+        if kind in ("daylight", "blackbody"):
+            t = temperature if temperature is not None else parse_number(
+                self.white_temperature.text() or "6500", "white temperature")
+            spec = f"{kind}:{t:g}"
+        elif kind == "xy":
+            xv = x if x is not None else parse_number(self.white_x.text(), "white x")
+            yv = y if y is not None else parse_number(self.white_y.text(), "white y")
+            spec = f"xy:{xv:g},{yv:g}"
+        else:
+            spec = kind
+        self.session.change("white", scene_white=spec)
+
+    def _white_from_star(self) -> None:
+        t = self.session.temperature_K
+        try:
+            self.session.change("white", scene_white=f"blackbody:{t:.0f}")
+        except INPUT_ERRORS as exc:
+            self.white_error.show_error(str(exc))
+            return
+        self.white_error.clear_error()
+
+    def refresh(self, force: bool = False) -> None:
+        """Show the session's settings in the controls (fields showing an error keep it)."""
+        s = self.session.settings
+        spec = s.scene_white
+        head, _, rest = spec.partition(":")
+        kind = head if rest else spec
+        self.kind.set_value(kind)
+        self._show_inputs(kind)
+        white = resolve_white(spec, s.observer)
+        texts = [(self.white_x, f"{white.xy[0]:.4f}"), (self.white_y, f"{white.xy[1]:.4f}")]
+        if kind in ("daylight", "blackbody"):
+            texts.append((self.white_temperature, rest))
+        for field, text in texts:
+            if force or not field.has_error:
+                field.set_text(text)
+        d = s.display
+        self.resolved.setText(f"Scene white x {white.xy[0]:.4f}, y {white.xy[1]:.4f} \u2192 "
+                              f"display white x {d.white_xy[0]:.4f}, y {d.white_xy[1]:.4f}")
+        self.adaptation.set_value(s.adaptation)
+        self.observer.set_value(s.observer)
+
+
+class DisplayTab(_Form):
+    """Display preset or custom profile; open, edit and save JSON display profiles."""
+
+    message = QtCore.Signal(str, str)  # title, text: for a message box
+
+    def __init__(self, session, parent=None):
+        super().__init__(parent)
+        self.session = session
+        options = tuple(engine_displays.PRESETS) + (DEMO_DISPLAY, CUSTOM_DISPLAY)
+        self.display = self.row("Display", Choice("display", options, self._choose, LABELS),
+                                "Primaries, white, transfer function and peak luminance")
+        buttons = QtWidgets.QWidget(self)
+        row = QtWidgets.QHBoxLayout(buttons)
+        row.setContentsMargins(0, 0, 0, 0)
+        self.edit_button = QtWidgets.QPushButton("Edit\u2026", buttons)
+        self.open_button = QtWidgets.QPushButton("Open profile\u2026", buttons)
+        self.save_button = QtWidgets.QPushButton("Save profile\u2026", buttons)
+        for b in (self.edit_button, self.open_button, self.save_button):
+            row.addWidget(b)
+        self.edit_button.setObjectName("display-edit")
+        self.open_button.setObjectName("display-open")
+        self.save_button.setObjectName("display-save")
+        self.form.addRow(buttons)
+        self.error = ErrorLine(self)
+        self.error.setObjectName("error-display")
+        self.form.addRow(self.error)
+        self.summary = self.note("")
+        self.summary.setObjectName("display-summary")
+        self.summary.setTextInteractionFlags(QtCore.Qt.TextInteractionFlag.TextSelectableByMouse)
+        self.edit_button.clicked.connect(self.edit)
+        self.open_button.clicked.connect(self._open_dialog)
+        self.save_button.clicked.connect(self._save_dialog)
+        self.editor = None
+        self.refresh()
+
+    def _choose(self, key: str) -> None:
+        if key == CUSTOM_DISPLAY:
+            self.edit()
+            self.refresh()
+            return
+        if key == DEMO_DISPLAY:
+            self.open_profile(demo_display_path())
+            return
+        self.session.change("display", display=engine_displays.PRESETS[key])
+
+    def open_profile(self, path) -> bool:
+        """Load a JSON display profile; a bad file gives a message box and changes nothing."""
+        try:
+            display = engine_displays.load_display_profile(path)
+            self.session.change("display", display=display)
+        except INPUT_ERRORS as exc:
+            self.error.show_error(str(exc))
+            self.message.emit("Display profile not loaded", str(exc))
+            self.refresh()
+            return False
+        self.error.clear_error()
+        return True
+
+    def save_profile(self, path) -> bool:
+        """Write the current display as a JSON profile (atomically)."""
+        from engine.views import save_display_profile
+
+        try:
+            save_display_profile(self.session.settings.display, path)
+        except (INPUT_ERRORS + (OSError,)) as exc:
+            self.message.emit("Display profile not saved", str(exc))
+            return False
+        return True
+
+    def _open_dialog(self) -> None:
+        path, _ = QtWidgets.QFileDialog.getOpenFileName(
+            self, "Open a display profile", str(demo_display_path().parent),
+            "Display profiles (*.json)")
+        if path:
+            self.open_profile(path)
+
+    def _save_dialog(self) -> None:
+        path, _ = QtWidgets.QFileDialog.getSaveFileName(
+            self, "Save the display profile", "display.json", "Display profiles (*.json)")
+        if path:
+            self.save_profile(path)
+
+    def edit(self) -> "DisplayEditor":
+        """Open the profile editor (non-modal) on the current display."""
+        if self.editor is None:
+            self.editor = DisplayEditor(self.session, self)
+        self.editor.load(self.session.settings.display)
+        self.editor.show()
+        self.editor.raise_()
+        return self.editor
+
+    def refresh(self, force: bool = False) -> None:
+        """Show the session's display."""
+        d = self.session.settings.display
+        key = next((k for k, v in engine_displays.PRESETS.items() if v == d), None)
+        if key is None:
+            key = DEMO_DISPLAY if d == demo_display() else CUSTOM_DISPLAY
+        self.display.set_value(key)
+        tf = f"gamma {d.gamma:g}" if d.transfer == "gamma" else d.transfer
+        self.summary.setText(
+            f"{d.name}\nred {d.red_xy[0]:.4f}, {d.red_xy[1]:.4f}   green {d.green_xy[0]:.4f}, "
+            f"{d.green_xy[1]:.4f}\nblue {d.blue_xy[0]:.4f}, {d.blue_xy[1]:.4f}   white "
+            f"{d.white_xy[0]:.4f}, {d.white_xy[1]:.4f}\n{tf}, "
+            f"peak {d.peak_luminance_cd_m2:g} cd/m\u00b2")
+        if self.editor is not None and self.editor.isVisible() and force:
+            self.editor.load(d)
+
+
+class DisplayEditor(QtWidgets.QDialog):
+    """Edit a display profile: primaries, white, transfer, gamma, peak; apply, open, save."""
+
+    def __init__(self, session, parent=None):
+        super().__init__(parent)
+        self.setObjectName("display-editor")
+        self.setWindowTitle("Display profile")
+        self.session = session
+        form = QtWidgets.QFormLayout(self)
+        self.name = QtWidgets.QLineEdit(self)
+        self.name.setObjectName("field-display-name")
+        form.addRow("Name", self.name)
+        self.fields: dict[str, QtWidgets.QLineEdit] = {}
+        for key, label in (("red", "Red primary x, y"), ("green", "Green primary x, y"),
+                           ("blue", "Blue primary x, y"), ("white", "White x, y")):
+            w = QtWidgets.QWidget(self)
+            row = QtWidgets.QHBoxLayout(w)
+            row.setContentsMargins(0, 0, 0, 0)
+            for axis in ("x", "y"):
+                e = QtWidgets.QLineEdit(w)
+                e.setObjectName(f"field-{key}-{axis}")
+                e.setFixedWidth(80)
+                row.addWidget(e)
+                self.fields[f"{key}_{axis}"] = e
+            row.addStretch(1)
+            form.addRow(label, w)
+        self.transfer = QtWidgets.QComboBox(self)
+        self.transfer.setObjectName("choice-transfer")
+        for t in engine_displays.TRANSFERS:
+            self.transfer.addItem(t, t)
+        form.addRow("Transfer function", self.transfer)
+        for key, label in (("gamma", "Gamma (with 'gamma')"),
+                           ("peak", "Peak luminance, cd/m\u00b2")):
+            e = QtWidgets.QLineEdit(self)
+            e.setObjectName(f"field-{key}")
+            e.setFixedWidth(80)
+            self.fields[key] = e
+            form.addRow(label, e)
+        self.error = ErrorLine(self)
+        self.error.setObjectName("error-display-editor")
+        form.addRow(self.error)
+        buttons = QtWidgets.QDialogButtonBox(self)
+        self.apply_button = buttons.addButton("Apply",
+                                              QtWidgets.QDialogButtonBox.ButtonRole.ApplyRole)
+        self.close_button = buttons.addButton("Close",
+                                              QtWidgets.QDialogButtonBox.ButtonRole.RejectRole)
+        self.apply_button.setObjectName("display-apply")
+        self.apply_button.clicked.connect(self.apply)
+        self.close_button.clicked.connect(self.reject)
+        form.addRow(buttons)
+
+    def load(self, d) -> None:
+        """Fill the fields from a display."""
+        self.name.setText(d.name)
+        for key in ("red", "green", "blue", "white"):
+            x, y = getattr(d, f"{key}_xy")
+            self.fields[f"{key}_x"].setText(f"{x:g}")
+            self.fields[f"{key}_y"].setText(f"{y:g}")
+        self.transfer.setCurrentIndex(max(self.transfer.findData(d.transfer), 0))
+        self.fields["gamma"].setText(f"{d.gamma:g}")
+        self.fields["peak"].setText(f"{d.peak_luminance_cd_m2:g}")
+        self.error.clear_error()
+
+    def build(self):
+        """A validated engine Display from the fields (raises StarkilnError)."""
+        labels = {"gamma": "gamma", "peak": "peak luminance"}
+        v = {k: parse_number(e.text(), labels.get(k, k.replace("_", " ")))
+             for k, e in self.fields.items()}
+        name = self.name.text().strip() or "custom"
+        return engine_displays.Display(
+            name, (v["red_x"], v["red_y"]), (v["green_x"], v["green_y"]),
+            (v["blue_x"], v["blue_y"]), (v["white_x"], v["white_y"]),
+            self.transfer.currentData(), v["gamma"], v["peak"])
+
+    def apply(self) -> bool:
+        """Validate and use the edited display; errors stay in the dialog."""
+        try:
+            self.session.change("display", display=self.build())
+        except INPUT_ERRORS as exc:
+            self.error.show_error(str(exc))
+            return False
+        self.error.clear_error()
+        return True
+
+
+class OutputTab(_Form):
+    """Gamut mapping and normalisation."""
+
+    def __init__(self, session, parent=None):
+        super().__init__(parent)
+        self.session = session
+        self.gamut = self.row("Gamut mapping", Choice(
+            "gamut", GAMUT_METHODS, lambda v: session.change("gamut", gamut=v), LABELS),
+            "How colours outside the display's triangle are brought inside")
+        self.normalisation = self.row("Normalisation", Choice(
+            "normalisation", engine_settings.NORMALISATIONS,
+            lambda v: session.change("normalisation", normalisation=v), LABELS),
+            "Brightest channel = 1 keeps every star at full brightness; fixed luminance "
+            "keeps every star at the same relative luminance Y")
+        self.luminance = self.row("Luminance Y", Field(
+            "luminance_Y", lambda s: parse_number(s, "luminance_Y"),
+            lambda v: session.change("output", luminance_Y=v), width=70, placeholder="0.5"),
+            "Relative luminance for fixed-luminance normalisation, 0 < Y <= 1")
+        self.note("A swatch outside the display's gamut is marked \u26a0 and mapped by the "
+                  "method above; the readouts say which.")
+        self.refresh(force=True)
+
+    def refresh(self, force: bool = False) -> None:
+        """Show the session's settings."""
+        s = self.session.settings
+        self.gamut.set_value(s.gamut)
+        self.normalisation.set_value(s.normalisation)
+        if force or not self.luminance.has_error:
+            self.luminance.set_text(_fmt(s.luminance_Y))
+        self.luminance.setEnabled(s.normalisation == "luminance")
+
+
+class NightTab(_Form):
+    """Brightness and night vision: magnitude, instrument, vision model, tone curve, dome."""
+
+    NUMBER_FIELDS = (
+        ("pupil_mm", "Pupil", "mm", "Dark-adapted pupil diameter, 1-9 mm (7 mm is usual)"),
+        ("transmission", "Transmission", "", "Instrument transmission, 0 < T <= 1"),
+        ("blur_spot_arcmin", "Star image size", "arcmin",
+         "Diameter of the effective star image at the eye, 0.1-60 arcmin"),
+        ("magnitude_bright", "Brightest magnitude", "mag", "Shown at intensity 1"),
+        ("magnitude_faint", "Faintest magnitude", "mag", "Shown at intensity 0"),
+        ("night_tint", "Night tint", "0\u20131",
+         "Cool tint of colourless faint stars: a rendering convention, not physics"),
+    )
+
+    def __init__(self, session, parent=None):
+        super().__init__(parent)
+        self.session = session
+        self.available = session.vision
+        self.magnitude = self.row("Star magnitude", Field(
+            "magnitude", lambda s: parse_number(s, "magnitude"),
+            lambda v: session.set_magnitude(v, "night"), width=70, unit="mag"),
+            "Apparent visual magnitude of the auditioned star, -30 to +30")
+        self.aperture = self.row("Aperture", Field(
+            "aperture_mm", lambda s: parse_optional_number(s, "aperture_mm"),
+            lambda v: session.change("night", aperture_mm=v), width=84, unit="mm",
+            placeholder="naked eye"),
+            "Instrument aperture in mm; leave empty for the naked eye")
+        self.numbers: dict[str, Field] = {}
+        for key, label, unit, tip in self.NUMBER_FIELDS:
+            f = Field(key, lambda s, k=key: parse_number(s, k),
+                      lambda v, k=key: session.change("night", **{k: v}), width=70, unit=unit)
+            self.numbers[key] = self.row(label, f, tip)
+        visions = engine_choices("VISIONS", ("mesopic", "none"))
+        curves = engine_choices("INTENSITY_CURVES", ("asinh", "log", "linear"))
+        self.vision = self.row("Vision model", Choice(
+            "vision", visions, lambda v: session.change("night", vision=v),
+            {**LABELS, **VISION_LABELS}), "Mesopic: faint stars lose colour as cone vision "
+            "fades (CIE 191:2010); off: full colour at every magnitude")
+        self.curve = self.row("Intensity curve", Choice(
+            "intensity_curve", curves, lambda v: session.change("night", intensity_curve=v),
+            LABELS), "Tone curve from magnitude to display intensity")
+        self.compensate = QtWidgets.QCheckBox("Compensate for a dark dome", self)
+        self.compensate.setObjectName("check-compensate")
+        self.compensate.setToolTip("Pre-boost chroma so that the colour seen on a dim dome "
+                                   "matches the intent (uses the dome peak luminance)")
+        self.compensate.toggled.connect(self._compensate)
+        self.form.addRow(self.compensate)
+        self.compensate_error = ErrorLine(self)
+        self.form.addRow(self.compensate_error)
+        self.peak = self.row("Dome peak luminance", Field(
+            "peak_luminance_cd_m2", lambda s: parse_number(s, "peak luminance"),
+            self._apply_peak, width=70, unit="cd/m\u00b2"),
+            "The display's peak luminance, 0.01-10000 cd/m\u00b2 (part of the display profile)")
+        self.caution = self.note("Caution: " + CAUTION)
+        if not self.available:
+            self.note("This engine's settings have no night-vision fields (aperture_mm...): "
+                      "these controls light up once the engine has them.")
+            for w in [self.magnitude, self.aperture, self.vision, self.curve, self.compensate,
+                      *self.numbers.values()]:
+                w.setEnabled(False)
+        self.refresh(force=True)
+
+    def _compensate(self, on: bool) -> None:
+        try:
+            self.session.change("night", compensate=bool(on))
+        except INPUT_ERRORS as exc:
+            self.compensate_error.show_error(str(exc))
+            return
+        self.compensate_error.clear_error()
+
+    def _apply_peak(self, value: float) -> None:
+        d = self.session.settings.display
+        self.session.change("night", display=dataclasses.replace(d, peak_luminance_cd_m2=value))
+
+    def refresh(self, force: bool = False) -> None:
+        """Show the session's settings."""
+        s = self.session.settings
+        if force or not self.magnitude.has_error:
+            self.magnitude.set_text(_fmt(self.session.magnitude))
+        if force or not self.peak.has_error:
+            self.peak.set_text(_fmt(s.display.peak_luminance_cd_m2))
+        if not self.available:
+            return
+        if force or not self.aperture.has_error:
+            self.aperture.set_text(_fmt(s.aperture_mm))
+        for key, field in self.numbers.items():
+            if force or not field.has_error:
+                field.set_text(_fmt(getattr(s, key)))
+        self.numbers["transmission"].setEnabled(s.aperture_mm is not None)
+        self.vision.set_value(s.vision)
+        self.curve.set_value(s.intensity_curve)
+        self.compensate.blockSignals(True)
+        self.compensate.setChecked(bool(s.compensate))
+        self.compensate.blockSignals(False)
+
+
+class LookPanel(QtWidgets.QTabWidget):
+    """The tabs of look controls, kept in step with the session."""
+
+    def __init__(self, session, parent=None):
+        super().__init__(parent)
+        self.setObjectName("look-panel")
+        self.session = session
+        self.white = WhiteTab(session, self)
+        self.display = DisplayTab(session, self)
+        self.output = OutputTab(session, self)
+        self.night = NightTab(session, self)
+        for tab, title in ((self.white, "White"), (self.display, "Display"),
+                           (self.output, "Gamut"), (self.night, "Night sky")):
+            scroll = QtWidgets.QScrollArea(self)
+            scroll.setWidget(tab)
+            scroll.setWidgetResizable(True)
+            scroll.setHorizontalScrollBarPolicy(QtCore.Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
+            tab.setMinimumWidth(300)
+            self.addTab(scroll, title)
+        session.settings_changed.connect(self.refresh)
+        session.colour_changed.connect(self._colour)
+
+    def _colour(self, what: str) -> None:
+        if what == "magnitude" and self.session.source != "night":
+            self.night.refresh()
+
+    def refresh(self, force: bool = False) -> None:
+        """Show the session's settings in every tab."""
+        for tab in (self.white, self.display, self.output, self.night):
+            tab.refresh(force=force)

@@ -1,0 +1,402 @@
+"""The spectrum plot and the chromaticity diagram (pyqtgraph), drawn from engine data.
+
+Every curve, point and fill colour comes from :mod:`engine.views` or from
+:func:`engine.render.render`; this module only places them.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pyqtgraph as pg
+from PySide6 import QtCore, QtGui, QtWidgets
+
+from engine.views import (SPECTRUM_PLOT_RANGE_NM, VISIBLE_BAND_NM, chromaticity_diagram,
+                          efficiency_overlays, planck_curve, spectral_band_colours,
+                          spectrum_plot_wavelengths_nm)
+from gui.theme import DIM, Theme
+
+OVERLAYS = {  # key -> (legend text, engine curve keys)
+    "photopic": ("V(\u03bb) photopic", ("V",)),
+    "scotopic": ("V\u2032(\u03bb) scotopic", ("V'",)),
+    "cmf": ("colour-matching functions x\u0304 y\u0304 z\u0304", ("x", "y", "z")),
+}
+
+
+def _pen(colour: str, width: float = 1.5, style=QtCore.Qt.PenStyle.SolidLine) -> QtGui.QPen:
+    pen = pg.mkPen(QtGui.QColor(colour), width=width)
+    pen.setStyle(style)
+    pen.setCosmetic(True)
+    return pen
+
+
+def _style_axes(plot: pg.PlotItem, theme: Theme) -> None:
+    for name in ("left", "bottom"):
+        axis = plot.getAxis(name)
+        axis.setPen(_pen(theme.plot_axis, 1))
+        axis.setTextPen(_pen(theme.plot_axis, 1))
+        axis.setLabel(axis.labelText, **{"color": theme.plot_axis})
+
+
+class SpectrumCurve(pg.GraphicsObject):
+    """The Planck curve, its faint fill and the visible band's coloured fill, as one item.
+
+    One item with a fixed bounding box (the plot range) repaints at every
+    slider step much faster than three curve items: a new curve only rebuilds
+    three painter paths. The colours are the engine's (see :meth:`set_band_brush`).
+    """
+
+    def __init__(self, x_range, y_top: float = 1.0):
+        super().__init__()
+        self._rect = QtCore.QRectF(x_range[0], 0.0, x_range[1] - x_range[0], y_top)
+        self._curve = QtGui.QPainterPath()
+        self._fill = QtGui.QPainterPath()
+        self._band = QtGui.QPainterPath()
+        self._pen = _pen("#ffffff", 2.0)
+        self._dim = QtGui.QBrush(QtGui.QColor(0, 0, 0, 0))
+        self._band_brush = QtGui.QBrush(QtGui.QColor(0, 0, 0, 0))
+        self.x = np.zeros(0)
+        self.y = np.zeros(0)
+
+    def set_style(self, pen: QtGui.QPen, dim: QtGui.QBrush) -> None:
+        """Stroke of the curve and the faint fill under it."""
+        self._pen, self._dim = pen, dim
+        self.update()
+
+    def set_band_brush(self, brush: QtGui.QBrush) -> None:
+        """The brush of the visible band (a gradient of the engine's spectral colours)."""
+        self._band_brush = brush
+        self.update()
+
+    def set_curve(self, x: np.ndarray, y: np.ndarray, band: np.ndarray) -> None:
+        """New curve points; ``band`` is the boolean mask of the visible band."""
+        self.x, self.y = x, y
+        self._curve = pg.arrayToQPath(x, y, connect="all", finiteCheck=False)
+        self._fill = self._closed(x, y)
+        self._band = self._closed(x[band], y[band])
+        self.update()
+
+    @staticmethod
+    def _closed(x, y) -> QtGui.QPainterPath:
+        xs = np.concatenate([[x[0]], x, [x[-1]]])
+        ys = np.concatenate([[0.0], y, [0.0]])
+        path = pg.arrayToQPath(xs, ys, connect="all", finiteCheck=False)
+        path.closeSubpath()
+        return path
+
+    def boundingRect(self):  # noqa: N802 - Qt API
+        return self._rect
+
+    def paint(self, p, *args):
+        p.fillPath(self._fill, self._dim)
+        p.fillPath(self._band, self._band_brush)
+        p.setRenderHint(QtGui.QPainter.RenderHint.Antialiasing, True)
+        p.strokePath(self._curve, self._pen)
+
+
+class SpectrumView(pg.PlotWidget):
+    """Planck curve of the current temperature, the visible band filled with spectral colours."""
+
+    def __init__(self, parent=None):
+        super().__init__(parent)
+        self.setObjectName("spectrum-plot")
+        # the view fills its background itself: repainting it need not repaint the panels below
+        self.viewport().setAttribute(QtCore.Qt.WidgetAttribute.WA_OpaquePaintEvent)
+        self.setMenuEnabled(False)
+        self.setMouseEnabled(x=False, y=False)
+        self.hideButtons()
+        self._theme = DIM
+        plot = self.getPlotItem()
+        plot.setLabel("bottom", "wavelength (nm)")
+        plot.setLabel("left", "relative radiance")
+        lo, hi = SPECTRUM_PLOT_RANGE_NM
+        plot.setXRange(lo, hi, padding=0.0)
+        plot.setYRange(0.0, 1.36, padding=0.0)
+        plot.getAxis("left").setTicks([[(v, f"{v:g}") for v in (0.0, 0.25, 0.5, 0.75, 1.0)]])
+        a, b = VISIBLE_BAND_NM
+        plot.getAxis("bottom").setTicks([[(v, f"{v:g}") for v in
+                                          (a, b, 1000.0, 1500.0, 2000.0, 2500.0)],
+                                         [(v, "") for v in np.arange(200.0, hi + 1, 100.0)]])
+        for name in ("left", "bottom"):
+            plot.getAxis(name).enableAutoSIPrefix(False)
+        self.legend = plot.addLegend(offset=(-8, 36), labelTextSize="8pt")
+        self._wl = spectrum_plot_wavelengths_nm(step_outside_nm=10.0, step_band_nm=2.0)
+        a, b = VISIBLE_BAND_NM
+        self._band = (self._wl >= a) & (self._wl <= b)
+        # the whole curve is filled faintly (ultraviolet and infrared show so); the visible
+        # band is filled again on top with its spectral colours
+        self.curve = SpectrumCurve((lo, hi))
+        self.edges = [pg.InfiniteLine(pos=v, angle=90, movable=False) for v in (a, b)]
+        for line in self.edges:
+            plot.addItem(line)
+            line.setCacheMode(QtWidgets.QGraphicsItem.CacheMode.DeviceCoordinateCache)
+        self.edge_labels: list[pg.TextItem] = []  # the band edges are ticks of the x axis
+        self.region_labels = [pg.TextItem("UV", anchor=(0.5, 0.0)),
+                              pg.TextItem("visible", anchor=(0.5, 0.0)),
+                              pg.TextItem("infrared", anchor=(0.5, 0.0))]
+        for item, x in zip(self.region_labels, (0.5 * (lo + a), 0.5 * (a + b), 2150.0)):
+            item.setPos(x, 1.35)
+            plot.addItem(item)
+            item.setCacheMode(QtWidgets.QGraphicsItem.CacheMode.DeviceCoordinateCache)
+        self.overlays: dict[str, list[pg.PlotDataItem]] = {}
+        for key, (label, parts) in OVERLAYS.items():
+            items = []
+            for j, _part in enumerate(parts):
+                item = pg.PlotDataItem(name=label if j == 0 else None, antialias=True)
+                item.setVisible(False)
+                item.setZValue(20)  # above the filled curve
+                plot.addItem(item)
+                items.append(item)
+            self.overlays[key] = items
+        self.legend.setVisible(False)
+        plot.addItem(self.curve)
+        self.peak_line = pg.InfiniteLine(angle=90, movable=False)
+        plot.addItem(self.peak_line)
+        self.peak_label = pg.TextItem("", anchor=(0.0, 0.0))
+        plot.addItem(self.peak_label)
+        self._overlay_on = {k: False for k in OVERLAYS}
+        plot.getViewBox().disableAutoRange()
+        self._peak_nm = float("nan")
+        self.set_theme(DIM)
+
+    # -- updates ------------------------------------------------------------------------
+    def set_theme(self, theme: Theme) -> None:
+        """Interface colours of the plot (the band fill keeps the engine's colours)."""
+        self._theme = theme
+        self.setBackground(QtGui.QColor(theme.plot_background))
+        plot = self.getPlotItem()
+        _style_axes(plot, theme)
+        dim = QtGui.QColor(theme.muted)
+        dim.setAlpha(70)
+        self.curve.set_style(_pen(theme.curve, 2.0), QtGui.QBrush(dim))
+        for line in self.edges:
+            line.setPen(_pen(theme.plot_axis, 1, QtCore.Qt.PenStyle.DashLine))
+        for item in self.edge_labels + self.region_labels:
+            item.setColor(QtGui.QColor(theme.plot_axis))
+        self.peak_line.setPen(_pen(theme.marker, 1, QtCore.Qt.PenStyle.DotLine))
+        self.peak_label.setColor(QtGui.QColor(theme.marker))
+        dash = QtCore.Qt.PenStyle
+        styles = {"photopic": (theme.overlay_photopic, dash.DashLine),
+                  "scotopic": (theme.overlay_scotopic, dash.DotLine),
+                  "cmf": (None, dash.DashDotLine)}
+        for key, items in self.overlays.items():
+            colour, style = styles[key]
+            for j, item in enumerate(items):
+                c = colour or theme.overlay_cmf[j]
+                item.setPen(_pen(c, 1.5, style if theme.dash_overlays or key == "cmf"
+                                 else dash.SolidLine))
+        self.legend.setLabelTextColor(QtGui.QColor(theme.text))
+        self.legend.setBrush(QtGui.QBrush(QtGui.QColor(theme.panel)))
+        self.legend.setPen(_pen(theme.border, 1))
+        self._rebuild_legend()
+
+    def set_settings(self, settings) -> None:
+        """New band colours (observer, whites, display, gamut) and overlays (observer)."""
+        band = spectral_band_colours(settings)
+        a, b = VISIBLE_BAND_NM
+        grad = QtGui.QLinearGradient(a, 0.0, b, 0.0)
+        for wl, rgb in zip(band.wavelength_nm, band.rgb_8bit):
+            grad.setColorAt((wl - a) / (b - a), QtGui.QColor(int(rgb[0]), int(rgb[1]),
+                                                             int(rgb[2])))
+        self.curve.set_band_brush(QtGui.QBrush(grad))
+        self.band_colours = band
+        curves = efficiency_overlays(settings.observer)
+        for key, (_label, parts) in OVERLAYS.items():
+            for item, part in zip(self.overlays[key], parts):
+                wl, values = curves[part]
+                item.setData(wl, values)
+
+    def set_temperature(self, temperature_K: float) -> None:
+        """Redraw the Planck curve and its peak for a temperature."""
+        c = planck_curve(temperature_K, self._wl)
+        y = c.relative_radiance
+        self.curve.set_curve(self._wl, y, self._band)
+        self._peak_nm = c.peak_nm
+        lo, hi = SPECTRUM_PLOT_RANGE_NM
+        if lo <= c.peak_nm <= hi:
+            self.peak_line.setVisible(True)
+            self.peak_line.setValue(c.peak_nm)
+            self.peak_label.setText(f"peak {c.peak_nm:.0f} nm")
+            self.peak_label.setAnchor((0.0, 1.0) if c.peak_nm < 0.7 * hi else (1.0, 1.0))
+            self.peak_label.setPos(c.peak_nm, 1.06)
+        else:
+            self.peak_line.setVisible(False)
+            if c.peak_nm < lo:
+                self.peak_label.setText(f"\u25c0 peak {c.peak_nm:.0f} nm (ultraviolet)")
+                self.peak_label.setAnchor((0.0, 1.0))
+                self.peak_label.setPos(lo, 1.06)
+            else:
+                self.peak_label.setText(f"peak {c.peak_nm:,.0f} nm (infrared) \u25b6")
+                self.peak_label.setAnchor((1.0, 1.0))
+                self.peak_label.setPos(hi, 1.06)
+
+    @property
+    def peak_text(self) -> str:
+        """The peak label as shown."""
+        return self.peak_label.textItem.toPlainText()
+
+    def set_overlay(self, key: str, on: bool) -> None:
+        """Show or hide an overlay (``photopic``, ``scotopic``, ``cmf``)."""
+        self._overlay_on[key] = bool(on)
+        for item in self.overlays[key]:
+            item.setVisible(bool(on))
+        self._rebuild_legend()
+
+    def _rebuild_legend(self) -> None:
+        if not hasattr(self, "_overlay_on"):
+            return
+        self.legend.clear()
+        for k, items in self.overlays.items():
+            if self._overlay_on[k]:
+                self.legend.addItem(items[0], OVERLAYS[k][0])
+        self.legend.setVisible(any(self._overlay_on.values()))
+
+
+WHOLE_LABELS_K = (2000.0, 4000.0, 10000.0)
+
+
+class ChromaticityView(pg.PlotWidget):
+    """CIE x, y diagram: spectral and Planckian loci, the display gamut, the whites, the star.
+
+    The key to the symbols is :meth:`key_html`, shown under the plot by the window.
+    """
+
+    def __init__(self, parent=None):
+        super().__init__(parent)
+        self.setObjectName("chromaticity-plot")
+        self.viewport().setAttribute(QtCore.Qt.WidgetAttribute.WA_OpaquePaintEvent)
+        self.setMenuEnabled(False)
+        self.hideButtons()
+        plot = self.getPlotItem()
+        plot.setAspectLocked(True)
+        plot.setLabel("bottom", "x")
+        plot.setLabel("left", "y")
+        for name in ("left", "bottom"):
+            plot.getAxis(name).enableAutoSIPrefix(False)
+        self.locus = pg.PlotDataItem(antialias=True)
+        self.planckian = pg.PlotDataItem(antialias=True)
+        self.ticks = pg.ScatterPlotItem(size=5, symbol="o")
+        self.gamut = pg.PlotDataItem(antialias=True)
+        self.scene_white = pg.ScatterPlotItem(size=11, symbol="o")
+        self.display_white = pg.ScatterPlotItem(size=9, symbol="s")
+        self.star = pg.ScatterPlotItem(size=17, symbol="star")
+        self.star.setData([0.0], [0.0])  # one point at the origin, moved with setPos
+        self._star_rgb = None
+        for item in (self.locus, self.planckian, self.ticks, self.gamut, self.scene_white,
+                     self.display_white, self.star):
+            plot.addItem(item)
+        # the star moves at every step; everything else is drawn once into a device cache
+        for item in (self.locus, self.planckian, self.ticks, self.gamut, self.scene_white,
+                     self.display_white):
+            item.setCacheMode(QtWidgets.QGraphicsItem.CacheMode.DeviceCoordinateCache)
+        self.tick_labels: list[tuple[float, pg.TextItem]] = []
+        self.wavelength_labels: list[pg.TextItem] = []
+        self._theme = DIM
+        self._zoom = "whole"
+        self.diagram = None
+        self.settings = None
+        self._star_xy = (float("nan"), float("nan"))
+        self.set_theme(DIM)
+        self.set_zoom("whole")
+        plot.getViewBox().disableAutoRange()
+
+    def set_theme(self, theme: Theme) -> None:
+        """Interface colours of the diagram."""
+        self._theme = theme
+        self.setBackground(QtGui.QColor(theme.plot_background))
+        _style_axes(self.getPlotItem(), theme)
+        self.locus.setPen(_pen(theme.locus, 1.5))
+        self.planckian.setPen(_pen(theme.planckian, 1.5))
+        self.ticks.setBrush(QtGui.QColor(theme.planckian))
+        self.ticks.setPen(_pen(theme.planckian, 1))
+        self.gamut.setPen(_pen(theme.gamut, 1.5, QtCore.Qt.PenStyle.DashLine))
+        self.scene_white.setPen(_pen(theme.marker, 1.5))
+        self.scene_white.setBrush(QtGui.QBrush(QtCore.Qt.BrushStyle.NoBrush))
+        self.display_white.setPen(_pen(theme.accent, 1.5))
+        self.display_white.setBrush(QtGui.QBrush(QtCore.Qt.BrushStyle.NoBrush))
+        self.star.setPen(_pen(theme.marker, 1.2))
+        for _t, item in self.tick_labels:
+            item.setColor(QtGui.QColor(theme.planckian))
+        for item in self.wavelength_labels:
+            item.setColor(QtGui.QColor(theme.plot_axis))
+
+    def key_html(self) -> str:
+        """Rich-text key to the symbols, in the theme's colours."""
+        t = self._theme
+        s = self.settings
+        white = s.scene_white if s is not None else ""
+        disp = s.display.name if s is not None else ""
+
+        def span(colour, text):
+            return f'<span style="color:{colour}">{text}</span>'
+
+        return ("&nbsp;&nbsp;".join([
+            span(t.locus, "— spectral locus"),
+            span(t.planckian, "—• Planckian locus"),
+            span(t.gamut, f"- - gamut of {disp}"),
+            span(t.marker, f"○ scene white {white}"),
+            span(t.accent, "□ display white"),
+            span(t.marker, "★ this star")]))
+
+    def set_settings(self, settings) -> None:
+        """Redraw everything that depends on the settings (observer, whites, display)."""
+        d = chromaticity_diagram(settings)
+        self.diagram = d
+        self.settings = settings
+        plot = self.getPlotItem()
+        self.locus.setData(d.spectral_locus_xy[:, 0], d.spectral_locus_xy[:, 1])
+        self.planckian.setData(d.planckian_xy[:, 0], d.planckian_xy[:, 1])
+        self.ticks.setData(d.tick_xy[:, 0], d.tick_xy[:, 1])
+        self.gamut.setData(d.gamut_xy[:, 0], d.gamut_xy[:, 1])
+        self.scene_white.setData([d.scene_white_xy[0]], [d.scene_white_xy[1]])
+        self.display_white.setData([d.display_white_xy[0]], [d.display_white_xy[1]])
+        for _t, item in self.tick_labels:
+            plot.removeItem(item)
+        for item in self.wavelength_labels:
+            plot.removeItem(item)
+        self.tick_labels = []
+        for t, (x, y) in zip(d.tick_temperature_K, d.tick_xy):
+            item = pg.TextItem(f"{t:.0f} K", anchor=(0.0, -0.15))
+            item.setPos(x, y)
+            plot.addItem(item)
+            self.tick_labels.append((float(t), item))
+        self.wavelength_labels = []
+        for wl, (x, y) in zip(d.spectral_tick_nm, d.spectral_tick_xy):
+            anchor = (1.15, 0.5) if x < 0.2 else (-0.2, 0.6)
+            item = pg.TextItem(f"{wl:.0f}", anchor=anchor)
+            item.setPos(x, y)
+            plot.addItem(item)
+            self.wavelength_labels.append(item)
+        obs = "CIE 1931 2\u00b0" if settings.observer == "cie1931" else "CIE 1964 10\u00b0"
+        plot.setLabel("bottom", f"x ({obs} observer)")
+        self.set_theme(self._theme)
+        self._label_visibility()
+
+    def set_star(self, xy, rgb8) -> None:
+        """Move the current star's marker and fill it with its display colour."""
+        self._star_xy = (float(xy[0]), float(xy[1]))
+        self.star.setPos(self._star_xy[0], self._star_xy[1])
+        rgb = tuple(int(v) for v in rgb8)
+        if rgb != self._star_rgb:  # a new fill re-renders the symbol; moving does not
+            self._star_rgb = rgb
+            self.star.setBrush(QtGui.QColor(*rgb))
+
+    @property
+    def star_xy(self) -> tuple[float, float]:
+        """Where the star marker is."""
+        return self._star_xy
+
+    def set_zoom(self, mode: str) -> None:
+        """``whole`` diagram or ``locus`` (the neighbourhood of the Planckian locus)."""
+        self._zoom = mode
+        plot = self.getPlotItem()
+        if mode == "locus":
+            plot.setRange(xRange=(0.22, 0.62), yRange=(0.22, 0.46), padding=0.0)
+        else:
+            plot.setRange(xRange=(-0.12, 0.8), yRange=(-0.02, 0.88), padding=0.0)
+        self._label_visibility()
+
+    def _label_visibility(self) -> None:
+        for t, item in self.tick_labels:
+            item.setVisible(self._zoom == "locus" or t in WHOLE_LABELS_K)
+        for item in self.wavelength_labels:
+            item.setVisible(self._zoom != "locus")

@@ -1,0 +1,159 @@
+"""The small sky preview: the invented demo cluster drawn with the current settings.
+
+The picture comes whole from :func:`engine.views.sky_image` (which asks the
+render path for every star's colour and intensity); this widget shows it at
+one device pixel per picture pixel and turns clicks into "audition this star".
+"""
+
+from __future__ import annotations
+
+import numpy as np
+from PySide6 import QtCore, QtGui, QtWidgets
+
+from engine.errors import StarkilnError
+from engine.views import Cluster, load_demo_cluster, sky_image
+from gui.theme import DIM, Theme
+
+
+class SkyPreview(QtWidgets.QWidget):
+    """The demo cluster as it would look on the display.
+
+    Signals
+    -------
+    star_picked(int) : index of the star clicked.
+    """
+
+    star_picked = QtCore.Signal(int)
+
+    def __init__(self, cluster: Cluster | None = None, parent=None):
+        super().__init__(parent)
+        self.setObjectName("sky-preview")
+        self.setMinimumSize(220, 150)
+        self.setAttribute(QtCore.Qt.WidgetAttribute.WA_OpaquePaintEvent)
+        self.setCursor(QtCore.Qt.CursorShape.CrossCursor)
+        self.setMouseTracking(True)
+        self._cluster = cluster
+        self._error = ""
+        if cluster is None:
+            try:
+                self._cluster = load_demo_cluster()
+            except StarkilnError as exc:
+                self._error = str(exc)
+        self._settings = None
+        self._image: QtGui.QImage | None = None
+        self._sky = None
+        self._selected = -1
+        self._theme = DIM
+        self._timer = QtCore.QTimer(self)
+        self._timer.setSingleShot(True)
+        self._timer.setInterval(0)
+        self._timer.timeout.connect(self.redraw)
+
+    @property
+    def cluster(self) -> Cluster | None:
+        """The star list shown."""
+        return self._cluster
+
+    @property
+    def sky(self):
+        """The last :class:`engine.views.SkyImage`, or None."""
+        return self._sky
+
+    def set_theme(self, theme: Theme) -> None:
+        """Interface colours of the caption."""
+        self._theme = theme
+        self.update()
+
+    def set_settings(self, settings) -> None:
+        """Redraw with new settings (soon, once per event-loop turn)."""
+        self._settings = settings
+        self._timer.start()
+
+    def select(self, index: int) -> None:
+        """Ring star ``index`` (or none with -1)."""
+        if int(index) != self._selected:
+            self._selected = int(index)
+            self.update()
+
+    def redraw(self) -> None:
+        """Render the picture now at the widget's size."""
+        if self._settings is None or self._cluster is None:
+            return
+        w, h = max(self.width(), 16), max(self.height(), 16)
+        try:
+            self._sky = sky_image(self._settings, self._cluster, w, h)
+        except StarkilnError as exc:
+            self._error = str(exc)
+            self._image = None
+            self.update()
+            return
+        self._error = ""
+        data = self._sky.rgb_8bit
+        self._buffer = data  # keep the array alive while the QImage refers to it
+        self._image = QtGui.QImage(data.data, data.shape[1], data.shape[0], data.strides[0],
+                                   QtGui.QImage.Format.Format_RGB888)
+        self.update()
+
+    def resizeEvent(self, event):  # noqa: N802 - Qt API
+        super().resizeEvent(event)
+        if self._settings is not None:
+            self._timer.start()
+
+    def star_at(self, x: float, y: float, radius_px: float = 7.0) -> int:
+        """Index of the brightest star within ``radius_px`` of (x, y), or -1."""
+        if self._sky is None:
+            return -1
+        d2 = (self._sky.x_px - x) ** 2 + (self._sky.y_px - y) ** 2
+        near = np.flatnonzero(d2 <= radius_px ** 2)
+        if near.size == 0:
+            return -1
+        return int(near[np.argmin(self._cluster.magnitude[near])])
+
+    def mousePressEvent(self, event):  # noqa: N802 - Qt API
+        i = self.star_at(event.position().x(), event.position().y())
+        if i >= 0:
+            self.select(i)
+            self.star_picked.emit(i)
+        event.accept()
+
+    def mouseMoveEvent(self, event):  # noqa: N802 - Qt API
+        i = self.star_at(event.position().x(), event.position().y())
+        if i >= 0:
+            c = self._cluster
+            self.setToolTip(f"{c.name[i]}: {c.temperature_K[i]:.0f} K, magnitude "
+                            f"{c.magnitude[i]:.2f} (click to audition)")
+        else:
+            self.setToolTip("")
+        super().mouseMoveEvent(event)
+
+    def paintEvent(self, event):  # noqa: N802 - Qt API
+        p = QtGui.QPainter(self)
+        p.fillRect(self.rect(), QtGui.QColor(0, 0, 0))
+        t = self._theme
+        if self._image is not None:
+            p.drawImage(0, 0, self._image)
+        if 0 <= self._selected and self._sky is not None:
+            p.setRenderHint(QtGui.QPainter.RenderHint.Antialiasing)
+            p.setPen(QtGui.QPen(QtGui.QColor(t.muted), 1))
+            x, y = self._sky.x_px[self._selected], self._sky.y_px[self._selected]
+            p.drawEllipse(QtCore.QPointF(x, y), 8, 8)
+        p.setPen(QtGui.QColor(t.muted))
+        font = p.font()
+        font.setPointSizeF(max(font.pointSizeF() - 1.5, 6.5))
+        p.setFont(font)
+        if self._error:
+            p.drawText(self.rect().adjusted(6, 6, -6, -6),
+                       QtCore.Qt.TextFlag.TextWordWrap, "\u26a0 " + self._error)
+        elif self._cluster is not None:
+            s = self._settings
+            if self._sky is not None and not self._sky.magnitudes_rendered:
+                note = " \u00b7 brightness model not in this engine"
+            elif getattr(s, "aperture_mm", None):
+                note = f" \u00b7 through {s.aperture_mm:g} mm"
+            else:
+                note = " \u00b7 naked eye"
+            if getattr(s, "vision", "none") == "none":
+                note += ", vision model off"
+            p.drawText(6, 4 + p.fontMetrics().ascent(),
+                       f"{len(self._cluster)} stars (invented){note}")
+        p.end()

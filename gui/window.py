@@ -1,0 +1,497 @@
+"""The main window: assembles the views over one :class:`gui.session.Session`.
+
+Layout (names are this project's own)::
+
+    +--------------------------------------------------------------------------+
+    | Temperature  cooler [====== slider ======] hotter   T [    ] K  B-V  class |
+    | [ strip of equal-mired swatches across 1000-40000 K, current marked     ] |
+    +---------------+------------------------------------+---------------------+
+    | Star colour   | Spectrum                           | Look                |
+    |  swatch       |                                    |  White / Display /  |
+    |  readouts     +------------------+-----------------+  Gamut / Night sky  |
+    |  magnitudes   | Chromaticity     | Demo sky        |                     |
+    +---------------+------------------+-----------------+---------------------+
+
+Persistence (QSettings): window geometry and splitters, theme, overlays,
+recent settings files, and the last session (settings as TOML, temperature,
+magnitude). Files are read and written by the engine (TOML settings, JSON
+display profiles); problems come back as one-line messages in a message box.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+from PySide6 import QtCore, QtGui, QtWidgets
+
+from engine.errors import StarkilnError
+from engine.render import to_8bit
+from engine.settings import Settings, load_settings, save_settings, settings_to_toml
+from gui.audition import AuditionPanel
+from gui.controls import CAUTION, LookPanel
+from gui.current import CurrentColourPanel
+from gui.fields import INPUT_ERRORS
+from gui.plots import OVERLAYS, ChromaticityView, SpectrumView
+from gui.session import DEFAULT_MAGNITUDE, DEFAULT_TEMPERATURE_K, Session
+from gui.sky import SkyPreview
+from gui.theme import DEFAULT_THEME, THEMES, apply_theme
+
+APP_TITLE = "Starkiln \u2014 star colours"
+MAX_RECENT = 8
+SCREENSHOT_SIZE = (1280, 800)
+
+
+def _titled(title: str, widget: QtWidgets.QWidget, extra: QtWidgets.QWidget | None = None,
+            name: str = "") -> QtWidgets.QGroupBox:
+    box = QtWidgets.QGroupBox(title)
+    if name:
+        box.setObjectName(name)
+    lay = QtWidgets.QVBoxLayout(box)
+    lay.setContentsMargins(4, 6, 4, 4)
+    lay.setSpacing(2)
+    if extra is not None:
+        lay.addWidget(extra)
+    lay.addWidget(widget, 1)
+    return box
+
+
+class MainWindow(QtWidgets.QMainWindow):
+    """The Starkiln window.
+
+    Parameters
+    ----------
+    settings : engine.settings.Settings, optional
+        Start with these settings (else the last session's, else defaults).
+    temperature_K : float, optional
+        Start at this temperature.
+    store : QtCore.QSettings or None
+        Where window state is kept between runs; None keeps nothing.
+    """
+
+    def __init__(self, settings: Settings | None = None, temperature_K: float | None = None,
+                 store: QtCore.QSettings | None = None, parent=None):
+        super().__init__(parent)
+        self.setObjectName("starkiln-window")
+        self.store = store
+        self.settings_path: Path | None = None
+        self.last_message: QtWidgets.QMessageBox | None = None
+        restored, t_restored, m_restored = self._restored_session()
+        start = settings if settings is not None else (restored or Settings())
+        t0 = temperature_K if temperature_K is not None else (t_restored or DEFAULT_TEMPERATURE_K)
+        try:
+            self.session = Session(start, t0, m_restored or DEFAULT_MAGNITUDE, self)
+        except StarkilnError:
+            if temperature_K is not None:
+                raise
+            self.session = Session(start, DEFAULT_TEMPERATURE_K, DEFAULT_MAGNITUDE, self)
+        self._build()
+        self._menus()
+        self._connect()
+        self.theme = THEMES[DEFAULT_THEME]
+        self._restore_view_state()
+        self._on_settings()
+        self._on_colour("settings")
+        self.setWindowTitle(APP_TITLE)
+        self.audition.slider.setFocus()
+
+    # -- construction ----------------------------------------------------------------------
+    def _build(self) -> None:
+        s = self.session
+        self.audition = AuditionPanel(s, self)
+        self.current = CurrentColourPanel(s, self)
+        self.spectrum = SpectrumView(self)
+        self.chromaticity = ChromaticityView(self)
+        self.sky = SkyPreview(parent=self)
+        self.look = LookPanel(s, self)
+
+        overlay_bar = QtWidgets.QWidget(self)
+        ob = QtWidgets.QHBoxLayout(overlay_bar)
+        ob.setContentsMargins(2, 0, 2, 0)
+        lab = QtWidgets.QLabel("Overlay:", overlay_bar)
+        lab.setProperty("role", "muted")
+        ob.addWidget(lab)
+        self.overlay_checks: dict[str, QtWidgets.QCheckBox] = {}
+        for key, short in (("photopic", "V(\u03bb) day"), ("scotopic", "V\u2032(\u03bb) night"),
+                           ("cmf", "x\u0304 y\u0304 z\u0304 colour matching")):
+            c = QtWidgets.QCheckBox(short, overlay_bar)
+            c.setObjectName(f"overlay-{key}")
+            c.setToolTip(OVERLAYS[key][0])
+            c.toggled.connect(lambda on, k=key: self.set_overlay(k, on))
+            ob.addWidget(c)
+            self.overlay_checks[key] = c
+        ob.addStretch(1)
+
+        zoom_bar = QtWidgets.QWidget(self)
+        zb = QtWidgets.QHBoxLayout(zoom_bar)
+        zb.setContentsMargins(2, 0, 2, 0)
+        self.zoom = QtWidgets.QComboBox(zoom_bar)
+        self.zoom.setObjectName("chromaticity-zoom")
+        self.zoom.addItem("Whole diagram", "whole")
+        self.zoom.addItem("Near the Planckian locus", "locus")
+        self.zoom.currentIndexChanged.connect(
+            lambda _i: self.chromaticity.set_zoom(self.zoom.currentData()))
+        zb.addWidget(self.zoom)
+        zb.addStretch(1)
+        self.chroma_key = QtWidgets.QLabel(self)
+        self.chroma_key.setObjectName("chromaticity-key")
+        self.chroma_key.setWordWrap(True)
+        self.chroma_key.setTextFormat(QtCore.Qt.TextFormat.RichText)
+        small = self.chroma_key.font()
+        small.setPointSizeF(max(small.pointSizeF() - 1.0, 7.0))
+        self.chroma_key.setFont(small)
+        chroma_box = QtWidgets.QWidget(self)
+        cb = QtWidgets.QVBoxLayout(chroma_box)
+        cb.setContentsMargins(0, 0, 0, 0)
+        cb.setSpacing(2)
+        cb.addWidget(self.chromaticity, 1)
+        cb.addWidget(self.chroma_key)
+
+        self.centre_split = QtWidgets.QSplitter(QtCore.Qt.Orientation.Vertical, self)
+        self.centre_split.setObjectName("split-centre")
+        self.centre_split.addWidget(_titled("Spectrum: Planck curve, visible band in its colours",
+                                            self.spectrum, overlay_bar, "box-spectrum"))
+        self.lower_split = QtWidgets.QSplitter(QtCore.Qt.Orientation.Horizontal, self)
+        self.lower_split.setObjectName("split-lower")
+        self.lower_split.addWidget(_titled("Chromaticity x, y", chroma_box, zoom_bar,
+                                           "box-chromaticity"))
+        self.lower_split.addWidget(_titled("Demo sky: Kiln cluster",
+                                           self.sky, None, "box-sky"))
+        self.lower_split.setSizes([380, 260])
+        self.lower_split.setStretchFactor(0, 3)
+        self.lower_split.setStretchFactor(1, 2)
+        self.centre_split.addWidget(self.lower_split)
+        self.centre_split.setSizes([300, 360])
+
+        self.main_split = QtWidgets.QSplitter(QtCore.Qt.Orientation.Horizontal, self)
+        self.main_split.setObjectName("split-main")
+        self.main_split.addWidget(_titled("Star colour", self.current, None, "box-current"))
+        self.main_split.addWidget(self.centre_split)
+        self.main_split.addWidget(_titled("Look", self.look, None, "box-look"))
+        self.main_split.setStretchFactor(0, 0)
+        self.main_split.setStretchFactor(1, 1)
+        self.main_split.setStretchFactor(2, 0)
+        self.main_split.setSizes([330, 600, 350])
+        self._sized = False
+
+        central = QtWidgets.QWidget(self)
+        lay = QtWidgets.QVBoxLayout(central)
+        lay.setContentsMargins(4, 2, 4, 2)
+        lay.setSpacing(2)
+        lay.addWidget(self.audition)
+        lay.addWidget(self.main_split, 1)
+        self.setCentralWidget(central)
+        self.summary = QtWidgets.QLabel(self)
+        self.summary.setObjectName("settings-summary")
+        self.statusBar().addPermanentWidget(self.summary)
+
+    def _menus(self) -> None:
+        bar = self.menuBar()
+        file = bar.addMenu("&File")
+        self.action_open = file.addAction("Open settings\u2026", self._open_dialog,
+                                          QtGui.QKeySequence.StandardKey.Open)
+        self.action_save = file.addAction("Save settings", self._save,
+                                          QtGui.QKeySequence.StandardKey.Save)
+        file.addAction("Save settings as\u2026", self._save_as_dialog,
+                       QtGui.QKeySequence.StandardKey.SaveAs)
+        self.recent_menu = file.addMenu("Recent settings")
+        file.addAction("Back to default settings", self.reset_settings)
+        file.addSeparator()
+        file.addAction("Export lookup texture\u2026", lambda: self.export_dialog("lut"))
+        file.addAction("Export palette\u2026", lambda: self.export_dialog("palette"))
+        file.addAction("Save a picture of this window\u2026", self._picture_dialog)
+        file.addSeparator()
+        file.addAction("Quit", self.close, QtGui.QKeySequence.StandardKey.Quit)
+        view = bar.addMenu("&View")
+        themes = view.addMenu("Theme")
+        group = QtGui.QActionGroup(self)
+        self.theme_actions = {}
+        for key, theme in THEMES.items():
+            a = themes.addAction(theme.label, lambda k=key: self.set_theme(k))
+            a.setCheckable(True)
+            group.addAction(a)
+            self.theme_actions[key] = a
+        help_ = bar.addMenu("&Help")
+        help_.addAction("Night vision: caution", lambda: self.show_message(
+            "Night vision", CAUTION, QtWidgets.QMessageBox.Icon.Information))
+        help_.addAction("About Starkiln", lambda: self.show_message(
+            "About Starkiln", "Starkiln turns star temperatures and magnitudes into display "
+            "colours. Every colour in this window comes from the engine's one render path. "
+            "The Kiln cluster and the Harbourlight dome are invented demo data.",
+            QtWidgets.QMessageBox.Icon.Information))
+        self._rebuild_recent()
+
+    def _connect(self) -> None:
+        s = self.session
+        s.settings_changed.connect(self._on_settings)
+        s.colour_changed.connect(self._on_colour)
+        self.sky.star_picked.connect(self._star_picked)
+        self.current.status.connect(lambda text: self.statusBar().showMessage(text, 4000))
+        self.look.display.message.connect(
+            lambda title, text: self.show_message(title, text))
+
+    # -- session -> views --------------------------------------------------------------------
+    def _on_settings(self) -> None:
+        s = self.session.settings
+        self.spectrum.set_settings(s)
+        self.chromaticity.set_settings(s)
+        self.chroma_key.setText(self.chromaticity.key_html())
+        self.sky.set_settings(s)
+        vis = f" \u00b7 vision {s.vision}" if hasattr(s, "vision") else ""
+        self.summary.setText(f"white {s.scene_white} \u2192 {s.display.name} \u00b7 "
+                             f"{s.adaptation} \u00b7 gamut {s.gamut}{vis}")
+
+    def _on_colour(self, what: str) -> None:
+        s = self.session
+        r = s.current
+        if what in ("temperature", "settings"):
+            self.spectrum.set_temperature(s.temperature_K)
+            self.chromaticity.set_star(r.xy, to_8bit(r.rgb_encoded))
+            if what == "temperature" and s.source != "sky":
+                self.sky.select(-1)
+
+    def _star_picked(self, index: int) -> None:
+        c = self.sky.cluster
+        self.session.set_temperature(float(c.temperature_K[index]), source="sky")
+        if self.session.vision:
+            try:
+                self.session.set_magnitude(float(c.magnitude[index]), source="sky")
+            except StarkilnError:
+                pass
+        self.statusBar().showMessage(f"{c.name[index]}: {c.temperature_K[index]:.0f} K, "
+                                     f"magnitude {c.magnitude[index]:.2f}", 5000)
+
+    # -- view options ------------------------------------------------------------------------
+    def set_theme(self, key: str) -> None:
+        """Switch to theme ``key`` (``dim`` or ``ordinary``)."""
+        theme = THEMES.get(key, THEMES[DEFAULT_THEME])
+        self.theme = theme
+        apply_theme(self, theme)
+        for view in (self.audition, self.current, self.spectrum, self.chromaticity, self.sky):
+            view.set_theme(theme)
+        self.chroma_key.setText(self.chromaticity.key_html())
+        for k, a in self.theme_actions.items():
+            a.setChecked(k == theme.key)
+        if theme.key == "dim":
+            self.statusBar().showMessage(
+                "Dim theme: red interface light; swatches keep true colours, so dim the "
+                "monitor in the dark", 8000)
+
+    def set_overlay(self, key: str, on: bool) -> None:
+        """Show or hide a spectrum overlay (``photopic``, ``scotopic``, ``cmf``)."""
+        check = self.overlay_checks[key]
+        if check.isChecked() != on:
+            check.blockSignals(True)
+            check.setChecked(on)
+            check.blockSignals(False)
+        self.spectrum.set_overlay(key, on)
+
+    # -- messages ----------------------------------------------------------------------------
+    def show_message(self, title: str, text: str,
+                     icon=QtWidgets.QMessageBox.Icon.Warning) -> QtWidgets.QMessageBox:
+        """A non-blocking message box (window-modal); the last one is :attr:`last_message`."""
+        box = QtWidgets.QMessageBox(icon, title, text, QtWidgets.QMessageBox.StandardButton.Ok,
+                                    self)
+        box.setObjectName("message")
+        box.setWindowModality(QtCore.Qt.WindowModality.WindowModal)
+        box.setAttribute(QtCore.Qt.WidgetAttribute.WA_DeleteOnClose, False)
+        if self.last_message is not None:
+            self.last_message.close()
+        self.last_message = box
+        box.open()
+        return box
+
+    # -- settings files ----------------------------------------------------------------------
+    def load_settings_file(self, path) -> bool:
+        """Read a TOML settings file; a bad file gives a message box and changes nothing."""
+        path = Path(path)
+        try:
+            settings = load_settings(path)
+            self.session.set_settings(settings, source="file")
+        except INPUT_ERRORS as exc:
+            self.show_message("Settings not loaded", str(exc))
+            return False
+        self.look.refresh(force=True)
+        self.settings_path = path
+        self._add_recent(path)
+        self.setWindowTitle(f"{APP_TITLE} \u2014 {path.name}")
+        self.statusBar().showMessage(f"Loaded {path}", 4000)
+        return True
+
+    def save_settings_file(self, path) -> bool:
+        """Write the current settings as TOML (atomically)."""
+        path = Path(path)
+        try:
+            save_settings(self.session.settings, path)
+        except (INPUT_ERRORS + (OSError,)) as exc:
+            self.show_message("Settings not saved", str(exc))
+            return False
+        self.settings_path = path
+        self._add_recent(path)
+        self.setWindowTitle(f"{APP_TITLE} \u2014 {path.name}")
+        self.statusBar().showMessage(f"Saved {path}", 4000)
+        return True
+
+    def reset_settings(self) -> None:
+        """Back to the engine's default settings."""
+        self.session.set_settings(Settings(), source="file")
+        self.look.refresh(force=True)
+
+    def _open_dialog(self) -> None:
+        path, _ = QtWidgets.QFileDialog.getOpenFileName(self, "Open settings", self._last_dir(),
+                                                        "Starkiln settings (*.toml)")
+        if path:
+            self.load_settings_file(path)
+
+    def _save(self) -> None:
+        if self.settings_path is None:
+            self._save_as_dialog()
+        else:
+            self.save_settings_file(self.settings_path)
+
+    def _save_as_dialog(self) -> None:
+        path, _ = QtWidgets.QFileDialog.getSaveFileName(
+            self, "Save settings", str(Path(self._last_dir()) / "look.toml"),
+            "Starkiln settings (*.toml)")
+        if path:
+            self.save_settings_file(path)
+
+    def _picture_dialog(self) -> None:
+        path, _ = QtWidgets.QFileDialog.getSaveFileName(
+            self, "Save a picture of this window", str(Path(self._last_dir()) / "starkiln.png"),
+            "PNG images (*.png)")
+        if path:
+            try:
+                save_window_picture(self, path)
+            except (INPUT_ERRORS + (OSError,)) as exc:
+                self.show_message("Picture not saved", str(exc))
+
+    def _last_dir(self) -> str:
+        if self.settings_path is not None:
+            return str(self.settings_path.parent)
+        return str(Path.home())
+
+    # -- recent files ------------------------------------------------------------------------
+    def recent_files(self) -> list[str]:
+        """Recent settings files, newest first."""
+        if self.store is None:
+            return list(getattr(self, "_recent", []))
+        value = self.store.value("recent/settings", [])
+        if isinstance(value, str):
+            value = [value]
+        return [str(v) for v in (value or [])]
+
+    def _add_recent(self, path: Path) -> None:
+        items = [str(path)] + [p for p in self.recent_files() if p != str(path)]
+        items = items[:MAX_RECENT]
+        if self.store is None:
+            self._recent = items
+        else:
+            self.store.setValue("recent/settings", items)
+        self._rebuild_recent()
+
+    def _rebuild_recent(self) -> None:
+        self.recent_menu.clear()
+        items = self.recent_files()
+        for p in items:
+            self.recent_menu.addAction(p, lambda p=p: self.load_settings_file(p))
+        self.recent_menu.setEnabled(bool(items))
+
+    # -- exports -----------------------------------------------------------------------------
+    def export_dialog(self, kind: str):
+        """Open (non-modal) the ``lut`` or ``palette`` export dialog and return it."""
+        from gui.exports import LutDialog, PaletteDialog
+
+        cls = LutDialog if kind == "lut" else PaletteDialog
+        dialog = getattr(self, f"_{kind}_dialog", None)
+        if dialog is None:
+            dialog = cls(self.session, self)
+            dialog.written.connect(lambda m: self.statusBar().showMessage(m, 5000))
+            setattr(self, f"_{kind}_dialog", dialog)
+        dialog.show()
+        dialog.refresh_preview()
+        return dialog
+
+    # -- persistence -------------------------------------------------------------------------
+    def _restored_session(self):
+        if self.store is None:
+            return None, None, None
+        settings = None
+        text = self.store.value("session/settings_toml", "")
+        if text:
+            try:
+                import tomllib
+
+                settings = Settings.from_dict(tomllib.loads(str(text)), "last session")
+            except (tomllib.TOMLDecodeError, StarkilnError, TypeError):
+                settings = None
+        try:
+            t = float(self.store.value("session/temperature_K", DEFAULT_TEMPERATURE_K))
+            m = float(self.store.value("session/magnitude", DEFAULT_MAGNITUDE))
+        except (TypeError, ValueError):
+            t, m = None, None
+        return settings, t, m
+
+    def _restore_view_state(self) -> None:
+        st = self.store
+        theme = str(st.value("view/theme", DEFAULT_THEME)) if st is not None else DEFAULT_THEME
+        self.set_theme(theme if theme in THEMES else DEFAULT_THEME)
+        if st is None:
+            return
+        geometry = st.value("window/geometry")
+        if geometry is not None:
+            self.restoreGeometry(geometry)
+        for split in (self.main_split, self.centre_split, self.lower_split):
+            state = st.value(f"window/{split.objectName()}")
+            if state is not None:
+                split.restoreState(state)
+                self._sized = True
+        for key in OVERLAYS:
+            on = str(st.value(f"view/overlay/{key}", "false")).lower() == "true"
+            self.set_overlay(key, on)
+        zoom = str(st.value("view/chromaticity_zoom", "whole"))
+        i = self.zoom.findData(zoom)
+        if i >= 0:
+            self.zoom.setCurrentIndex(i)
+
+    def save_state(self) -> None:
+        """Write window state and the session to the store (also done on close)."""
+        st = self.store
+        if st is None:
+            return
+        st.setValue("window/geometry", self.saveGeometry())
+        for split in (self.main_split, self.centre_split, self.lower_split):
+            st.setValue(f"window/{split.objectName()}", split.saveState())
+        st.setValue("view/theme", self.theme.key)
+        for key, check in self.overlay_checks.items():
+            st.setValue(f"view/overlay/{key}", "true" if check.isChecked() else "false")
+        st.setValue("view/chromaticity_zoom", self.zoom.currentData())
+        st.setValue("session/settings_toml", settings_to_toml(self.session.settings))
+        st.setValue("session/temperature_K", self.session.temperature_K)
+        st.setValue("session/magnitude", self.session.magnitude)
+        st.sync()
+
+    def showEvent(self, event):  # noqa: N802 - Qt API
+        super().showEvent(event)
+        if not self._sized:  # first show, no saved splitter state: side panels at their width
+            self._sized = True
+            w = self.main_split.width() or self.width()
+            left = max(self.current.minimumSizeHint().width() + 16, 320)
+            self.main_split.setSizes([left, max(w - left - 350, 300), 350])
+
+    def closeEvent(self, event):  # noqa: N802 - Qt API
+        self.save_state()
+        super().closeEvent(event)
+
+
+def save_window_picture(window: QtWidgets.QWidget, path) -> Path:
+    """Grab the window into a PNG file, atomically (nothing is left on failure)."""
+    from engine.atomic import atomic_path
+
+    path = Path(path)
+    if path.suffix.lower() != ".png":
+        raise StarkilnError(f"{path}: a window picture is saved as .png")
+    image = window.grab().toImage()
+    with atomic_path(path, overwrite=True) as tmp:
+        if not image.save(str(tmp), "PNG"):
+            raise StarkilnError(f"{path}: could not encode the picture as PNG")
+    return path
