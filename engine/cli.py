@@ -12,7 +12,12 @@ import argparse
 import json
 import sys
 
+from typing import TYPE_CHECKING
+
 from engine.errors import StarkilnError
+
+if TYPE_CHECKING:  # for annotations only; the CLI imports settings lazily
+    from engine.settings import Settings
 
 EXIT_BAD_INPUT = 2
 

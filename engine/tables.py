@@ -93,6 +93,9 @@ def build_tables() -> dict[str, np.ndarray]:
     """
     import warnings
 
+    import sys
+
+    had_matplotlib = "matplotlib" in sys.modules
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
         from colour.colorimetry import (
@@ -100,6 +103,12 @@ def build_tables() -> dict[str, np.ndarray]:
             SDS_BASIS_FUNCTIONS_CIE_ILLUMINANT_D_SERIES,
             SDS_LEFS,
         )
+    # Without matplotlib installed, colour-science leaves a stand-in module (no __spec__) in
+    # sys.modules["matplotlib"], which breaks later optional-dependency probes (astropy's);
+    # take it out again.
+    stand_in = sys.modules.get("matplotlib")
+    if not had_matplotlib and stand_in is not None and getattr(stand_in, "__spec__", 0) is None:
+        del sys.modules["matplotlib"]
 
     wl = wavelengths_nm()
 
@@ -126,7 +135,8 @@ def build_tables() -> dict[str, np.ndarray]:
     return out
 
 
-def _write_atomic_npz(path: Path, arrays: dict[str, np.ndarray]) -> None:
+def write_npz_atomic(path: Path, arrays: dict[str, np.ndarray]) -> None:
+    """Save arrays as ``.npz`` atomically (temporary file in the same folder, then rename)."""
     path.parent.mkdir(parents=True, exist_ok=True)
     fd, tmp = tempfile.mkstemp(dir=path.parent, prefix=".tables-", suffix=".npz")
     try:
@@ -159,7 +169,7 @@ def tables() -> dict[str, np.ndarray]:
         pass
     built = build_tables()
     try:
-        _write_atomic_npz(path, built)
+        write_npz_atomic(path, built)
     except OSError:
         pass  # read-only home: keep the tables in memory for this process
     return _frozen(built)

@@ -27,7 +27,13 @@ The model, in order (all vectorised):
    ``L_mes = (m L_p + (1 - m) L_s V'(lambda_0)) / (m + (1 - m) V'(lambda_0))``
    with ``V'(lambda_0) = 683 / 1699`` are iterated to a fixed point; above
    5 cd/m2 ``m = 1`` (photopic), below 0.005 cd/m2 ``m = 0`` (scotopic). ``m``
-   is called the *cone weight*.
+   is called the *cone weight*. For very red light (S/P below about 0.3, stars
+   cooler than about 1000 K) the MES2 equations fold: as such a star fades,
+   the fixed point reached from m_0 = 0.5 drops to 0 in one step (at 508 K
+   from m = 0.12, between magnitudes 3.5 and 3.6). That is the published
+   procedure applied outside the S/P range of the lamps it was made for; the
+   engine reproduces it rather than smoothing it (the saturation, m^2, jumps
+   by only 0.015 there).
 4. **Desaturation**: the saturation (chroma factor in Oklab, at constant
    lightness and hue) is ``s = m^2`` (``SATURATION_EXPONENT`` = 2): with no
    cone signal there is no colour, with full cone vision all of it. The

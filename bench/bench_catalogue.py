@@ -1,0 +1,311 @@
+"""Benchmark: colouring catalogues (``starkiln catalogue``), one machine and a local Dask cluster.
+
+Prints measured figures beside the goals of issue 6, with ratios, in one run:
+
+- colouring step alone (the per-chunk function, arrays in memory): goal 10 M stars/s;
+- Parquet in, Parquet out, 1 million rows, beyond process start-up: goal 1 M stars/s;
+- peak resident memory for 10 million rows (a separate process): goal < 500 MB;
+- a local Dask cluster (1 and 2 worker processes on 127.0.0.1) on 10 Parquet parts;
+- a billion-row run, *scaled from these measurements* (not measured).
+
+Two plans: ``teff`` (temperature column, 1-D table) and ``bp-rp+G`` (Gaia BP-RP and
+G magnitude: night vision through the 2-D table). The data are invented (uniform
+random colours and magnitudes), not catalogue rows.
+
+Usage::
+
+    python bench/bench_catalogue.py [--rows 1000000] [--big-rows 10000000] [--no-dask]
+"""
+
+from __future__ import annotations
+
+import argparse
+import dataclasses
+import json
+import os
+import shutil
+import subprocess
+import sys
+import tempfile
+import time
+from pathlib import Path
+
+import numpy as np
+
+REPO = Path(__file__).resolve().parent.parent
+sys.path.insert(0, str(REPO))
+
+GOAL_STEP = 10e6        # stars/s, colouring step alone
+GOAL_END_TO_END = 1e6   # stars/s, Parquet -> Parquet, 1 M rows
+GOAL_RSS_MB = 500.0     # peak resident memory, 10 M rows
+
+PLANS = {
+    "teff": ["--temperature-column", "teff"],
+    "bp-rp+G": ["--bp-rp-column", "bp_rp", "--magnitude-column", "phot_g",
+                "--magnitude-band", "G", "--extrapolate-bp-rp"],
+}
+
+
+def invented_columns(n: int, rng) -> dict:
+    """Invented catalogue columns: ids, positions, colours, magnitudes, temperatures."""
+    bp_rp = rng.uniform(-0.2, 3.0, n).astype(np.float32)
+    return {
+        "star_id": np.arange(n, dtype=np.int64),
+        "ra_deg": rng.uniform(0.0, 360.0, n),
+        "dec_deg": rng.uniform(-90.0, 90.0, n),
+        "bp_rp": bp_rp,
+        "phot_g": (3.0 + 4.0 * bp_rp + rng.normal(0.0, 2.0, n)).astype(np.float32),
+        "teff": rng.uniform(2500.0, 30000.0, n),
+    }
+
+
+def write_parquet(path: Path, rows: int, seed: int, chunk: int = 1_000_000) -> None:
+    """Write ``rows`` invented rows in row groups of ``chunk`` (never all in memory)."""
+    import pyarrow as pa
+    import pyarrow.parquet as pq
+
+    rng = np.random.default_rng(seed)
+    writer = None
+    for start in range(0, rows, chunk):
+        n = min(chunk, rows - start)
+        cols = invented_columns(n, rng)
+        cols["star_id"] += start
+        table = pa.table(cols)
+        if writer is None:
+            writer = pq.ParquetWriter(str(path), table.schema)
+        writer.write_table(table, row_group_size=min(chunk, 1 << 18))
+    writer.close()
+
+
+def best_of(fn, repeat: int = 5) -> float:
+    fn()
+    times = []
+    for _ in range(repeat):
+        t0 = time.perf_counter()
+        fn()
+        times.append(time.perf_counter() - t0)
+    return min(times)
+
+
+def run_child(args: list[str]) -> tuple[float, float, str]:
+    """Run ``starkiln ARGS`` in a fresh process: (wall seconds, peak RSS in MB, stdout).
+
+    The peak RSS is the child's own ``VmHWM`` (/proc/self/status), read at its end:
+    ``ru_maxrss`` from ``wait4`` would include this benchmark's memory at fork time.
+    """
+    code = ("import sys\nfrom engine.cli import main\n"
+            f"rc = main({args!r})\n"
+            "hwm = [l for l in open('/proc/self/status') if l.startswith('VmHWM')][0]\n"
+            "print('VMHWM', int(hwm.split()[1]))\n"
+            "sys.exit(rc)\n")
+    t0 = time.perf_counter()
+    proc = subprocess.run([sys.executable, "-c", code], cwd=REPO, capture_output=True, text=True)
+    wall = time.perf_counter() - t0
+    if proc.returncode != 0:
+        raise RuntimeError(f"child failed: {proc.stderr.strip()}")
+    lines = proc.stdout.splitlines()
+    hwm_kb = int(next(l for l in lines if l.startswith("VMHWM")).split()[1])
+    out = "\n".join(l for l in lines if not l.startswith("VMHWM"))
+    return wall, hwm_kb / 1024.0, out
+
+
+def run_timed_child(code: str) -> dict:
+    """Run Python code in a fresh process that prints one JSON line; return it."""
+    proc = subprocess.run([sys.executable, "-c", code], cwd=REPO, capture_output=True, text=True)
+    if proc.returncode != 0:
+        raise RuntimeError(proc.stderr.strip().splitlines()[-1])
+    return json.loads(proc.stdout.strip().splitlines()[-1])
+
+
+def plan_for(name: str):
+    from engine.catalogue import CataloguePlan
+    from engine.settings import Settings
+
+    if name == "teff":
+        return CataloguePlan(Settings(), "temperature", "teff")
+    return CataloguePlan(Settings(), "bp-rp", "bp_rp", magnitude_column="phot_g",
+                         magnitude_band="G", extrapolate_bp_rp=True)
+
+
+def bench_step(rows: int) -> dict:
+    """The colouring step alone: colour_values and colour_arrow on arrays in memory."""
+    import pyarrow as pa
+
+    from engine.catalogue import colour_arrow, colour_values
+    from engine.fastpath import build_colour_table, colour_table
+
+    rng = np.random.default_rng(1)
+    cols = invented_columns(rows, rng)
+    out = {}
+    for name in PLANS:
+        plan = plan_for(name)
+        t0 = time.perf_counter()
+        table = build_colour_table(plan.settings, plan.with_magnitude)
+        build = time.perf_counter() - t0
+        colour_table(plan.settings, plan.with_magnitude)  # into the disk cache for the runs
+        arrays = {c: (np.asarray(cols[c], dtype=np.float64), None) for c in plan.input_columns}
+        step = best_of(lambda: colour_values(plan, arrays))
+        batch = pa.record_batch({k: pa.array(v) for k, v in cols.items()})
+        arrow = best_of(lambda: colour_arrow(batch, plan))
+        sub = {c: (v[:100_000], None) for c, (v, _) in arrays.items()}
+        exact_plan = dataclasses.replace(plan, exact=True)
+        exact = best_of(lambda: colour_values(exact_plan, sub), repeat=1) * (rows / 100_000)
+        out[name] = {"build_s": build, "step_s": step, "arrow_s": arrow, "exact_s": exact,
+                     "table_MB": table.nbytes / 1e6, "exact_cells": table.exact_fraction}
+    return out
+
+
+def bench_end_to_end(path: Path, out_dir: Path, rows: int) -> dict:
+    """Parquet -> Parquet in a fresh process; time inside colour_catalogue, and the wall."""
+    res = {}
+    for name in PLANS:
+        code = (
+            "import json, time, sys\n"
+            "t0 = time.perf_counter()\n"
+            "from engine.catalogue import colour_catalogue\n"
+            "import pyarrow.parquet, pandas  # pyarrow loads pandas on first conversion\n"
+            f"sys.path.insert(0, {str(REPO / 'bench')!r})\n"
+            "from bench_catalogue import plan_for\n"
+            f"plan = plan_for({name!r})\n"
+            "t1 = time.perf_counter()\n"
+            f"s = colour_catalogue({str(path)!r}, {str(out_dir / 'e2e.parquet')!r}, plan,"
+            " overwrite=True)\n"
+            "print(json.dumps({'inside_s': s.seconds, 'imports_s': t1 - t0, 'rows': s.rows}))\n")
+        t0 = time.perf_counter()
+        r = run_timed_child(code)
+        r["wall_s"] = time.perf_counter() - t0
+        assert r["rows"] == rows
+        res[name] = r
+    return res
+
+
+def bench_big(path: Path, out_dir: Path, rows: int) -> dict:
+    res = {}
+    for name, opts in PLANS.items():
+        wall, rss, out = run_child(["catalogue", str(path), str(out_dir / "big.parquet"),
+                                    *opts, "--force", "--no-progress"])
+        seconds = float(out.split(" in ")[1].split(" s")[0])
+        res[name] = {"wall_s": wall, "rss_MB": rss, "inside_s": seconds}
+    return res
+
+
+def bench_dask(big: Path, work: Path, rows: int) -> dict:
+    """10 Parquet parts on a local cluster of 1 and 2 worker processes (127.0.0.1)."""
+    import pyarrow.parquet as pq
+
+    parts = work / "parts"
+    parts.mkdir()
+    pf = pq.ParquetFile(big)
+    per = max(1, pf.metadata.num_row_groups // 10)
+    groups = list(range(pf.metadata.num_row_groups))
+    for i in range(0, len(groups), per):
+        pq.write_table(pf.read_row_groups(groups[i:i + per]), parts / f"part-{i // per}.parquet")
+    res = {}
+    for workers in (1, 2):
+        wall, _, out = run_child(["catalogue", str(parts), str(work / f"dask{workers}"),
+                                  *PLANS["teff"], "--engine", "dask", "--workers",
+                                  str(workers), "--force", "--no-progress"])
+        seconds = float(out.split(" in ")[1].split(" s")[0])
+        res[workers] = {"wall_s": wall, "inside_s": seconds}
+    # Cluster start-up and shut-down alone: a run over one tiny part.
+    tiny = work / "tiny"
+    tiny.mkdir()
+    pq.write_table(pf.read_row_group(0).slice(0, 10), tiny / "part-0.parquet")
+    _, _, out = run_child(["catalogue", str(tiny), str(work / "dask_tiny"), *PLANS["teff"],
+                           "--engine", "dask", "--workers", "2", "--force", "--no-progress"])
+    res["overhead_s"] = float(out.split(" in ")[1].split(" s")[0])
+    return res
+
+
+def main(argv=None) -> int:
+    ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    ap.add_argument("--rows", type=int, default=1_000_000)
+    ap.add_argument("--big-rows", type=int, default=10_000_000)
+    ap.add_argument("--no-dask", action="store_true")
+    ap.add_argument("--workdir", default=None, help="scratch folder (default: a temporary one)")
+    args = ap.parse_args(argv)
+
+    work = Path(tempfile.mkdtemp(prefix="starkiln-bench-", dir=args.workdir))
+    try:
+        print(f"machine: {os.cpu_count()} cores; data: invented rows; scratch {work}")
+        small, big = work / "in_1m.parquet", work / "in_big.parquet"
+        t0 = time.perf_counter()
+        write_parquet(small, args.rows, seed=2)
+        write_parquet(big, args.big_rows, seed=3)
+        print(f"wrote inputs in {time.perf_counter() - t0:.1f} s "
+              f"({small.stat().st_size / 1e6:.0f} MB, {big.stat().st_size / 1e6:.0f} MB)\n")
+
+        step = bench_step(args.rows)
+        e2e = bench_end_to_end(small, work, args.rows)
+        bigr = bench_big(big, work, args.big_rows)
+        dask = None if args.no_dask else bench_dask(big, work, args.big_rows)
+
+        m = args.rows
+        print(f"{'figure':<66}{'teff':>14}{'bp-rp+G':>14}{'goal':>12}")
+        print("-" * 106)
+
+        def row(label, key_fn, goal=None, fmt="{:.1f}", better="higher"):
+            vals = [key_fn(n) for n in PLANS]
+            cells = "".join(f"{fmt.format(v):>14}" for v in vals)
+            g = "" if goal is None else fmt.format(goal)
+            print(f"{label:<66}{cells}{g:>12}")
+            if goal is not None:
+                ratios = [(v / goal) if better == "higher" else (goal / v) for v in vals]
+                print(f"{'  ratio to goal (>1 meets it)':<66}"
+                      + "".join(f"{r:>13.2f}x" for r in ratios))
+
+        row("table build, s (once per settings; then from disk)", lambda n: step[n]["build_s"],
+            fmt="{:.2f}")
+        row("table size, MB", lambda n: step[n]["table_MB"], fmt="{:.1f}")
+        row("cells rendered exactly, % of table", lambda n: 100 * step[n]["exact_cells"],
+            fmt="{:.2f}")
+        row("colouring step alone, M stars/s (colour_values)",
+            lambda n: m / step[n]["step_s"] / 1e6, GOAL_STEP / 1e6)
+        row("  with pyarrow columns built (colour_arrow), M/s", lambda n: m / step[n]["arrow_s"]
+            / 1e6)
+        row("  exact render path for every row, M/s", lambda n: m / step[n]["exact_s"] / 1e6,
+            fmt="{:.2f}")
+        row("  table speed-up over the exact path", lambda n: step[n]["exact_s"]
+            / step[n]["step_s"], fmt="{:.0f}")
+        row(f"Parquet->Parquet {m / 1e6:g} M rows, M stars/s (in-process, table on disk)",
+            lambda n: m / e2e[n]["inside_s"] / 1e6, GOAL_END_TO_END / 1e6, fmt="{:.2f}")
+        row("  process start-up and imports (with pandas), s", lambda n: e2e[n]["imports_s"],
+            fmt="{:.2f}")
+        row("  whole process, wall s", lambda n: e2e[n]["wall_s"], fmt="{:.2f}")
+        big_m = args.big_rows / 1e6
+        row(f"{big_m:g} M rows: peak resident memory, MB", lambda n: bigr[n]["rss_MB"],
+            GOAL_RSS_MB, fmt="{:.0f}", better="lower")
+        row(f"{big_m:g} M rows: M stars/s (in-process)",
+            lambda n: args.big_rows / bigr[n]["inside_s"] / 1e6, fmt="{:.2f}")
+
+        rate_local = {n: args.big_rows / bigr[n]["inside_s"] for n in PLANS}
+        print("\nA billion rows on this machine, scaled from the 10 M measurement "
+              "(not measured):")
+        for n in PLANS:
+            print(f"  {n:<10} {1e9 / rate_local[n] / 60:6.1f} min "
+                  f"({rate_local[n] / 1e6:.2f} M stars/s, streaming, memory as above)")
+        if dask:
+            r1 = args.big_rows / dask[1]["inside_s"]
+            r2 = args.big_rows / dask[2]["inside_s"]
+            over = dask["overhead_s"]
+            per_worker = (args.big_rows / max(dask[2]["inside_s"] - over, 1e-9)) / 2
+            print(f"\nDask local cluster, teff plan, {big_m:g} M rows in 10 parts "
+                  f"(processes on 127.0.0.1):")
+            print(f"  1 worker : {dask[1]['inside_s']:.2f} s ({r1 / 1e6:.2f} M stars/s)")
+            print(f"  2 workers: {dask[2]['inside_s']:.2f} s ({r2 / 1e6:.2f} M stars/s), "
+                  f"speed-up {r2 / r1:.2f}x on {os.cpu_count()} cores")
+            print(f"  cluster start-up and shut-down alone: {over:.2f} s")
+            print(f"  per worker (2-worker run less start-up): {per_worker / 1e6:.2f} M stars/s")
+            print("A billion rows on a cluster of N such workers, scaled from this measurement "
+                  "(not measured;\nassumes storage and network keep up and one core per "
+                  "worker as here):")
+            for n in (8, 32, 128):
+                t = 1e9 / (n * per_worker) + over
+                print(f"  N = {n:<4} {t / 60:6.1f} min")
+        return 0
+    finally:
+        shutil.rmtree(work, ignore_errors=True)
+
+
+if __name__ == "__main__":
+    sys.exit(main())

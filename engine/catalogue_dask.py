@@ -1,0 +1,216 @@
+"""Catalogues on a Dask cluster: the same per-partition function over Parquet parts.
+
+``dask.dataframe.read_parquet`` splits a Parquet file, folder or glob into
+partitions (files in natural order); every partition goes through
+:func:`engine.catalogue.colour_partition` (which calls the same
+:func:`engine.catalogue.colour_values` as the single-machine path) and is
+written by its worker as ``part.NNNNN.parquet`` into a temporary folder
+beside the output; when every part is written, the folder is renamed to the
+output name. Read in order, the parts hold the rows of the single-machine
+output, in the same order, with the same values.
+
+The scheduler is a ``distributed.LocalCluster`` on this machine (loopback
+only) unless an address ``tcp://HOST:PORT`` of a running scheduler is given.
+Workers of a real cluster need the same version of Starkiln installed and
+must see the input and output paths (a shared file system).
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import os
+import shutil
+import tempfile
+import time
+from pathlib import Path
+
+import numpy as np
+
+from engine.catalogue import (STATUSES, CataloguePlan, Summary, _counts_dict, _first_line,
+                              _parquet_writer, _progress, colour_partition, format_of,
+                              input_files, output_schema)
+from engine.errors import StarkilnError
+
+
+def _check_output_folder(output: Path, overwrite: bool) -> None:
+    from engine.atomic import check_writable
+
+    check_writable(output, overwrite)
+    if output.exists() and not output.is_dir():
+        raise StarkilnError(f"{output} exists and is not a folder; --engine dask writes a "
+                            "folder of Parquet parts")
+    if output.suffix.lower() in (".csv", ".ecsv", ".fits", ".fit", ".fts", ".vot", ".votable",
+                                 ".xml"):
+        raise StarkilnError(f"{output}: --engine dask writes a folder of Parquet parts, not "
+                            f"a {output.suffix} file")
+
+
+def write_part(frame, path: str, schema) -> np.ndarray:
+    """Write one coloured partition as Parquet (run on a worker); returns rows per status.
+
+    Parameters
+    ----------
+    frame : pandas.DataFrame
+        A partition from :func:`engine.catalogue.colour_partition`.
+    path : str
+        Part file to write.
+    schema : pyarrow.Schema
+        The output schema (the same as the single-machine path's).
+
+    Returns
+    -------
+    numpy.ndarray
+        Rows per status, aligned with :data:`engine.catalogue.STATUSES`.
+    """
+    import pyarrow as pa
+    import pyarrow.compute as pc
+
+    table = pa.Table.from_pandas(frame, preserve_index=False).cast(schema)
+    writer = _parquet_writer(path, schema)
+    try:
+        writer.write_table(table)
+    finally:
+        writer.close()
+    counts = np.zeros(len(STATUSES), dtype=np.int64)
+    status = table.column(schema.names[-1])
+    for item in pc.value_counts(status).to_pylist():
+        counts[STATUSES.index(item["values"])] = item["counts"]
+    return counts
+
+
+def colour_catalogue_dask(input_spec, output, plan: CataloguePlan, *, overwrite: bool = False,
+                          scheduler: str | None = None, n_workers: int | None = None,
+                          processes: bool = True, progress: bool = False,
+                          blocksize: str | None = None) -> Summary:
+    """Colour a Parquet file, folder or glob with Dask; write a folder of Parquet parts.
+
+    Parameters
+    ----------
+    input_spec : path
+        A Parquet file, a folder of ``*.parquet`` files, or a glob.
+    output : path
+        Output folder (created; replaced with ``overwrite``).
+    plan : CataloguePlan
+    overwrite : bool
+        Replace an existing output folder.
+    scheduler : str, optional
+        Address of a running scheduler (``tcp://HOST:PORT``); default a local cluster.
+    n_workers : int, optional
+        Workers of the local cluster (default: one per core, one thread each).
+    processes : bool
+        Local cluster workers as processes (default) or threads in this process.
+    progress : bool
+        Progress bar over the parts on stderr.
+    blocksize : str, optional
+        Target partition size handed to ``dask.dataframe.read_parquet`` (e.g. "64MiB");
+        default one partition per row group group chosen by Dask.
+
+    Returns
+    -------
+    Summary
+
+    References
+    ----------
+    Dask documentation: ``dask.dataframe.read_parquet``, ``DataFrame.map_partitions``,
+    ``distributed.LocalCluster``, ``distributed.Client``.
+    """
+    import pyarrow.parquet as pq
+
+    t0 = time.perf_counter()
+    files = input_files(input_spec)
+    for f in files:
+        if format_of(f, "input") != "parquet":
+            raise StarkilnError(f"{f}: --engine dask reads Parquet (a file, a folder or a "
+                                "glob of .parquet files)")
+    output = Path(output)
+    _check_output_folder(output, overwrite)
+    try:
+        schema_in = pq.read_schema(files[0])
+    except Exception as exc:
+        raise StarkilnError(f"{files[0]}: cannot read as Parquet ({_first_line(exc)})") from None
+    schema = output_schema(schema_in, plan, str(files[0]))
+    rows = 0
+    for f in files:
+        try:
+            rows += pq.ParquetFile(f).metadata.num_rows
+        except Exception as exc:
+            raise StarkilnError(f"{f}: cannot read as Parquet ({_first_line(exc)})") from None
+    # One thread per partition on a worker: the workers are the parallelism.
+    plan = dataclasses.replace(plan.for_rows(rows), threads=1)
+    for f in files[1:]:
+        try:
+            s = pq.read_schema(f)
+        except Exception as exc:
+            raise StarkilnError(f"{f}: cannot read as Parquet ({_first_line(exc)})") from None
+        if not s.remove_metadata().equals(schema_in.remove_metadata()):
+            raise StarkilnError(f"{f}: its columns differ from those of {files[0]}; every "
+                                "file needs the same columns")
+
+    try:
+        import dask
+        import dask.dataframe as dd
+        from distributed import Client, LocalCluster, as_completed
+    except ImportError:
+        raise StarkilnError("--engine dask needs Dask: install it with "
+                            "'pip install \"starkiln[cluster]\"' (dask[dataframe], distributed)"
+                            ) from None
+
+    if scheduler:
+        if not str(scheduler).startswith(("tcp://", "tls://", "inproc://")):
+            raise StarkilnError(f"scheduler {scheduler!r} not understood; accepted: "
+                                "tcp://HOST:PORT")
+        try:
+            client = Client(scheduler, timeout="10s")
+        except (OSError, TimeoutError) as exc:
+            raise StarkilnError(f"cannot reach the Dask scheduler at {scheduler} "
+                                f"({_first_line(exc)})") from None
+        cluster = None
+    else:
+        workers = n_workers or os.cpu_count() or 1
+        # Loopback only: worker processes talk over 127.0.0.1; thread workers in-process.
+        where = {"host": "127.0.0.1"} if processes else {}
+        cluster = LocalCluster(n_workers=workers, threads_per_worker=1, processes=processes,
+                               dashboard_address=None, **where)
+        client = Client(cluster)
+    parent = output.parent if str(output.parent) else Path(".")
+    tmp = Path(tempfile.mkdtemp(dir=parent, prefix=f".{output.name}."))
+    try:
+        with dask.config.set({"dataframe.convert-string": False}):
+            kwargs = {"blocksize": blocksize} if blocksize else {}
+            ddf = dd.read_parquet([str(f) for f in files], dtype_backend="pyarrow",
+                                  index=False, **kwargs)
+            meta = colour_partition(ddf._meta, plan)
+            coloured = ddf.map_partitions(colour_partition, plan, meta=meta)
+            parts = coloured.to_delayed()
+        tasks = [dask.delayed(write_part)(p, str(tmp / f"part.{i:05d}.parquet"), schema)
+                 for i, p in enumerate(parts)]
+        futures = client.compute(tasks)
+        counts = np.zeros(len(STATUSES), dtype=np.int64)
+        with _progress(len(futures), progress, unit="part") as bar:
+            for fut in as_completed(futures):
+                counts += fut.result()
+                bar.update(1)
+        _replace_folder(tmp, output, overwrite)
+    except BaseException:
+        shutil.rmtree(tmp, ignore_errors=True)
+        raise
+    finally:
+        client.close()
+        if cluster is not None:
+            cluster.close()
+    rows = int(counts.sum())
+    return Summary(rows, _counts_dict(counts), time.perf_counter() - t0, str(output),
+                   engine="dask", parts=len(tasks))
+
+
+def _replace_folder(tmp: Path, output: Path, overwrite: bool) -> None:
+    """Rename the finished temporary folder to ``output`` (replacing an old one)."""
+    if output.exists():
+        if not overwrite:
+            raise StarkilnError(f"{output} exists; pass --force to overwrite it")
+        old = Path(tempfile.mkdtemp(dir=output.parent, prefix=f".{output.name}.old."))
+        os.replace(output, old / output.name)
+        os.replace(tmp, output)
+        shutil.rmtree(old, ignore_errors=True)
+    else:
+        os.replace(tmp, output)

@@ -1,0 +1,156 @@
+"""Command line: ``starkiln catalogue IN OUT`` (colour every star of a catalogue).
+
+Thin layer over :func:`engine.catalogue.colour_catalogue` and
+:func:`engine.catalogue_dask.colour_catalogue_dask`. This module is imported
+whenever the parser is built, so it imports nothing heavy at module level:
+astropy, pyarrow and dask are loaded only when the command runs.
+"""
+
+from __future__ import annotations
+
+import argparse
+
+from engine.errors import StarkilnError
+
+
+def _number(text: str) -> float:
+    try:
+        return float(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"{text!r} is not a number") from None
+
+
+def _positive_int(text: str) -> int:
+    try:
+        v = int(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"{text!r} is not a whole number") from None
+    if v < 1:
+        raise argparse.ArgumentTypeError(f"{text!r} must be at least 1")
+    return v
+
+
+def add_parsers(sub, add_colour_options) -> None:
+    """Add the ``catalogue`` subcommand (alias ``catalog``) to the ``starkiln`` parser."""
+    p = sub.add_parser(
+        "catalogue", aliases=["catalog"], help="colour every star of a catalogue file",
+        description="Colour every row of a star catalogue with the same settings as the "
+                    "window. Keeps every input column and row, in order, and appends r, g, b "
+                    "(display-encoded 0-1), intensity and status. Formats by extension: "
+                    ".csv .ecsv .fits .vot/.xml .parquet.")
+    p.add_argument("input", metavar="IN",
+                   help="catalogue file; with --engine dask also a folder or glob of Parquet")
+    p.add_argument("output", metavar="OUT",
+                   help="output file (a folder of Parquet parts with --engine dask)")
+    c = p.add_argument_group("columns (one temperature source)")
+    c.add_argument("--temperature-column", metavar="NAME", help="effective temperature, K")
+    c.add_argument("--bv-column", metavar="NAME",
+                   help="Johnson B-V (Ballesteros 2012)")
+    c.add_argument("--bp-rp-column", metavar="NAME",
+                   help="dereddened Gaia BP-RP (Mucciarelli, Bellazzini & Massari 2021, dwarfs, "
+                        "solar [Fe/H] assumed); also the colour for --magnitude-band G")
+    c.add_argument("--extrapolate-bp-rp", action="store_true",
+                   help="colour BP-RP outside the calibrated 0.39-1.50 (up to -0.5..5.0) as "
+                        "status 'extrapolated' (appearance only)")
+    c.add_argument("--magnitude-column", metavar="NAME",
+                   help="apparent magnitudes, for night-vision colours and intensity")
+    c.add_argument("--magnitude", type=_number, metavar="M",
+                   help="one apparent magnitude for every row (instead of a column)")
+    c.add_argument("--magnitude-band", metavar="V|G", default="V",
+                   help="V (Johnson, default) or G (Gaia G -> V by Riello et al. 2021, "
+                        "needs --bp-rp-column)")
+    o = p.add_argument_group("output and engine")
+    o.add_argument("--force", action="store_true", help="overwrite OUT if it exists")
+    o.add_argument("--prefix", default="", metavar="TEXT",
+                   help="put TEXT before the names of the new columns (if IN has an 'r' ...)")
+    o.add_argument("--exact", action="store_true",
+                   help="call the render path for every row instead of the interpolation table "
+                        "(slower; same colours within CIEDE2000 0.2)")
+    o.add_argument("--chunk-rows", type=_positive_int, metavar="N",
+                   help="rows per streamed chunk (default 131072)")
+    o.add_argument("--no-progress", action="store_true", help="no progress bar on stderr")
+    o.add_argument("--engine", default="local", metavar="local|dask",
+                   help="local (default) or dask (Parquet in, folder of Parquet parts out)")
+    o.add_argument("--scheduler", metavar="tcp://HOST:PORT",
+                   help="with --engine dask: a running Dask scheduler (default: a local cluster)")
+    o.add_argument("--workers", type=_positive_int, metavar="N",
+                   help="with --engine dask and no --scheduler: local workers (default: cores)")
+    add_colour_options(p)
+
+
+def plan_from_args(args, settings):
+    """The :class:`engine.catalogue.CataloguePlan` from the parsed options."""
+    from engine.catalogue import CataloguePlan
+
+    sources = [(k, getattr(args, f"{k.replace('-', '_')}_column"))
+               for k in ("temperature", "bv")]
+    given = [(k, v) for k, v in sources if v is not None]
+    if len(given) > 1:
+        raise StarkilnError("give one temperature source: --temperature-column or --bv-column "
+                            "(--bp-rp-column may join either only for --magnitude-band G)")
+    if given:
+        source, column = given[0]
+    elif args.bp_rp_column is not None:
+        source, column = "bp-rp", args.bp_rp_column
+    else:
+        raise StarkilnError("name the temperature source: --temperature-column, --bv-column "
+                            "or --bp-rp-column")
+    band = str(args.magnitude_band).strip().upper()
+    if band not in ("V", "G"):
+        raise StarkilnError(f"--magnitude-band {args.magnitude_band!r} unknown; accepted: V, G")
+    if source != "bp-rp" and args.bp_rp_column is not None and band != "G":
+        raise StarkilnError("--bp-rp-column with another temperature source is used only by "
+                            "--magnitude-band G")
+    if args.extrapolate_bp_rp and source != "bp-rp":
+        raise StarkilnError("--extrapolate-bp-rp applies only to --bp-rp-column")
+    magnitude = args.magnitude
+    if magnitude is not None and args.magnitude_column is not None:
+        raise StarkilnError("give --magnitude-column or --magnitude, not both")
+    return CataloguePlan(
+        settings=settings, source=source, source_column=column,
+        magnitude_column=args.magnitude_column, magnitude_band=band,
+        bp_rp_column=args.bp_rp_column, magnitude=magnitude,
+        extrapolate_bp_rp=args.extrapolate_bp_rp, exact=args.exact, prefix=args.prefix)
+
+
+def cmd_catalogue(args, out) -> int:
+    """``starkiln catalogue``: colour a catalogue, print a summary."""
+    from engine.cli import settings_from_args
+
+    engine = str(args.engine).strip().lower()
+    if engine not in ("local", "dask"):
+        raise StarkilnError(f"--engine {args.engine!r} unknown; accepted: local, dask")
+    if engine == "local" and (args.scheduler or args.workers):
+        raise StarkilnError("--scheduler and --workers need --engine dask")
+    if args.scheduler and args.workers:
+        raise StarkilnError("--workers sets up a local cluster; it cannot go with --scheduler")
+    settings = settings_from_args(args)
+    plan = plan_from_args(args, settings)
+    try:
+        summary = _run(args, plan, engine)
+    except ImportError as exc:
+        raise StarkilnError(f"the catalogue command needs the package {exc.name!r}; install "
+                            "the catalogue extra: pip install 'starkiln[catalogue]'") from None
+    for line in summary.lines():
+        out.write(line + "\n")
+    return 0
+
+
+def _run(args, plan, engine):
+    progress = not args.no_progress
+    if engine == "dask":
+        from engine.catalogue_dask import colour_catalogue_dask
+
+        summary = colour_catalogue_dask(args.input, args.output, plan, overwrite=args.force,
+                                        scheduler=args.scheduler, n_workers=args.workers,
+                                        progress=progress)
+    else:
+        from engine.catalogue import DEFAULT_CHUNK_ROWS, colour_catalogue
+
+        summary = colour_catalogue(args.input, args.output, plan, overwrite=args.force,
+                                   progress=progress,
+                                   chunk_rows=args.chunk_rows or DEFAULT_CHUNK_ROWS)
+    return summary
+
+
+COMMANDS = {"catalogue": cmd_catalogue, "catalog": cmd_catalogue}

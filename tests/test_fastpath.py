@@ -1,0 +1,203 @@
+"""The catalogue fast path against the exact render path, judged by colour-science.
+
+The bound: CIEDE2000 at most 0.2 between the interpolated colour and the exact
+render path, over the whole supported range 500-100 000 K. Lab is computed by
+colour-science (the referee) from the encoded RGB: decoded with colour-science's
+own transfer functions (IEC 61966-2-1 sRGB, pure power gamma, SMPTE ST 2084 PQ),
+converted to XYZ with the display's primaries and white (colour.RGB_to_XYZ),
+then CIE 1976 L*a*b* relative to the display white; colour.difference.delta_E_CIE2000
+(CIE 142-2001) gives the difference.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import warnings
+
+import numpy as np
+import pytest
+
+import engine.settings
+from engine.fastpath import (MAGNITUDE_MAX, MAGNITUDE_MIN, _cache_file, build_colour_table,
+                             colour_table)
+from engine.render import render
+from engine.settings import Settings
+
+colour = pytest.importorskip("colour")
+warnings.filterwarnings("ignore", module="colour")
+
+needs_vision = pytest.mark.skipif(not hasattr(engine.settings.Settings, "aperture_mm"),
+                                  reason="night-vision model not in this build yet")
+
+#: The bound the issue sets (CIEDE2000).
+DELTA_E_BOUND = 0.2
+
+
+def lab_from_encoded(settings: Settings, encoded: np.ndarray) -> np.ndarray:
+    """CIE L*a*b* of display-encoded RGB, all by colour-science (see module docstring)."""
+    d = settings.display
+    v = np.clip(np.asarray(encoded, dtype=np.float64), 0.0, 1.0)
+    if d.transfer == "srgb":
+        linear = colour.models.eotf_sRGB(v)  # IEC 61966-2-1:1999
+    elif d.transfer == "gamma":
+        linear = colour.gamma_function(v, d.gamma)  # pure power law
+    elif d.transfer == "linear":
+        linear = v
+    elif d.transfer == "pq":
+        linear = colour.models.eotf_ST2084(v) / d.peak_luminance_cd_m2  # SMPTE ST 2084
+    else:  # pragma: no cover - every transfer of engine.displays is listed
+        raise AssertionError(d.transfer)
+    space = colour.RGB_Colourspace("display", np.array([d.red_xy, d.green_xy, d.blue_xy]),
+                                   np.array(d.white_xy))
+    XYZ = colour.RGB_to_XYZ(linear, space)
+    return colour.XYZ_to_Lab(XYZ, np.array(d.white_xy))
+
+
+def delta_E(settings: Settings, a, b) -> np.ndarray:
+    return colour.difference.delta_E_CIE2000(lab_from_encoded(settings, a),
+                                             lab_from_encoded(settings, b))
+
+
+def _off_node_temperatures(table, rng) -> np.ndarray:
+    """A quarter, half and three quarters into every cell, plus random points: 500-100 000 K."""
+    m = table.mired_nodes
+    h = np.diff(m)
+    inner = np.concatenate([m[:-1] + f * h for f in (0.25, 0.5, 0.75)])
+    random = rng.uniform(m[0], m[-1], 20000)
+    t = 1e6 / np.concatenate([inner, random])
+    return np.clip(t, 500.0, 100000.0)
+
+
+SETTINGS_CASES = [
+    {},
+    {"display": "display-p3"},
+    {"display": "dci-p3"},
+    {"display": "rec2020"},
+    {"display": "rec2100-pq"},
+    {"gamut": "clip"},
+    {"gamut": "scale"},
+    {"observer": "cie1964"},
+    {"normalisation": "luminance", "luminance_Y": 0.4},
+    {"scene_white": "D50", "adaptation": "cat16"},
+    {"scene_white": "blackbody:3200", "adaptation": "none"},
+]
+
+
+@pytest.mark.parametrize("changes", SETTINGS_CASES, ids=lambda c: ",".join(
+    f"{k}={v}" for k, v in c.items()) or "default")
+def test_interpolation_within_ciede2000_bound(changes):
+    settings = Settings().replace(**changes)
+    table = build_colour_table(settings)  # built here, not taken from the disk cache
+    t = _off_node_temperatures(table, np.random.default_rng(6))
+    exact = render(settings, t).rgb_encoded
+    fast = np.stack(table.lookup(t)[:3], axis=-1)
+    de = delta_E(settings, exact, fast)
+    assert np.isfinite(de).all()
+    assert de.max() <= DELTA_E_BOUND, (f"max CIEDE2000 {de.max():.3f} at "
+                                       f"{t[np.argmax(de)]:.0f} K")
+
+
+def test_bound_holds_at_the_ends_of_the_range():
+    # 500 K and 100 000 K exactly, and just inside them.
+    settings = Settings()
+    t = np.array([500.0, 500.001, 501.0, 99999.0, 99999.999, 100000.0])
+    exact = render(settings, t).rgb_encoded
+    fast = np.stack(colour_table(settings).lookup(t)[:3], axis=-1)
+    assert delta_E(settings, exact, fast).max() <= DELTA_E_BOUND
+
+
+def test_the_test_can_fail_on_a_coarse_table():
+    # The referee notices a poor table: a 16-node table over the same range is far off.
+    settings = Settings()
+    nodes = np.linspace(10.0, 2000.0, 16)
+    coarse = render(settings, np.clip(1e6 / nodes, 500, 100000)).rgb_encoded
+    t = 1e6 / (0.5 * (nodes[:-1] + nodes[1:]))
+    fast = 0.5 * (coarse[:-1] + coarse[1:])
+    assert delta_E(settings, render(settings, t).rgb_encoded, fast).max() > DELTA_E_BOUND
+
+
+def test_table_nodes_are_render_outputs():
+    # At the nodes the table returns what render returned (float32 storage).
+    settings = Settings(display="display-p3")
+    table = colour_table(settings)
+    t = np.clip(1e6 / table.mired_nodes[::97], 500.0, 100000.0)
+    fast = np.stack(table.lookup(t)[:3], axis=-1)
+    np.testing.assert_allclose(fast, render(settings, t).rgb_encoded, atol=2e-6)
+
+
+def test_intensity_is_one_without_magnitudes():
+    # Engine contract: intensity is ones without magnitudes.
+    r, g, b, intensity = colour_table(Settings()).lookup(np.array([3000.0, 6500.0, 30000.0]))
+    assert np.all(intensity == 1.0)
+
+
+VISION_CASES = [
+    {},
+    {"vision": "none"},
+    {"aperture_mm": 250.0, "transmission": 0.8},
+    {"intensity_curve": "linear", "night_tint": 0.5, "display": "rec2100-pq"},
+    {"display": "dci-p3", "blur_spot_arcmin": 2.0},
+]
+
+
+def _vision_points(table, n, seed):
+    """Random points over the whole range: 500-100 000 K (uniform in mired) and -30..30 mag,
+    half of them inside the magnitude rows the table stores (where the colours change)."""
+    rng = np.random.default_rng(seed)
+    t = 1e6 / rng.uniform(table.mired_nodes[0], table.mired_nodes[-1], n)
+    lo, hi = max(table.magnitude_nodes[0], MAGNITUDE_MIN), min(table.magnitude_nodes[-1],
+                                                                   MAGNITUDE_MAX)
+    mag = np.concatenate([rng.uniform(MAGNITUDE_MIN, MAGNITUDE_MAX, n // 2),
+                          rng.uniform(lo, hi, n - n // 2)])
+    return np.clip(t, 500.0, 100000.0), mag
+
+
+@needs_vision
+@pytest.mark.parametrize("changes", VISION_CASES, ids=lambda c: ",".join(
+    f"{k}={v}" for k, v in c.items()) or "default")
+def test_vision_table_within_ciede2000_bound(changes):
+    settings = Settings().replace(**changes)
+    table = build_colour_table(settings, with_magnitude=True)  # not from the disk cache
+    t, mag = _vision_points(table, 60000, 9)
+    exact = render(settings, t, mag)
+    r, g, b, intensity = table.lookup(t, mag)
+    de = delta_E(settings, exact.rgb_encoded, np.stack([r, g, b], axis=-1))
+    assert de.max() <= DELTA_E_BOUND, (f"max CIEDE2000 {de.max():.3f} at "
+                                       f"{t[np.argmax(de)]:.0f} K, mag {mag[np.argmax(de)]:.2f}")
+    # Intensity within one 8-bit display step (common practice for "same on screen").
+    assert np.abs(intensity - exact.intensity).max() <= 1.0 / 255.0
+
+
+@needs_vision
+def test_vision_table_needs_its_exact_cells():
+    # Without the cells marked for exact rendering the render path's step (the mesopic
+    # fixed point dropping to m = 0 for very red stars) breaks the bound: the marking matters.
+    settings = Settings()
+    table = colour_table(settings, with_magnitude=True)
+    # A small part of the stored cells (the table keeps only the magnitudes where colours
+    # change) is marked.
+    assert table.exact_cells is not None and 0.0 < table.exact_fraction < 0.15
+    bare = dataclasses.replace(table, exact_cells=None)
+    t, mag = _vision_points(table, 40000, 9)
+    exact = render(settings, t, mag)
+    r, g, b, _ = bare.lookup(t, mag)
+    assert delta_E(settings, exact.rgb_encoded, np.stack([r, g, b], axis=-1)).max() > DELTA_E_BOUND
+
+
+def test_disk_cache_returns_the_built_table(tmp_path, monkeypatch):
+    monkeypatch.setenv("STARKILN_CACHE_DIR", str(tmp_path))
+    settings = Settings(display="rec2020", gamut="scale")
+    colour_table.cache_clear()
+    try:
+        first = colour_table(settings)
+        assert _cache_file(settings, False).exists()
+        colour_table.cache_clear()
+        again = colour_table(settings)  # from disk now
+    finally:
+        colour_table.cache_clear()
+    assert again is not first
+    np.testing.assert_array_equal(again.values, first.values)
+    np.testing.assert_array_equal(again.slopes, first.slopes)
+    # Other settings, another file.
+    assert _cache_file(settings.replace(gamut="clip"), False) != _cache_file(settings, False)
+    assert _cache_file(settings, True) != _cache_file(settings, False)
