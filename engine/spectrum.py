@@ -142,6 +142,46 @@ def radiant_exitance_W_m2(temperature_K, samples: int = 20001) -> np.ndarray:
     return exitance.reshape(np.shape(temperature_K))
 
 
+def luminous_exitance_lm_m2(temperature_K, scotopic: bool = False) -> np.ndarray:
+    """Luminous exitance of a blackbody, ``M_v = K_m pi sum L(lambda, T) V(lambda) d_lambda``.
+
+    Parameters
+    ----------
+    temperature_K : array_like
+        Temperatures in kelvin.
+    scotopic : bool
+        Use V'(lambda) with K'_m = 1700 lm/W instead of V(lambda) with K_m = 683 lm/W.
+
+    Returns
+    -------
+    numpy.ndarray
+        lm/m^2 (photopic or scotopic), summed on the 360-830 nm grid at 1 nm.
+
+    References
+    ----------
+    CIE S 010:2004 (V, V', K_m, K'_m); CIE 15:2004 section 7.1 (summation).
+    """
+    from engine.observers import KM_PHOTOPIC_LM_W, KM_SCOTOPIC_LM_W, v_photopic, v_scotopic
+
+    weights = v_scotopic() if scotopic else v_photopic()
+    km = KM_SCOTOPIC_LM_W if scotopic else KM_PHOTOPIC_LM_W
+    return km * math.pi * planck_weighted_sums(temperature_K, weights)
+
+
+def luminous_efficacy_lm_W(temperature_K) -> np.ndarray:
+    """Photopic luminous efficacy of blackbody radiation, ``M_v / M_e`` in lm/W.
+
+    ``M_e`` is the full radiant exitance over all wavelengths
+    (:func:`radiant_exitance_W_m2`), so this is the efficacy of the whole radiation,
+    which peaks near 95 lm/W around 6600 K (from memory).
+
+    References
+    ----------
+    CIE S 010:2004; Stefan-Boltzmann law (CODATA 2018).
+    """
+    return luminous_exitance_lm_m2(temperature_K) / radiant_exitance_W_m2(temperature_K)
+
+
 _CHUNK = 512  # temperatures per block: 512 x 471 doubles = 1.9 MB, stays in cache
 
 

@@ -174,3 +174,40 @@ def test_band_integral_matches_colour_summation(colour):
     ref = colour.sd_to_XYZ(sd, cm, method="Integration", k=1)
     ours = band_integral(planck_radiance(4000.0), tables()["cmf_cie1931"])
     np.testing.assert_allclose(ours, ref, rtol=1e-12)
+
+
+def test_luminous_exitance_against_colour_science():
+    # colour.luminous_flux (K_m = 683 lm/W, CIE 1924 V) of colour's own 1 nm blackbody,
+    # (trapezoid rule over W sr^-1 m^-2 nm^-1) times pi for exitance; the tolerance allows for
+    # colour's rounded c2 = 1.4388e-2 and its trapezoid ends.
+    import warnings
+
+    from engine.spectrum import luminous_exitance_lm_m2
+
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        import colour
+
+        lefs = colour.colorimetry.SDS_LEFS
+        for t in (2856.0, 5800.0, 10000.0):
+            sd = colour.sd_blackbody(t, colour.SpectralShape(360, 830, 1))
+            ref_p = np.pi * colour.luminous_flux(sd, lefs["CIE 1924 Photopic Standard Observer"],
+                                                 K_m=683.0)
+            ref_s = np.pi * colour.luminous_flux(sd, lefs["CIE 1951 Scotopic Standard Observer"],
+                                                 K_m=1700.0)
+            # colour rounds c2: dL/L = x dc2/c2 ~ 9 x 1.6e-5 = 1.4e-4 at 2856 K and 555 nm
+            assert float(luminous_exitance_lm_m2(t)) == pytest.approx(ref_p, rel=3e-4)
+            assert float(luminous_exitance_lm_m2(t, scotopic=True)) == pytest.approx(ref_s,
+                                                                                    rel=2e-3)
+
+
+def test_blackbody_luminous_efficacy_peak():
+    # From memory (handbook value): the luminous efficacy of blackbody radiation peaks at
+    # about 95 lm/W near 6600 K; a 2856 K radiator (CIE A) gives about 15 lm/W.
+    from engine.spectrum import luminous_efficacy_lm_W
+
+    t = np.linspace(4000.0, 10000.0, 121)
+    k = luminous_efficacy_lm_W(t)
+    assert 93.0 < k.max() < 97.0
+    assert 6200.0 < t[np.argmax(k)] < 7000.0
+    assert 13.0 < float(luminous_efficacy_lm_W(2856.0)) < 17.0
