@@ -18,6 +18,18 @@ class OutputExistsError(StarkilnError):
     """The output file exists and overwriting was not asked for."""
 
 
+def format_for_extension(path, formats: dict[str, str], kind: str) -> str:
+    """The format a file's extension names, from ``formats`` (``{".png": "png", ...}``).
+
+    Raises a one-line :class:`StarkilnError` naming the extension and those accepted.
+    """
+    suffix = Path(path).suffix.lower()
+    if suffix not in formats:
+        raise StarkilnError(f"{path}: unknown {kind} extension {suffix or '(none)'!r}; "
+                            f"accepted: {', '.join(formats)}")
+    return formats[suffix]
+
+
 def check_writable(path, overwrite: bool) -> Path:
     """Validate an output path before any work: folder exists and is writable, no clobbering."""
     path = Path(path)

@@ -253,11 +253,9 @@ def _pair(value, what: str) -> tuple[float, float]:
 
 def format_for_path(path) -> str:
     """Texture format from the file extension: ``.png`` -> ``png``, ``.exr`` -> ``exr``."""
-    suffix = Path(path).suffix.lower()
-    if suffix not in FORMATS:
-        raise StarkilnError(f"{path}: unknown texture extension {suffix or '(none)'!r}; "
-                            f"accepted: {', '.join(FORMATS)}")
-    return FORMATS[suffix]
+    from engine.atomic import format_for_extension
+
+    return format_for_extension(path, FORMATS, "texture")
 
 
 @dataclass(frozen=True)

@@ -209,11 +209,9 @@ def build_palette(settings, *, range_K=None, steps: int = 16, axis: str = "mired
 
 def palette_format_for_path(path) -> str:
     """Palette format from the extension: json, csv, gpl, or sheet (``.png``)."""
-    suffix = Path(path).suffix.lower()
-    if suffix not in PALETTE_FORMATS:
-        raise StarkilnError(f"{path}: unknown palette extension {suffix or '(none)'!r}; "
-                            f"accepted: {', '.join(PALETTE_FORMATS)}")
-    return PALETTE_FORMATS[suffix]
+    from engine.atomic import format_for_extension
+
+    return format_for_extension(path, PALETTE_FORMATS, "palette")
 
 
 def palette_title(palette: Palette) -> str:
