@@ -367,23 +367,18 @@ _SAFE = {"temperature": 5772.0, "bv": 0.65, "bp-rp": 0.82}
 
 def _colours(plan: CataloguePlan, temperature_K, v_mag):
     """r, g, b, intensity (float32) from the table or, with ``exact``, from render."""
-    try:
-        if plan.exact:
-            from engine.render import render
+    if plan.exact:
+        from engine.render import render
 
-            rendered = render(plan.settings, temperature_K, v_mag)
-            rgb = rendered.rgb_encoded.astype(np.float32)
-            inten = np.broadcast_to(rendered.intensity, temperature_K.shape).astype(np.float32)
-            return (np.ascontiguousarray(rgb[:, 0]), np.ascontiguousarray(rgb[:, 1]),
-                    np.ascontiguousarray(rgb[:, 2]), inten)
-        from engine.fastpath import colour_table
+        rendered = render(plan.settings, temperature_K, v_mag)
+        rgb = rendered.rgb_encoded.astype(np.float32)
+        inten = np.broadcast_to(rendered.intensity, temperature_K.shape).astype(np.float32)
+        return (np.ascontiguousarray(rgb[:, 0]), np.ascontiguousarray(rgb[:, 1]),
+                np.ascontiguousarray(rgb[:, 2]), inten)
+    from engine.fastpath import colour_table
 
-        table = colour_table(plan.settings, v_mag is not None)
-        return table.lookup(temperature_K, v_mag)
-    except NotImplementedError:
-        raise StarkilnError("magnitudes need the night-vision model, which this build of "
-                            "the render path does not have yet; leave out the magnitude "
-                            "column") from None
+    table = colour_table(plan.settings, v_mag is not None)
+    return table.lookup(temperature_K, v_mag)
 
 
 # --- cells to numbers ----------------------------------------------------------------------

@@ -175,11 +175,6 @@ def _lut_spec_and_settings(args):
     return LutSpec(file_format=fmt, depth=depth, **base), settings
 
 
-def _magnitudes_unavailable(exc) -> StarkilnError:
-    return StarkilnError(f"magnitudes need the night-vision model, which this build does not "
-                         f"have yet ({exc}); leave out --magnitudes for a full-colour strip")
-
-
 def cmd_lut(args, out) -> int:
     """``starkiln lut``: write a lookup texture (see :mod:`engine.lut`)."""
     from engine.atomic import check_writable
@@ -189,8 +184,6 @@ def cmd_lut(args, out) -> int:
     check_writable(args.out, args.force)
     try:
         array, metadata = build_lut(settings, spec)
-    except NotImplementedError as exc:
-        raise _magnitudes_unavailable(exc) from None
     except MemoryError:
         raise StarkilnError(f"not enough memory for a {spec.width} x {spec.height} texture"
                             f"{' with magnitudes' if spec.magnitude_range else ''}; try a "

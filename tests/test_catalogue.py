@@ -29,15 +29,12 @@ import engine.catalogue as cat  # noqa: E402
 
 with cat.astropy_guard():  # colour-science may have left a stand-in matplotlib module
     astropy_table = pytest.importorskip("astropy.table")
-import engine.settings  # noqa: E402
 from engine.catalogue import CataloguePlan, colour_catalogue  # noqa: E402
 from engine.cli import main  # noqa: E402
 from engine.errors import StarkilnError  # noqa: E402
 from engine.settings import Settings  # noqa: E402
 
 Table = astropy_table.Table
-needs_vision = pytest.mark.skipif(not hasattr(engine.settings.Settings, "aperture_mm"),
-                                  reason="night-vision model not in this build yet")
 ONE_STEP = 1.0 / 255.0
 REPO = Path(__file__).resolve().parent.parent
 
@@ -112,7 +109,6 @@ def test_bv_rows_equal_the_colour_command(tmp_path, capsys):
         assert np.abs(np.subtract(got, ref)).max() <= ONE_STEP, (b, got, ref)
 
 
-@needs_vision
 @pytest.mark.parametrize("through_table", [False, True])
 def test_magnitude_rows_equal_the_colour_command(tmp_path, capsys, monkeypatch, through_table):
     if through_table:  # small runs call render directly; force the 2-D table here
@@ -132,7 +128,6 @@ def test_magnitude_rows_equal_the_colour_command(tmp_path, capsys, monkeypatch, 
         assert abs(out["intensity"][i] - ref["intensity"]) <= ONE_STEP
 
 
-@needs_vision
 def test_gaia_g_rows_use_v_from_the_g_to_v_relation(tmp_path, capsys):
     # A Sun-like star by Mamajek's mean dwarf sequence (2024.05.15, G2V): Bp-Rp 0.823,
     # G - V = -0.155, Teff 5770 K. With G = 2.0 its V is 2.155: the row must look like
@@ -196,7 +191,6 @@ def test_bv_and_bp_rp_ranges(tmp_path):
     assert out["r"][0] is not None and out["r"][4] is None
 
 
-@needs_vision
 def test_magnitude_statuses(tmp_path):
     rows = [[5772, 4.0, 0.8], [5772, "", 0.8], [5772, "bright", 0.8], [5772, 31, 0.8],
             [5772, 4.0, ""], [5772, 4.0, 5.2], [5772, 4.0, "x"], ["", "", ""]]
@@ -222,8 +216,6 @@ def test_chunking_does_not_change_the_result(tmp_path):
 
 @pytest.mark.parametrize("with_magnitude", [False, True])
 def test_threads_do_not_change_the_result(tmp_path, monkeypatch, with_magnitude):
-    if with_magnitude and not hasattr(engine.settings.Settings, "aperture_mm"):
-        pytest.skip("night-vision model not in this build yet")
     monkeypatch.setattr(cat, "EXACT_ROWS_WITH_MAGNITUDE", 0)
     rng = np.random.default_rng(7)
     n = 80000

@@ -71,10 +71,6 @@ def test_dask_equals_the_single_machine_path(tmp_path, source, column):
 
 def test_dask_equals_the_single_machine_path_with_magnitudes(tmp_path, monkeypatch):
     import engine.catalogue as cat
-    import engine.settings
-
-    if not hasattr(engine.settings.Settings, "aperture_mm"):
-        pytest.skip("night-vision model not in this build yet")
     monkeypatch.setattr(cat, "EXACT_ROWS_WITH_MAGNITUDE", 0)  # through the 2-D table
     src = tmp_path / "in"
     src.mkdir()

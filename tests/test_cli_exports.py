@@ -21,13 +21,10 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-import engine.settings
 from engine.cli import build_parser, main
 from engine.render import render
 from engine.settings import Settings
 
-needs_vision = pytest.mark.skipif(not hasattr(engine.settings.Settings, "aperture_mm"),
-                                  reason="night-vision model (magnitudes) not available yet")
 REPO = Path(__file__).resolve().parent.parent
 
 
@@ -123,7 +120,6 @@ def test_exr_strip_matches_render_in_float(tmp_path, capsys):
     assert Settings.from_dict(meta["settings"]).scene_white == "D50"
 
 
-@needs_vision
 @pytest.mark.parametrize("name,reader,tol", [
     ("m.png", read_png8, 0.5 / 255), ("m16.png", read_png16, 0.5 / 65535),
     ("m.exr", read_exr, 1e-6)])
@@ -144,7 +140,6 @@ def test_magnitude_texture_matches_render(tmp_path, capsys, name, reader, tol):
     assert np.abs(arr[..., 3] / scale - r.intensity).max() <= tol + 1e-12
 
 
-@needs_vision
 def test_premultiplied_exr_holds_linear_times_intensity(tmp_path, capsys):
     out = tmp_path / "p.exr"
     code, _, err = run(["lut", out, "--size", "16x4", "--magnitudes", "0:6", "--premultiply"],
@@ -167,7 +162,6 @@ def test_negative_ranges_parse_as_typed():
     assert args.magnitudes == "-1:7"
 
 
-@needs_vision
 def test_negative_magnitude_range_runs_end_to_end(tmp_path, capsys):
     code, text, err = run(["lut", tmp_path / "n.png", "--magnitudes", "-1:7", "--size", "8x4"],
                           capsys)
@@ -190,7 +184,6 @@ def test_settings_from_rebuilds_an_identical_file(tmp_path, capsys, name, extra)
     assert new.read_bytes() == old.read_bytes()
 
 
-@needs_vision
 def test_settings_from_keeps_night_vision_fields(tmp_path, capsys):
     old = tmp_path / "night.exr"
     code, _, err = run(["lut", old, "--size", "16x8", "--magnitudes", "-1:9",
