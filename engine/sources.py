@@ -5,13 +5,13 @@
   ``T = 4600 K * (1 / (0.92 (B-V) + 1.7) + 1 / (0.92 (B-V) + 0.62))``,
   accepted for -0.40 <= B-V <= 2.00 (the range of normal stars; the formula
   diverges at B-V = -0.674).
-- Main-sequence spectral classes O5V-M8V through the table below: mean dwarf
-  effective temperatures after Pecaut & Mamajek (2013), ApJS 208, 9, Table 5
-  and E. Mamajek's maintained "Modern Mean Dwarf Stellar Color and Effective
-  Temperature Sequence". The values are **from memory** of that table (rounded
-  as published, to 10-100 K); check them against the current table before
-  relying on a single class to better than about 2 %. Decimal subclasses
-  (``K5.5V``) interpolate linearly in temperature between the neighbours.
+- Main-sequence spectral classes O5V-M8V through E. Mamajek, "A Modern Mean
+  Dwarf Stellar Color and Effective Temperature Sequence", version 2024.05.15
+  (the maintained form of Pecaut & Mamajek 2013, ApJS 208, 9, Table 5), column
+  Teff, copied from the table file as its author publishes it. Decimal
+  subclasses interpolate linearly in temperature between the tabulated
+  neighbours, which include the half subclasses the table lists (O5.5, B0.5,
+  F9.5, M0.5 ...).
 """
 
 from __future__ import annotations
@@ -27,23 +27,41 @@ TEMPERATURE_MAX_K = 100000.0
 BV_MIN = -0.40
 BV_MAX = 2.00
 
-#: Main-sequence effective temperatures (K), from memory of Pecaut & Mamajek (2013) Table 5.
+#: Main-sequence effective temperatures (K) of the whole subclasses, Mamajek (2024.05.15).
 SPECTRAL_CLASS_TEFF_K = {
-    "O5": 41400, "O6": 39500, "O7": 37100, "O8": 35100, "O9": 33300,
+    "O5": 41400, "O6": 39800, "O7": 37900, "O8": 35100, "O9": 33300,
     "B0": 31400, "B1": 26000, "B2": 20600, "B3": 17000, "B4": 16400,
     "B5": 15700, "B6": 14500, "B7": 14000, "B8": 12300, "B9": 10700,
-    "A0": 9700, "A1": 9300, "A2": 8800, "A3": 8600, "A4": 8250,
+    "A0": 9700, "A1": 9300, "A2": 8840, "A3": 8600, "A4": 8250,
     "A5": 8100, "A6": 7910, "A7": 7760, "A8": 7590, "A9": 7400,
     "F0": 7220, "F1": 7020, "F2": 6820, "F3": 6750, "F4": 6670,
     "F5": 6550, "F6": 6350, "F7": 6280, "F8": 6180, "F9": 6050,
     "G0": 5930, "G1": 5860, "G2": 5770, "G3": 5720, "G4": 5680,
     "G5": 5660, "G6": 5600, "G7": 5550, "G8": 5480, "G9": 5380,
-    "K0": 5270, "K1": 5170, "K2": 5100, "K3": 4830, "K4": 4600,
-    "K5": 4440, "K6": 4300, "K7": 4100, "K8": 3990, "K9": 3930,
+    "K0": 5290, "K1": 5170, "K2": 5100, "K3": 4870, "K4": 4600,
+    "K5": 4440, "K6": 4300, "K7": 4090, "K8": 3990, "K9": 3930,
     "M0": 3850, "M1": 3660, "M2": 3560, "M3": 3430, "M4": 3210,
     "M5": 3060, "M6": 2810, "M7": 2680, "M8": 2570,
 }
-_ORDER = list(SPECTRAL_CLASS_TEFF_K)
+#: The half subclasses the same table lists (used as interpolation nodes too).
+HALF_SUBCLASS_TEFF_K = {
+    "O5.5": 40400, "O6.5": 38000, "O7.5": 36100, "O8.5": 34300, "O9.5": 31900,
+    "B0.5": 29000, "B1.5": 24500, "B2.5": 18500, "B9.5": 10400, "F9.5": 5990,
+    "M0.5": 3770, "M1.5": 3620, "M2.5": 3470, "M3.5": 3270, "M4.5": 3110,
+    "M5.5": 2930, "M6.5": 2740, "M7.5": 2630,
+}
+_LETTERS = "OBAFGKM"
+
+
+def _class_code(key: str) -> float:
+    """Position on one numeric scale: O0 = 0, B0 = 10, ... with the subclass added."""
+    return 10.0 * _LETTERS.index(key[0]) + float(key[1:])
+
+
+_NODES = sorted((_class_code(k), float(v)) for k, v in
+                {**SPECTRAL_CLASS_TEFF_K, **HALF_SUBCLASS_TEFF_K}.items())
+_NODE_CODES = np.array([c for c, _ in _NODES])
+_NODE_TEFF = np.array([t for _, t in _NODES])
 _CLASS_RE = re.compile(r"^\s*([OBAFGKM])\s*(\d(?:\.\d+)?)\s*(V|IV|III|II|I|IA|IB|IAB)?\s*$",
                        re.IGNORECASE)
 
@@ -96,12 +114,12 @@ def temperature_from_bv(bv) -> np.ndarray:
 def temperature_from_spectral_class(text: str) -> float:
     """Effective temperature of a main-sequence spectral class such as ``G2V`` or ``K5.5``.
 
-    Only luminance class V (or none, meaning V) is accepted; O5-M8.
+    Only luminosity class V (or none, meaning V) is accepted; O5-M8.
 
     References
     ----------
-    Pecaut & Mamajek (2013), ApJS 208, 9, Table 5 (values from memory; see the
-    module docstring).
+    E. Mamajek, mean dwarf sequence, version 2024.05.15 (Pecaut & Mamajek 2013,
+    ApJS 208, 9, Table 5); see the module docstring.
 
     Examples
     --------
@@ -116,15 +134,7 @@ def temperature_from_spectral_class(text: str) -> float:
     if lum != "V":
         raise InputRangeError(f"spectral class {text!r}: luminosity class {lum} is not supported; "
                               "accepted: main-sequence (V) classes O5V to M8V")
-    lo_key = f"{letter}{int(sub)}"
-    if lo_key not in SPECTRAL_CLASS_TEFF_K:
+    code = 10.0 * _LETTERS.index(letter) + sub
+    if not _NODE_CODES[0] <= code <= _NODE_CODES[-1] or sub >= 10.0:
         raise InputRangeError(f"spectral class {text!r} is outside the table; accepted: O5V to M8V")
-    i = _ORDER.index(lo_key)
-    frac = sub - int(sub)
-    t_lo = float(SPECTRAL_CLASS_TEFF_K[lo_key])
-    if frac == 0.0:
-        return t_lo
-    if i + 1 >= len(_ORDER):
-        raise InputRangeError(f"spectral class {text!r} is outside the table; accepted: O5V to M8V")
-    t_hi = float(SPECTRAL_CLASS_TEFF_K[_ORDER[i + 1]])
-    return t_lo + frac * (t_hi - t_lo)
+    return float(np.interp(code, _NODE_CODES, _NODE_TEFF))

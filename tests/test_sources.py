@@ -5,7 +5,7 @@ References:
 - F. J. Ballesteros (2012), "New insights into black bodies", EPL 97, 34008:
   T = 4600 K (1 / (0.92 (B-V) + 1.7) + 1 / (0.92 (B-V) + 0.62)).
 - IAU 2015 Resolution B3: nominal solar effective temperature 5772 K.
-- Pecaut & Mamajek (2013), ApJS 208, 9: G2V ~ 5770 K (from memory).
+- E. Mamajek, mean dwarf sequence v2024.05.15 (Pecaut & Mamajek 2013, ApJS 208, 9, Table 5).
 - The Harvard/MK sequence O B A F G K M runs from hot to cool (common practice).
 """
 
@@ -66,7 +66,7 @@ def test_ballesteros_range_edges_accepted():
 
 
 def test_g2v_is_sun_like():
-    # Pecaut & Mamajek (2013) G2V 5770 K (from memory); IAU 2015 solar Teff 5772 K.
+    # Mamajek (2024.05.15) G2V 5770 K; IAU 2015 Resolution B3 nominal solar Teff 5772 K.
     assert temperature_from_spectral_class("G2V") == pytest.approx(5772.0, abs=30.0)
     # luminosity class V may be omitted, and case/space do not matter
     assert temperature_from_spectral_class("g2") == temperature_from_spectral_class(" G2 V ")
@@ -120,3 +120,18 @@ def test_check_temperature_rejects(value, shown):
     msg = str(exc.value)
     assert "\n" not in msg
     assert f"{shown} K" in msg and "500" in msg and "100000" in msg
+
+
+@pytest.mark.parametrize("cls,teff_K", [
+    # E. Mamajek, "A Modern Mean Dwarf Stellar Color and Effective Temperature Sequence",
+    # version 2024.05.15, column Teff (whole and half subclasses as published).
+    ("O5V", 41400), ("O9.5V", 31900), ("B0.5V", 29000), ("B5V", 15700), ("A0V", 9700),
+    ("A2V", 8840), ("F5V", 6550), ("F9.5V", 5990), ("K0V", 5290), ("K3V", 4870),
+    ("K7V", 4090), ("M0.5V", 3770), ("M3.5V", 3270), ("M8V", 2570)])
+def test_spectral_classes_against_the_published_sequence(cls, teff_K):
+    assert temperature_from_spectral_class(cls) == teff_K
+
+
+def test_quarter_subclass_interpolates_between_published_nodes():
+    # M0.25V lies halfway between M0V (3850 K) and M0.5V (3770 K) of Mamajek (2024.05.15).
+    assert temperature_from_spectral_class("M0.25V") == pytest.approx(3810.0, abs=1e-9)
