@@ -7,10 +7,12 @@ The model, in order (all vectorised):
    dark-adapted pupil (7 mm by default, common practice), ``D`` the instrument
    aperture and ``tau`` its transmission (naked eye: ``D = d``, ``tau = 1``).
    The aperture gain is therefore ``5 log10(D / d)`` magnitudes.
-   ``E0 = 2.54e-6 lx`` is the illuminance of a zero-magnitude star *from
-   memory* of Allen's Astrophysical Quantities (4th ed., 2000, section 15.3);
-   published values differ by tens of percent (about 2.0e-6 to 2.6e-6 lx, from
-   memory), which shifts every magnitude threshold below by up to ~0.3 mag.
+   ``E0 = 2.54e-6 lx`` is the illuminance of a zero-magnitude star outside the
+   atmosphere as P. Schlyter's "Radiometry and photometry in astronomy" tables
+   it (and, from memory, Allen's Astrophysical Quantities, 4th ed., 2000).
+   Published values differ by tens of percent: 2.1e-6 lx where 1 lx is taken
+   as m = -14.18, 2.6e-6 lx elsewhere; that shifts every magnitude threshold
+   below by up to ~0.2 mag.
 2. **Rod and cone signals**: the V band is taken as photopic (V(lambda)), so
    ``E_v`` is the photopic illuminance; the scotopic illuminance is
    ``E_s = E_v * S/P`` with the star's scotopic-to-photopic ratio
@@ -86,7 +88,8 @@ import numpy as np
 
 from engine.errors import InputRangeError
 
-#: Illuminance of a zero-magnitude (V) star outside the atmosphere, lux (from memory, Allen 2000).
+#: Illuminance of a zero-magnitude (V) star outside the atmosphere, lux (Schlyter's tables;
+#: Allen 2000 from memory; other published values 2.1e-6 to 2.6e-6, see the module docstring).
 E0_LUX = 2.54e-6
 #: CIE 191:2010 MES2 constants.
 MES2_A = 0.7670
