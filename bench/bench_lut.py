@@ -6,8 +6,7 @@ Figures, measured side by side in one run:
 
 1. ``starkiln lut OUT.exr --size 1024x256 --magnitudes -1:7`` end to end in a
    fresh process, minus the start-up of the same process doing nothing
-   (``starkiln --version``); best of three. Without the night-vision model the
-   texture is a strip (no ``--magnitudes``), and the script says so.
+   (``starkiln --version``); best of three.
 2. The per-texel colour-science route, ``colour.sd_blackbody`` ->
    ``colour.sd_to_XYZ`` -> ``colour.XYZ_to_RGB``, timed on a sample of 200
    texels and scaled to 1024 x 256. It computes colour only (no magnitudes, no
@@ -31,13 +30,6 @@ REPO = Path(__file__).resolve().parent.parent
 SAMPLE = 200
 GOAL_RATIO = 500.0
 GOAL_LARGE_S = 2.0
-
-
-def _has_vision() -> bool:
-    sys.path.insert(0, str(REPO))
-    import engine.settings
-
-    return hasattr(engine.settings.Settings, "aperture_mm")
 
 
 def _run(args) -> float:
@@ -76,8 +68,7 @@ def colour_route_per_texel_s(temperatures_K) -> float:
 
 
 def main() -> int:
-    vision = _has_vision()
-    mags = ["--magnitudes", "-1:7"] if vision else []
+    mags = ["--magnitudes", "-1:7"]
     with tempfile.TemporaryDirectory() as tmp:
         out = os.path.join(tmp, "lut.exr")
         big = os.path.join(tmp, "big.exr")
@@ -95,13 +86,13 @@ def main() -> int:
     per_texel = colour_route_per_texel_s(sample)
     colour_total = per_texel * 1024 * 256
 
-    split = _in_process_split(4096, 1024, vision)
+    split = _in_process_split(4096, 1024)
 
     ours = ours_total - startup
     big_s = big_total - startup
     ratio = colour_total / ours
     print("starkiln lut benchmark (one run, side by side)")
-    print(f"  magnitudes: {'-1:7 (night-vision model)' if vision else 'none (strip; the night-vision model is not available)'}")
+    print("  magnitudes: -1:7 (night-vision model)")
     print(f"  process start-up (starkiln --version), best of 3:  {startup:8.3f} s")
     print(f"  starkiln lut 1024x256 .exr, end to end, best of 3: {ours_total:8.3f} s")
     print(f"    beyond start-up:                                {ours:8.3f} s")
@@ -118,7 +109,7 @@ def main() -> int:
     return 0
 
 
-def _in_process_split(width: int, height: int, vision: bool) -> dict:
+def _in_process_split(width: int, height: int) -> dict:
     """Where the time of a large texture goes: the render call, the whole build, the write."""
     from engine.lut import LutSpec, build_lut, lut_axes, write_lut
     from engine.render import render
@@ -126,7 +117,7 @@ def _in_process_split(width: int, height: int, vision: bool) -> dict:
 
     s = Settings()
     spec = LutSpec(width=width, height=height, file_format="exr", depth=32,
-                   magnitude_range=(-1.0, 7.0) if vision else None)
+                   magnitude_range=(-1.0, 7.0))
     build_lut(s, LutSpec(width=8, height=2))  # warm caches
     t, m = lut_axes(spec)
     t0 = time.perf_counter()

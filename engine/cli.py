@@ -267,13 +267,11 @@ def main(argv=None) -> int:
 
 
 def _launch_window(args) -> int:
-    """No subcommand: the window. Until it exists, a one-line notice."""
-    import importlib.util
+    """No subcommand (or ``--screenshot``): the window, imported only now.
 
-    if importlib.util.find_spec("gui.app") is None:
-        sys.stdout.write("starkiln: the window is not built yet; try 'starkiln colour "
-                         "--temperature 5800' or 'starkiln --help'\n")
-        return 0
+    The engine does not import the window package at module level: ``gui`` is loaded by
+    name here, so every other command starts without Qt.
+    """
     import importlib
 
     return importlib.import_module("gui.app").run(args)

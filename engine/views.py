@@ -438,29 +438,18 @@ def save_display_profile(display, path, overwrite: bool = True) -> None:
     write_atomic(path, text.encode("utf-8"), overwrite=overwrite)
 
 
-def has_vision(settings: Settings) -> bool:
-    """Whether this engine's settings carry the night-vision fields (``aperture_mm`` etc.).
-
-    References
-    ----------
-    The engine API contract (night-vision fields of :class:`engine.settings.Settings`).
-    """
-    return hasattr(settings, "aperture_mm") and hasattr(settings, "magnitude_faint")
-
-
 def magnitude_ladder(settings: Settings, step: float = 1.0) -> np.ndarray:
     """Magnitudes for the brightness strip: from ``magnitude_bright`` to ``magnitude_faint``.
 
     Steps of ``step`` magnitudes, both ends included (the faint end is added if
-    the steps do not land on it). Without the night-vision fields, -1.5 to 6.5
-    (the engine defaults; naked-eye limit about 6.5, common practice).
+    the steps do not land on it).
 
     References
     ----------
     Pogson (1856) magnitude scale; :mod:`engine.vision` (tone curve ends).
     """
-    bright = float(getattr(settings, "magnitude_bright", -1.5))
-    faint = float(getattr(settings, "magnitude_faint", 6.5))
+    bright = float(settings.magnitude_bright)
+    faint = float(settings.magnitude_faint)
     mags = np.arange(bright, faint + 1e-9, step)
     if faint - mags[-1] > 1e-9:
         mags = np.append(mags, faint)
@@ -536,7 +525,6 @@ class SkyImage:
     y_px: np.ndarray
     radius_px: np.ndarray
     in_gamut: np.ndarray
-    magnitudes_rendered: bool
 
 
 def sky_image(settings: Settings, cluster: Cluster, width_px: int, height_px: int,
@@ -589,14 +577,9 @@ def sky_image(settings: Settings, cluster: Cluster, width_px: int, height_px: in
     x = np.rint(w / 2 + (xi - cx) / span).astype(int)
     y = np.rint(h / 2 - (eta - cy) / span).astype(int)
 
-    try:
-        r = render(settings, cluster.temperature_K, cluster.magnitude)
-        with_mags = True
-    except NotImplementedError:  # engine without the night-vision model
-        r = render(settings, cluster.temperature_K)
-        with_mags = False
-    bright = float(getattr(settings, "magnitude_bright", np.min(cluster.magnitude)))
-    faint = float(getattr(settings, "magnitude_faint", np.max(cluster.magnitude)))
+    r = render(settings, cluster.temperature_K, cluster.magnitude)
+    bright = settings.magnitude_bright
+    faint = settings.magnitude_faint
     frac = np.clip((faint - cluster.magnitude) / max(faint - bright, 1e-9), 0.0, 1.0)
     sigma = radius_px[0] + frac * (radius_px[1] - radius_px[0])
     colour = r.rgb_linear * np.asarray(r.intensity)[..., None]
@@ -617,4 +600,4 @@ def sky_image(settings: Settings, cluster: Cluster, width_px: int, height_px: in
     img = np.where(top > 1.0, img / np.maximum(top, 1e-300), img)
     enc = settings.display.encode(img)
     pixels = np.ascontiguousarray(to_8bit(enc).reshape(h, w, 3))
-    return SkyImage(pixels, x, y, sigma, np.asarray(r.in_gamut), with_mags)
+    return SkyImage(pixels, x, y, sigma, np.asarray(r.in_gamut))

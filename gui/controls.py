@@ -49,18 +49,6 @@ CAUTION = ("Night vision here is an appearance model for rendering, not a basis 
            "For a dark-adapted dome audience avoid sudden bright flashes.")
 
 
-def engine_choices(name: str, fallback):
-    """An option list from engine.settings (or engine.vision), else the contract's list."""
-    for module_name in ("engine.settings", "engine.vision"):
-        try:
-            module = __import__(module_name, fromlist=[name])
-        except ImportError:
-            continue
-        if hasattr(module, name):
-            return tuple(getattr(module, name))
-    return tuple(fallback)
-
-
 def demo_display_path() -> Path:
     """Path of the invented dome projector profile in ``assets``."""
     from assets import asset_path
@@ -460,7 +448,6 @@ class NightTab(_Form):
     def __init__(self, session, parent=None):
         super().__init__(parent)
         self.session = session
-        self.available = session.vision
         self.magnitude = self.row("Star magnitude", Field(
             "magnitude", lambda s: parse_number(s, "magnitude"),
             lambda v: session.set_magnitude(v, "night"), width=70, unit="mag"),
@@ -475,15 +462,14 @@ class NightTab(_Form):
             f = Field(key, lambda s, k=key: parse_number(s, k),
                       lambda v, k=key: session.change("night", **{k: v}), width=70, unit=unit)
             self.numbers[key] = self.row(label, f, tip)
-        visions = engine_choices("VISIONS", ("mesopic", "none"))
-        curves = engine_choices("INTENSITY_CURVES", ("asinh", "log", "linear"))
         self.vision = self.row("Vision model", Choice(
-            "vision", visions, lambda v: session.change("night", vision=v),
+            "vision", engine_settings.VISIONS, lambda v: session.change("night", vision=v),
             {**LABELS, **VISION_LABELS}), "Mesopic: faint stars lose colour as cone vision "
             "fades (CIE 191:2010); off: full colour at every magnitude")
         self.curve = self.row("Intensity curve", Choice(
-            "intensity_curve", curves, lambda v: session.change("night", intensity_curve=v),
-            LABELS), "Tone curve from magnitude to display intensity")
+            "intensity_curve", engine_settings.INTENSITY_CURVES,
+            lambda v: session.change("night", intensity_curve=v), LABELS),
+            "Tone curve from magnitude to display intensity")
         self.compensate = QtWidgets.QCheckBox("Compensate for a dark dome", self)
         self.compensate.setObjectName("check-compensate")
         self.compensate.setToolTip("Pre-boost chroma so that the colour seen on a dim dome "
@@ -497,12 +483,6 @@ class NightTab(_Form):
             self._apply_peak, width=70, unit="cd/m\u00b2"),
             "The display's peak luminance, 0.01-10000 cd/m\u00b2 (part of the display profile)")
         self.caution = self.note("Caution: " + CAUTION)
-        if not self.available:
-            self.note("This engine's settings have no night-vision fields (aperture_mm...): "
-                      "these controls light up once the engine has them.")
-            for w in [self.magnitude, self.aperture, self.vision, self.curve, self.compensate,
-                      *self.numbers.values()]:
-                w.setEnabled(False)
         self.refresh(force=True)
 
     def _compensate(self, on: bool) -> None:
@@ -524,8 +504,6 @@ class NightTab(_Form):
             self.magnitude.set_text(_fmt(self.session.magnitude))
         if force or not self.peak.has_error:
             self.peak.set_text(_fmt(s.display.peak_luminance_cd_m2))
-        if not self.available:
-            return
         if force or not self.aperture.has_error:
             self.aperture.set_text(_fmt(s.aperture_mm))
         for key, field in self.numbers.items():

@@ -9,9 +9,6 @@ from engine.render import to_8bit, to_hex
 from gui.swatches import ColourSwatch, Readouts, SwatchStrip
 from gui.theme import Theme
 
-NO_VISION_NOTE = ("Brightness strip needs the engine's night-vision model "
-                  "(settings without aperture_mm): not available in this engine")
-
 ROWS = (("hex", "Hex", 8), ("8bit", "8-bit RGB", 11), ("linear", "Display-linear", 20),
         ("encoded", "Encoded 0\u20131", 20), ("xy", "CIE x, y", 16),
         ("gamut", "In gamut", 20))
@@ -109,34 +106,19 @@ class CurrentColourPanel(QtWidgets.QWidget):
         ro.set_value("xy", f"{float(r.xy[0]):.5f}, {float(r.xy[1]):.5f}")
         ro.set_value("gamut", "yes" if ok else f"\u26a0 no: mapped ({gamut})", alert=not ok)
         m = s.at_magnitude
-        if m is None:
-            ro.set_value("night-hex", "needs night vision")
-            ro.set_value("night", "\u2014")
-            ro.set_value("intensity", "\u2014")
-            self.night_swatch.setEnabled(False)
-        else:
-            ro.set_value("night-hex", f"{s.magnitude:g}: {to_hex(m.rgb_dimmed_encoded)}")
-            ro.set_value("night", f"{float(m.cone_weight):.3f}  sat {float(m.saturation):.3f}")
-            reached = getattr(m, "compensation_reached", None)
-            dome = "" if reached is None else (
-                "  dome ok" if bool(reached) else "  dome short")
-            ro.set_value("intensity", f"{float(m.intensity):.3f}{dome}",
-                         alert=reached is not None and not bool(reached))
-            self.night_swatch.setEnabled(True)
-            self.night_swatch.set_colour(to_8bit(m.rgb_dimmed_encoded))
+        ro.set_value("night-hex", f"{s.magnitude:g}: {to_hex(m.rgb_dimmed_encoded)}")
+        ro.set_value("night", f"{float(m.cone_weight):.3f}  sat {float(m.saturation):.3f}")
+        reached = m.compensation_reached
+        dome = "" if reached is None else (
+            "  dome ok" if bool(reached) else "  dome short")
+        ro.set_value("intensity", f"{float(m.intensity):.3f}{dome}",
+                     alert=reached is not None and not bool(reached))
+        self.night_swatch.set_colour(to_8bit(m.rgb_dimmed_encoded))
         self._update_ladder(what)
 
     def _update_ladder(self, what: str) -> None:
         mags, lr = self.session.ladder
         strip = self.magnitude_strip
-        if lr is None:
-            strip.setEnabled(False)
-            strip.set_cells(np.zeros((len(mags), 3), np.uint8),
-                            labels=[f"{m:g}" for m in mags])
-            strip.set_note(NO_VISION_NOTE)
-            return
-        strip.setEnabled(True)
-        strip.set_note("")
         labels = [f"{m:g}" for m in mags]
         tips = [f"magnitude {m:g}: intensity {i:.3f}, cone weight {c:.3f}, "
                 f"saturation {sa:.3f}" for m, i, c, sa in

@@ -168,8 +168,8 @@ class LutDialog(_ExportDialog):
         self.with_mags = QtWidgets.QCheckBox("Magnitudes down the texture", self)
         self.with_mags.setObjectName("lut-magnitudes")
         s = session.settings
-        self.m_bright = self._edit("lut-mbright", f"{getattr(s, 'magnitude_bright', -1.5):g}")
-        self.m_faint = self._edit("lut-mfaint", f"{getattr(s, 'magnitude_faint', 6.5):g}")
+        self.m_bright = self._edit("lut-mbright", f"{s.magnitude_bright:g}")
+        self.m_faint = self._edit("lut-mfaint", f"{s.magnitude_faint:g}")
         self.form.addRow(self.with_mags, self._pair(self.m_bright, self.m_faint, "to"))
         self.width_edit = self._edit("lut-width", "256")
         self.height_edit = self._edit("lut-height", "16")
@@ -186,9 +186,6 @@ class LutDialog(_ExportDialog):
         self.premultiply.setObjectName("lut-premultiply")
         self.form.addRow(self.alpha)
         self.form.addRow(self.premultiply)
-        vision = hasattr(s, "aperture_mm")
-        for w in (self.with_mags, self.m_bright, self.m_faint, self.alpha, self.premultiply):
-            w.setEnabled(vision)
         self.with_mags.toggled.connect(self._mags_toggled)
         for w in (self.t_min, self.t_max, self.m_bright, self.m_faint, self.width_edit,
                   self.height_edit):
@@ -263,10 +260,7 @@ class LutDialog(_ExportDialog):
         small = spec.replace(width=min(spec.width, PREVIEW_MAX[0]),
                              height=min(spec.height, PREVIEW_MAX[1]), file_format="png",
                              depth=8)
-        try:
-            array, _meta = build_lut(self.session.settings, small)
-        except NotImplementedError as exc:
-            raise StarkilnError(f"magnitudes need the night-vision model ({exc})") from None
+        array, _meta = build_lut(self.session.settings, small)
         self._show_array(array)
         notes = [f"{spec.width} \u00d7 {spec.height} texels, temperature "
                  f"{spec.temperature_range_K[0]:g}\u2013{spec.temperature_range_K[1]:g} K "
@@ -288,10 +282,7 @@ class LutDialog(_ExportDialog):
         spec = self.spec_for(path)
         self.command.setText("Command line: " + self.command_line(path, spec))
         check_writable(path, overwrite)
-        try:
-            array, metadata = build_lut(self.session.settings, spec)
-        except NotImplementedError as exc:
-            raise StarkilnError(f"magnitudes need the night-vision model ({exc})") from None
+        array, metadata = build_lut(self.session.settings, spec)
         write_lut(path, array, metadata, spec, overwrite=overwrite)
         self._preview()
         return f"Wrote {path} ({spec.width} \u00d7 {spec.height}, {spec.file_format.upper()})"

@@ -25,24 +25,17 @@ from engine.errors import StarkilnError
 from engine.render import Rendered, render
 from engine.settings import Settings
 from engine.sources import check_temperature
-from engine.views import has_vision, magnitude_ladder
+from engine.views import magnitude_ladder
 
 DEFAULT_TEMPERATURE_K = 5772.0  # the Sun's nominal effective temperature (IAU 2015 Resolution B3)
 DEFAULT_MAGNITUDE = 1.0
 
 
 def check_magnitude(value) -> float:
-    """A magnitude the engine accepts, as a float (engine.vision's range check when present)."""
-    try:
-        from engine.vision import check_magnitude as _check
-    except ImportError:  # pragma: no cover - engine without night vision
-        _check = None
-    if _check is not None:
-        return float(_check(value))
-    v = float(value)
-    if not np.isfinite(v) or not -30.0 <= v <= 30.0:
-        raise StarkilnError(f"magnitude {v:g} is outside the accepted range -30 to +30")
-    return v
+    """A magnitude the engine accepts, as a float (engine.vision's range check)."""
+    from engine.vision import check_magnitude as _check
+
+    return float(_check(value))
 
 
 _FIELDS = None
@@ -65,7 +58,7 @@ class _Table:
     magnitude: float
     temperature_K: np.ndarray
     plain: Rendered
-    night: Rendered | None  # (positions, 1 + ladder): the current magnitude, then the ladder
+    night: Rendered  # (positions, 1 + ladder): the current magnitude, then the ladder
 
 
 class Session(QtCore.QObject):
@@ -116,23 +109,18 @@ class Session(QtCore.QObject):
         return self._magnitude
 
     @property
-    def vision(self) -> bool:
-        """Whether the engine has the night-vision model (settings carry ``aperture_mm``)."""
-        return has_vision(self._settings)
-
-    @property
     def current(self) -> Rendered:
         """Render of the current temperature without a magnitude (the swatch colour)."""
         return self._current
 
     @property
-    def at_magnitude(self) -> Rendered | None:
-        """Render of the current temperature at the current magnitude, or None without vision."""
+    def at_magnitude(self) -> Rendered:
+        """Render of the current temperature at the current magnitude."""
         return self._at_magnitude
 
     @property
-    def ladder(self) -> tuple[np.ndarray, Rendered | None]:
-        """Magnitudes of the brightness strip and their render (None without vision)."""
+    def ladder(self) -> tuple[np.ndarray, Rendered]:
+        """Magnitudes of the brightness strip and their render."""
         return self._ladder
 
     @property
@@ -204,10 +192,8 @@ class Session(QtCore.QObject):
             return
         s, t = self._settings, self._positions
         plain = render(s, t)
-        night = None
-        if has_vision(s):
-            mags = np.concatenate([[self._magnitude], magnitude_ladder(s)])
-            night = render(s, t[:, None], mags[None, :])
+        mags = np.concatenate([[self._magnitude], magnitude_ladder(s)])
+        night = render(s, t[:, None], mags[None, :])
         self._table = _Table(s, self._magnitude, t, plain, night)
 
     def _render_all(self, position: int | None = None) -> None:
@@ -217,19 +203,12 @@ class Session(QtCore.QObject):
         if (position is not None and self.table_ready and 0 <= position < table.temperature_K.size
                 and table.temperature_K[position] == t):
             self._current = _row(table.plain, position)
-            if table.night is not None:
-                both = _row(table.night, position)
-                self._at_magnitude = _row(both, 0)
-                self._ladder = (mags, _row(both, slice(1, None)))
-            else:
-                self._at_magnitude, self._ladder = None, (mags, None)
-            return
-        self._current = render(s, t)
-        if has_vision(s):
-            # one call: the current magnitude first, then the strip's magnitudes
-            both = render(s, np.full(mags.size + 1, t), np.concatenate([[self._magnitude], mags]))
+            both = _row(table.night, position)
             self._at_magnitude = _row(both, 0)
             self._ladder = (mags, _row(both, slice(1, None)))
-        else:
-            self._at_magnitude = None
-            self._ladder = (mags, None)
+            return
+        self._current = render(s, t)
+        # one call: the current magnitude first, then the strip's magnitudes
+        both = render(s, np.full(mags.size + 1, t), np.concatenate([[self._magnitude], mags]))
+        self._at_magnitude = _row(both, 0)
+        self._ladder = (mags, _row(both, slice(1, None)))

@@ -144,15 +144,13 @@ class SkyPreview(QtWidgets.QWidget):
         if self._error:
             p.drawText(self.rect().adjusted(6, 6, -6, -6),
                        QtCore.Qt.TextFlag.TextWordWrap, "\u26a0 " + self._error)
-        elif self._cluster is not None:
+        elif self._cluster is not None and self._settings is not None:
             s = self._settings
-            if self._sky is not None and not self._sky.magnitudes_rendered:
-                note = " \u00b7 brightness model not in this engine"
-            elif getattr(s, "aperture_mm", None):
+            if s.aperture_mm:
                 note = f" \u00b7 through {s.aperture_mm:g} mm"
             else:
                 note = " \u00b7 naked eye"
-            if getattr(s, "vision", "none") == "none":
+            if s.vision == "none":
                 note += ", vision model off"
             p.drawText(6, 4 + p.fontMetrics().ascent(),
                        f"{len(self._cluster)} stars (invented){note}")

@@ -236,9 +236,8 @@ class MainWindow(QtWidgets.QMainWindow):
         self.chromaticity.set_settings(s)
         self.chroma_key.setText(self.chromaticity.key_html())
         self.sky.set_settings(s)
-        vis = f" \u00b7 vision {s.vision}" if hasattr(s, "vision") else ""
         self.summary.setText(f"white {s.scene_white} \u2192 {s.display.name} \u00b7 "
-                             f"{s.adaptation} \u00b7 gamut {s.gamut}{vis}")
+                             f"{s.adaptation} \u00b7 gamut {s.gamut} \u00b7 vision {s.vision}")
 
     def _on_colour(self, what: str) -> None:
         s = self.session
@@ -252,11 +251,10 @@ class MainWindow(QtWidgets.QMainWindow):
     def _star_picked(self, index: int) -> None:
         c = self.sky.cluster
         self.session.set_temperature(float(c.temperature_K[index]), source="sky")
-        if self.session.vision:
-            try:
-                self.session.set_magnitude(float(c.magnitude[index]), source="sky")
-            except StarkilnError:
-                pass
+        try:
+            self.session.set_magnitude(float(c.magnitude[index]), source="sky")
+        except StarkilnError:
+            pass
         self.statusBar().showMessage(f"{c.name[index]}: {c.temperature_K[index]:.0f} K, "
                                      f"magnitude {c.magnitude[index]:.2f}", 5000)
 

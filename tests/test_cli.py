@@ -5,7 +5,6 @@ Ballesteros (2012) for B-V, CIE 15:2004 Table T.3 for the white presets, IEC 619
 the sRGB encoding, and the contract (exit code 2 and one line on stderr for bad input).
 """
 
-import importlib.util
 import json
 import subprocess
 import sys
@@ -161,25 +160,6 @@ def test_displays_lists_presets(capsys):
     for name in ("srgb", "display-p3", "dci-p3", "rec2020", "rec2100-pq"):
         assert name in names
     assert "0.3127,0.3290" in out  # the 4-digit D65 of IEC 61966-2-1 / BT.2020
-
-
-def test_no_arguments_prints_one_line(capsys):
-    if importlib.util.find_spec("gui.app") is not None:
-        pytest.skip("the window exists now: no-argument start is covered by the GUI tests")
-    assert main([]) == 0
-    out, err = capsys.readouterr()
-    assert len(out.strip().splitlines()) == 1 and err == ""
-
-
-def test_no_arguments_without_window_prints_one_line(capsys, monkeypatch):
-    # Contract: where the window cannot be had, `starkiln` alone exits 0 with one line.
-    real = importlib.util.find_spec
-    monkeypatch.setattr(importlib.util, "find_spec",
-                        lambda name, *a: None if name == "gui.app" else real(name, *a))
-    assert main([]) == 0
-    out, err = capsys.readouterr()
-    assert len(out.strip().splitlines()) == 1 and err == ""
-    assert "starkiln colour" in out
 
 
 BAD_CASES = [

