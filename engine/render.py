@@ -19,7 +19,8 @@ rows costs W spectra, not W x H.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+import dataclasses
+from dataclasses import dataclass, field
 from functools import lru_cache
 
 import numpy as np
@@ -27,6 +28,7 @@ import numpy as np
 from engine import vision as nv
 from engine.gamut import Oklab_to_XYZ, XYZ_to_Oklab, channel_max, in_gamut, map_to_gamut
 from engine.observers import KM_PHOTOPIC_LM_W, KM_SCOTOPIC_LM_W, XYZ_to_xy, cmfs, v_photopic, v_scotopic
+from engine.displays import Display
 from engine.settings import Settings
 from engine.sources import check_temperature
 from engine.spectrum import planck_weighted_sums
@@ -47,6 +49,9 @@ class Rendered:
     intensity : (...,) display intensity 0-1 from the magnitude's tone curve (1 without magnitudes).
     rgb_dimmed_encoded : (..., 3) ``encode(rgb_linear * intensity)``: the colour at its
         intensity, for premultiplied textures and previews.
+    display : the :class:`engine.displays.Display` the colours are for. ``rgb_encoded`` and
+        ``rgb_dimmed_encoded`` are computed from it on first use where the render did not
+        already have them (a display-linear texture never pays for encoding).
     magnitude : (...,) apparent visual magnitudes, or None when none were given.
     photopic_luminance_cd_m2 : (...,) luminance of the star's image at the eye (blur spot).
     scotopic_ratio : (...,) S/P ratio of the star's spectrum (K'_m V' / K_m V).
@@ -61,16 +66,44 @@ class Rendered:
     XYZ: np.ndarray
     xy: np.ndarray
     rgb_linear: np.ndarray
-    rgb_encoded: np.ndarray
     in_gamut: np.ndarray
     intensity: np.ndarray
-    rgb_dimmed_encoded: np.ndarray
+    display: Display
     magnitude: np.ndarray | None = None
     photopic_luminance_cd_m2: np.ndarray | None = None
     scotopic_ratio: np.ndarray | None = None
     cone_weight: np.ndarray | None = None
     saturation: np.ndarray | None = None
     compensation_reached: np.ndarray | None = None
+    #: Encoded values when the render already has them; otherwise computed on first use.
+    encoded_: np.ndarray | None = field(default=None, repr=False, compare=False)
+    dimmed_encoded_: np.ndarray | None = field(default=None, repr=False, compare=False)
+
+    @property
+    def rgb_encoded(self) -> np.ndarray:
+        """``display.encode(rgb_linear)``, computed on first use (a linear EXR never needs it)."""
+        if self.encoded_ is None:
+            object.__setattr__(self, "encoded_", self.display.encode(self.rgb_linear))
+        return self.encoded_
+
+    @property
+    def rgb_dimmed_encoded(self) -> np.ndarray:
+        """``display.encode(rgb_linear * intensity)``, computed on first use."""
+        if self.dimmed_encoded_ is None:
+            if self.magnitude is None:
+                value = self.rgb_encoded  # intensity 1 everywhere
+            else:
+                value = self.display.encode(self.rgb_linear * self.intensity[..., None])
+            object.__setattr__(self, "dimmed_encoded_", value)
+        return self.dimmed_encoded_
+
+    def take(self, index) -> "Rendered":
+        """The part ``index`` of this render (numpy indexing on the star axes of every array)."""
+        values = {}
+        for f in dataclasses.fields(self):
+            v = getattr(self, f.name)
+            values[f.name] = v if v is None or isinstance(v, Display) else v[index]
+        return Rendered(**values)
 
     def hex(self) -> np.ndarray:
         """``#rrggbb`` strings from ``rgb_encoded`` (8-bit, rounded half up)."""
@@ -155,7 +188,8 @@ def render(settings: Settings, temperature_K, magnitude=None) -> Rendered:
 
     Examples
     --------
-    >>> from engine.settings import Settings
+    >>> from engine.displays import Display
+from engine.settings import Settings
     >>> str(render(Settings(), 6504.0).hex())
     '#fff9fe'
     """
@@ -197,16 +231,17 @@ def _render_colour(settings: Settings, t: np.ndarray) -> Rendered:
     enc_u = settings.display.encode(rgb_u)
     shape = t.shape
     XYZ = XYZ_u[inverse].reshape(shape + (3,))
-    encoded = enc_u[inverse].reshape(shape + (3,))
+    encoded = enc_u[inverse].reshape(shape + (3,))  # encoded once per temperature: cheap
     return Rendered(
         temperature_K=t,
         XYZ=XYZ,
         xy=XYZ_to_xy(XYZ),
         rgb_linear=rgb_u[inverse].reshape(shape + (3,)),
-        rgb_encoded=encoded,
         in_gamut=ok_u[inverse].reshape(shape),
         intensity=np.ones(shape),
-        rgb_dimmed_encoded=encoded,
+        display=settings.display,
+        encoded_=encoded,
+        dimmed_encoded_=encoded,
     )
 
 
@@ -238,7 +273,7 @@ def _render_night(settings: Settings, t: np.ndarray, mag: np.ndarray) -> Rendere
     idx = np.broadcast_to(inverse.reshape(t.shape), shape).reshape(-1)
     m_flat = np.ascontiguousarray(np.broadcast_to(mag, shape), dtype=np.float64).reshape(-1)
     n = idx.size
-    out = {"rgb": np.empty((n, 3)), "enc": np.empty((n, 3)), "dim": np.empty((n, 3)),
+    out = {"rgb": np.empty((n, 3)),
            "intensity": np.empty(n), "lp": np.empty(n), "cone": np.empty(n),
            "sat": np.empty(n), "reached": np.empty(n, dtype=bool)}
 
@@ -267,10 +302,9 @@ def _render_night(settings: Settings, t: np.ndarray, mag: np.ndarray) -> Rendere
         XYZ=XYZ,
         xy=XYZ_to_xy(XYZ),
         rgb_linear=grid(out["rgb"], (3,)),
-        rgb_encoded=grid(out["enc"], (3,)),
         in_gamut=grid(ok_u[idx]),
         intensity=grid(out["intensity"]),
-        rgb_dimmed_encoded=grid(out["dim"], (3,)),
+        display=settings.display,
         magnitude=grid(m_flat.copy()),
         photopic_luminance_cd_m2=grid(out["lp"]),
         scotopic_ratio=grid(sp_u[idx]),
@@ -313,9 +347,8 @@ def _night_block(settings: Settings, chain: "_Chain", mag, sp, lab) -> dict:
             rgb, inside, factor = _apply_chroma(settings, lab,
                                                 np.where(reachable, wanted, 1.0e6), to_xyz, chain)
         reached = reachable & inside
-    return {"rgb": rgb, "enc": settings.display.encode(rgb),
-            "dim": settings.display.encode(rgb * intensity[:, None]), "intensity": intensity,
-            "lp": lp, "cone": cone, "sat": factor, "reached": reached}
+    return {"rgb": rgb, "intensity": intensity, "lp": lp, "cone": cone, "sat": factor,
+            "reached": reached}
 
 
 def _apply_chroma(settings: Settings, lab: np.ndarray, factor: np.ndarray, to_xyz, chain):

@@ -38,16 +38,9 @@ def check_magnitude(value) -> float:
     return float(_check(value))
 
 
-_FIELDS = None
-
-
 def _row(r: Rendered, index) -> Rendered:
-    """The part ``index`` of a render (every array field indexed, None kept)."""
-    global _FIELDS
-    if _FIELDS is None:
-        _FIELDS = tuple(f.name for f in dataclasses.fields(Rendered))
-    return Rendered(**{name: (None if getattr(r, name) is None else getattr(r, name)[index])
-                       for name in _FIELDS})
+    """The part ``index`` of a render (see :meth:`engine.render.Rendered.take`)."""
+    return r.take(index)
 
 
 @dataclasses.dataclass(frozen=True)
