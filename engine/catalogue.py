@@ -49,6 +49,7 @@ import numpy as np
 
 from engine.errors import StarkilnError
 from engine.settings import Settings
+from engine.vision import MAGNITUDE_RANGE
 
 #: Row statuses, in the order of their codes (uint8 in memory, text in files).
 STATUSES = (
@@ -65,9 +66,8 @@ OK, EXTRAPOLATED, MISSING_TEMPERATURE, MISSING_MAGNITUDE, NOT_A_NUMBER, OUT_OF_R
 
 SOURCES = ("temperature", "bv", "bp-rp")
 BANDS = ("V", "G")
-#: Magnitudes the render path accepts (engine contract: -30..30).
-MAGNITUDE_MIN = -30.0
-MAGNITUDE_MAX = 30.0
+#: Magnitudes the render path accepts (defined once, in engine.vision).
+MAGNITUDE_MIN, MAGNITUDE_MAX = MAGNITUDE_RANGE
 
 #: File extensions -> format names.
 FORMATS = {

@@ -56,6 +56,7 @@ import numpy as np
 
 from engine.settings import Settings
 from engine.sources import TEMPERATURE_MAX_K, TEMPERATURE_MIN_K
+from engine.vision import MAGNITUDE_RANGE
 
 #: Mired range of the tables: 10^6 / 100 000 K .. 10^6 / 500 K.
 MIRED_MIN = 1e6 / TEMPERATURE_MAX_K
@@ -65,8 +66,7 @@ TABLE_NODES = 8192
 #: Temperature nodes of the 2-D (vision) table.
 VISION_TABLE_NODES = 2048
 #: Magnitude range and step of the 2-D table (render's accepted magnitude range).
-MAGNITUDE_MIN = -30.0
-MAGNITUDE_MAX = 30.0
+MAGNITUDE_MIN, MAGNITUDE_MAX = MAGNITUDE_RANGE
 MAGNITUDE_STEP = 0.1
 #: Magnitude rows rendered per call while building the 2-D table (bounds memory).
 _BUILD_ROWS = 32

@@ -53,6 +53,8 @@ from pathlib import Path
 import numpy as np
 
 from engine.errors import InputRangeError, StarkilnError
+from engine.sources import TEMPERATURE_MAX_K, TEMPERATURE_MIN_K
+from engine.vision import MAGNITUDE_RANGE
 
 AXIS_MAPPINGS = ("mired", "log", "linear")
 FORMATS = {".png": "png", ".exr": "exr"}
@@ -61,12 +63,8 @@ MAX_SIDE = 16384
 TEXTURE_FORMAT = 1  # version of the embedded metadata layout
 METADATA_KEY = "starkiln"
 DEFAULT_TEMPERATURE_RANGE_K = (1000.0, 40000.0)
-#: Magnitudes accepted by the render path (engine API contract).
-MAGNITUDE_MIN = -30.0
-MAGNITUDE_MAX = 30.0
-#: Temperatures accepted by the render path (engine.sources).
-TEMPERATURE_MIN_K = 500.0
-TEMPERATURE_MAX_K = 100000.0
+#: What the render path accepts (one definition each, in engine.vision and engine.sources).
+MAGNITUDE_MIN, MAGNITUDE_MAX = MAGNITUDE_RANGE
 
 
 def texel_centres(n: int) -> np.ndarray:

@@ -27,8 +27,9 @@ import numpy as np
 
 from engine import vision as nv
 from engine.gamut import Oklab_to_XYZ, XYZ_to_Oklab, channel_max, in_gamut, map_to_gamut
-from engine.observers import KM_PHOTOPIC_LM_W, KM_SCOTOPIC_LM_W, XYZ_to_xy, cmfs, v_photopic, v_scotopic
-from engine.displays import Display
+from engine.observers import (KM_PHOTOPIC_LM_W, KM_SCOTOPIC_LM_W, XYZ_to_xy, cmfs, v_photopic,
+                              v_scotopic, xy_to_XYZ)
+from engine.displays import D65_4DIGIT, Display
 from engine.settings import Settings
 from engine.sources import check_temperature
 from engine.spectrum import planck_weighted_sums
@@ -149,8 +150,7 @@ def _chain(settings: Settings) -> _Chain:
     scene = resolve_white(settings.scene_white, settings.observer)
     cat = adaptation_matrix(scene.XYZ, disp.white_XYZ, settings.adaptation)
     to_rgb = disp.XYZ_to_rgb @ cat
-    d65 = np.array([0.3127 / 0.3290, 1.0, (1 - 0.3127 - 0.3290) / 0.3290])
-    to_d65 = adaptation_matrix(disp.white_XYZ, d65, "bradford")
+    to_d65 = adaptation_matrix(disp.white_XYZ, xy_to_XYZ(np.array(D65_4DIGIT)), "bradford")
     return _Chain(to_rgb, to_d65 @ disp.rgb_to_XYZ, disp.rgb_to_XYZ[1].copy())
 
 
@@ -218,7 +218,7 @@ def _per_temperature(settings: Settings, t_flat: np.ndarray, with_sp: bool):
                                   v_scotopic()[:, None]], axis=1)
         sums = planck_weighted_sums(unique, weights)
         XYZ_u = sums[:, :3] / sums[:, 1:2]
-        sp_u = KM_SCOTOPIC_LM_W * sums[:, 4] / (KM_PHOTOPIC_LM_W * sums[:, 3])
+        sp_u = _sp(sums[:, 3], sums[:, 4])
     else:
         XYZ_u = blackbody_XYZ(unique, settings.observer)
     rgb_u, ok_u = _display_rgb(settings, XYZ_u)
@@ -253,7 +253,12 @@ def scotopic_ratio(temperature_K) -> np.ndarray:
     CIE S 010:2004 (V, V', K_m = 683 lm/W, K'_m = 1700 lm/W).
     """
     sums = planck_weighted_sums(temperature_K, np.stack([v_photopic(), v_scotopic()], axis=-1))
-    return KM_SCOTOPIC_LM_W * sums[..., 1] / (KM_PHOTOPIC_LM_W * sums[..., 0])
+    return _sp(sums[..., 0], sums[..., 1])
+
+
+def _sp(photopic_sum, scotopic_sum):
+    """S/P from the V- and V'-weighted spectral sums (CIE S 010:2004 efficacies)."""
+    return KM_SCOTOPIC_LM_W * scotopic_sum / (KM_PHOTOPIC_LM_W * photopic_sum)
 
 
 _NIGHT_CHUNK = 65536  # stars per block of the night-vision pass (a few MB per array)

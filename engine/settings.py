@@ -47,12 +47,11 @@ from engine.displays import PRESETS, Display, get_display
 from engine.errors import SettingsError
 from engine.gamut import check_gamut_method
 from engine.observers import check_observer
+from engine.vision import INTENSITY_CURVES, VISIONS
 from engine.whites import check_adaptation, normalise_white_spec
 
 SETTINGS_FORMAT = 1
 NORMALISATIONS = ("max-channel", "luminance")
-VISIONS = ("mesopic", "none")
-INTENSITY_CURVES = ("asinh", "log", "linear")
 
 
 def _bounded(value, name: str, lo: float, hi: float, lo_open: bool = False) -> float:

@@ -213,9 +213,11 @@ def resolve_white(spec: str, observer: str = "cie1931") -> White:
         return White(f"daylight:{cct:g}", _spectrum_xy(daylight_spectrum(cct), observer))
     if kind == "blackbody":
         t = _number(rest, "temperature", text)
-        if not 500.0 <= t <= 100000.0:
+        from engine.sources import TEMPERATURE_MAX_K, TEMPERATURE_MIN_K
+
+        if not TEMPERATURE_MIN_K <= t <= TEMPERATURE_MAX_K:
             raise SettingsError(f"white {text!r}: blackbody temperature {t:g} K is outside "
-                                "500-100000 K")
+                                f"{TEMPERATURE_MIN_K:g}-{TEMPERATURE_MAX_K:g} K")
         return White(f"blackbody:{t:g}", _spectrum_xy(planck_radiance(t), observer))
     if kind == "xy":
         parts = rest.split(",")
