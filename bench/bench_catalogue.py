@@ -93,7 +93,7 @@ def run_child(args: list[str]) -> tuple[float, float, str]:
     The peak RSS is the child's own ``VmHWM`` (/proc/self/status), read at its end:
     ``ru_maxrss`` from ``wait4`` would include this benchmark's memory at fork time.
     """
-    code = ("import sys\nfrom engine.cli import main\n"
+    code = ("import sys\nfrom starkiln.cli.main import main\n"
             f"rc = main({args!r})\n"
             "hwm = [l for l in open('/proc/self/status') if l.startswith('VmHWM')][0]\n"
             "print('VMHWM', int(hwm.split()[1]))\n"
@@ -118,8 +118,8 @@ def run_timed_child(code: str) -> dict:
 
 
 def plan_for(name: str):
-    from engine.catalogue import CataloguePlan
-    from engine.settings import Settings
+    from starkiln.engine.catalogue.stream import CataloguePlan
+    from starkiln.engine.pipeline.settings import Settings
 
     if name == "teff":
         return CataloguePlan(Settings(), "temperature", "teff")
@@ -131,8 +131,8 @@ def bench_step(rows: int) -> dict:
     """The colouring step alone: colour_values and colour_arrow on arrays in memory."""
     import pyarrow as pa
 
-    from engine.catalogue import colour_arrow, colour_values
-    from engine.fastpath import build_colour_table, colour_table
+    from starkiln.engine.catalogue.stream import colour_arrow, colour_values
+    from starkiln.engine.catalogue.colour_grid import build_colour_table, colour_table
 
     rng = np.random.default_rng(1)
     cols = invented_columns(rows, rng)
@@ -162,7 +162,7 @@ def bench_end_to_end(path: Path, out_dir: Path, rows: int) -> dict:
         code = (
             "import json, time, sys\n"
             "t0 = time.perf_counter()\n"
-            "from engine.catalogue import colour_catalogue\n"
+            "from starkiln.engine.catalogue.stream import colour_catalogue\n"
             "import pyarrow.parquet, pandas  # pyarrow loads pandas on first conversion\n"
             f"sys.path.insert(0, {str(REPO / 'bench')!r})\n"
             "from bench_catalogue import plan_for\n"

@@ -47,7 +47,7 @@ def _percentile(values, q):
 def bench_steps(steps: int, table: bool = True) -> list[float]:
     from PySide6 import QtCore, QtWidgets
 
-    from gui import create_window
+    from starkiln.gui import create_window
 
     app = QtWidgets.QApplication.instance() or QtWidgets.QApplication([])
     window = create_window(store=None)
@@ -112,8 +112,8 @@ def bench_table_build(repeats: int = 5) -> float:
     """Median time to render every slider position for fresh settings, ms."""
     from PySide6 import QtWidgets
 
-    from engine.settings import Settings
-    from gui import create_window
+    from starkiln.engine.pipeline.settings import Settings
+    from starkiln.gui import create_window
 
     QtWidgets.QApplication.instance() or QtWidgets.QApplication([])
     window = create_window(store=None)
@@ -132,7 +132,7 @@ import os, sys
 os.environ.setdefault("QT_QPA_PLATFORM", "offscreen")
 from PySide6 import QtCore, QtWidgets
 app = QtWidgets.QApplication([])
-from gui import create_window
+from starkiln.gui import create_window
 w = create_window(store=None)
 w.resize(1280, 800)
 w.show()

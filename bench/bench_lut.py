@@ -34,7 +34,7 @@ GOAL_LARGE_S = 2.0
 
 def _run(args) -> float:
     t0 = time.perf_counter()
-    proc = subprocess.run([sys.executable, "-m", "engine.cli", *args], cwd=REPO,
+    proc = subprocess.run([sys.executable, "-m", "starkiln", *args], cwd=REPO,
                           capture_output=True, text=True)
     dt = time.perf_counter() - t0
     if proc.returncode != 0:
@@ -78,7 +78,7 @@ def main() -> int:
         big_total = _best(["lut", big, "--size", "4096x1024", "--force", *mags])
         size_mb = os.path.getsize(big) / 1e6
 
-    from engine.lut import LutSpec, lut_axes
+    from starkiln.engine.exports.textures import LutSpec, lut_axes
 
     t, _ = lut_axes(LutSpec(width=1024, height=256))
     rng = np.random.default_rng(2024)
@@ -111,9 +111,9 @@ def main() -> int:
 
 def _in_process_split(width: int, height: int) -> dict:
     """Where the time of a large texture goes: the render call, the whole build, the write."""
-    from engine.lut import LutSpec, build_lut, lut_axes, write_lut
-    from engine.render import render
-    from engine.settings import Settings
+    from starkiln.engine.exports.textures import LutSpec, build_lut, lut_axes, write_lut
+    from starkiln.engine.pipeline.render import render
+    from starkiln.engine.pipeline.settings import Settings
 
     s = Settings()
     spec = LutSpec(width=width, height=height, file_format="exr", depth=32,

@@ -2,7 +2,7 @@
 
 Prints, in one run and side by side:
 
-1. A 1024 x 256 grid of temperatures through ``engine.render.render``:
+1. A 1024 x 256 grid of temperatures through ``starkiln.engine.pipeline.render.render``:
    (a) lookup-texture layout, 1024 temperatures repeated on 256 rows;
    (b) 262 144 distinct temperatures (the hard case: no sharing).
    Against the per-sample colour-science route ``sd_blackbody -> sd_to_XYZ -> XYZ_to_RGB``
@@ -70,8 +70,8 @@ def main() -> None:
     args = ap.parse_args()
     repeats = 3 if args.quick else 7
 
-    from engine.render import render
-    from engine.settings import Settings
+    from starkiln.engine.pipeline.render import render
+    from starkiln.engine.pipeline.settings import Settings
 
     settings = Settings()
     w, h = 1024, 256
@@ -106,7 +106,7 @@ def main() -> None:
           f"{t_distinct_night / t_distinct:>9.2f}x")
     print()
     runs = 5 if args.quick else 9
-    starkiln = [sys.executable, "-m", "engine.cli", "colour", "--temperature", "5800", "--json"]
+    starkiln = [sys.executable, "-m", "starkiln", "colour", "--temperature", "5800", "--json"]
     bare_colour = [sys.executable, "-W", "ignore", "-c", "import colour"]
     subprocess.run(starkiln, check=True, stdout=subprocess.DEVNULL)  # make sure tables are cached
     t_cli = cold_start(starkiln, runs)

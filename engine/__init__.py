@@ -2,10 +2,9 @@
 
 Pure numpy; never imports a window toolkit. Every output of the project (the
 command line, the window, lookup textures, palettes, catalogues) asks
-:func:`engine.render.render` for its colours.
+:func:`starkiln.engine.pipeline.render.render` for its colours.
 """
 
-from engine.errors import StarkilnError
+from starkiln.engine.errors import StarkilnError
 
 __all__ = ["StarkilnError"]
-__version__ = "0.1.0"

@@ -11,7 +11,7 @@ import tempfile
 from contextlib import contextmanager
 from pathlib import Path
 
-from engine.errors import StarkilnError
+from starkiln.engine.errors import StarkilnError
 
 
 class OutputExistsError(StarkilnError):

@@ -1,7 +1,7 @@
 """Starkiln window (PySide6): views and controls over the engine's settings and render path.
 
 This package draws; it computes no colour. Every colour comes from
-:func:`engine.render.render` or from :mod:`engine.views` (which uses the same
+:func:`starkiln.engine.pipeline.render.render` or from :mod:`starkiln.engine.plotdata.plots` (which uses the same
 chain). Start it with ``starkiln`` (no subcommand), or build it with
 :func:`create_window`.
 """
@@ -14,7 +14,7 @@ def create_window(settings=None, temperature_K=None, store=_USER_STORE):
 
     Parameters
     ----------
-    settings : engine.settings.Settings, optional
+    settings : starkiln.engine.pipeline.settings.Settings, optional
         Start with these settings (default: the last session's, else the engine defaults).
     temperature_K : float, optional
         Start at this temperature.
@@ -24,10 +24,10 @@ def create_window(settings=None, temperature_K=None, store=_USER_STORE):
 
     Returns
     -------
-    gui.window.MainWindow
+    starkiln.gui.window.MainWindow
     """
-    from gui.app import application, user_store
-    from gui.window import MainWindow
+    from starkiln.gui.app import application, user_store
+    from starkiln.gui.window import MainWindow
 
     application()
     if store is _USER_STORE:

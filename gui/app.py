@@ -1,8 +1,8 @@
 """Start the window: ``starkiln`` (no subcommand) and ``starkiln --screenshot OUT.png``.
 
-:func:`run` is called by :func:`engine.cli._launch_window` with the parsed
+:func:`run` is called by :func:`starkiln.cli.main._launch_window` with the parsed
 top-level arguments (``screenshot``, ``window_settings``,
-``window_temperature``). Bad input raises :class:`engine.errors.StarkilnError`,
+``window_temperature``). Bad input raises :class:`starkiln.engine.errors.StarkilnError`,
 which the command line prints as one line with exit code 2.
 """
 
@@ -13,7 +13,7 @@ import sys
 import traceback
 from pathlib import Path
 
-from engine.errors import StarkilnError
+from starkiln.engine.errors import StarkilnError
 
 ORGANISATION = "Starkiln"
 APPLICATION = "Starkiln"
@@ -31,7 +31,7 @@ def application():
     """The QApplication (created once, with the project's names)."""
     from PySide6 import QtWidgets
 
-    from gui.compat import guard_none_refcount
+    from starkiln.gui.compat import guard_none_refcount
 
     app = QtWidgets.QApplication.instance()
     if app is None:
@@ -51,8 +51,8 @@ def user_store():
 
 
 def _settings_and_temperature(settings_path, temperature_K):
-    from engine.settings import load_settings
-    from engine.sources import check_temperature
+    from starkiln.engine.pipeline.settings import load_settings
+    from starkiln.engine.stars.temperature import check_temperature
 
     settings = load_settings(settings_path) if settings_path else None
     t = None if temperature_K is None else float(check_temperature(temperature_K))
@@ -66,7 +66,7 @@ def screenshot(out, settings_path=None, temperature_K=None, size=(1280, 800),
     Uses the ``offscreen`` Qt platform unless ``QT_QPA_PLATFORM`` names another
     (or a QApplication exists already). No window state is read or written.
     """
-    from engine.atomic import check_writable
+    from starkiln.engine.atomic import check_writable
 
     out = Path(out)
     if out.suffix.lower() != ".png":
@@ -80,7 +80,7 @@ def screenshot(out, settings_path=None, temperature_K=None, size=(1280, 800),
     app = application()
     from PySide6 import QtCore
 
-    from gui.window import MainWindow, save_window_picture
+    from starkiln.gui.window import MainWindow, save_window_picture
 
     def quiet(kind, context, message):
         # the offscreen platform reports that it cannot size native windows: not a problem here
@@ -140,7 +140,7 @@ def run(args) -> int:
         raise StarkilnError("no display found (DISPLAY is not set); to render the window "
                             "offscreen use 'starkiln --screenshot OUT.png'")
     app = application()
-    from gui.window import MainWindow
+    from starkiln.gui.window import MainWindow
 
     window = MainWindow(settings, t, store=user_store())
     previous = sys.excepthook

@@ -1,6 +1,6 @@
 """Temperature audition: the mired slider, the kelvin entry, B-V and spectral class, the strip.
 
-The slider's integer positions are the engine's :class:`engine.views.MiredScale`
+The slider's integer positions are the engine's :class:`starkiln.engine.plotdata.plots.MiredScale`
 (equal mired steps); arrow keys step 1 mired, page keys 10 mired, the mouse
 wheel 1 mired per notch. The strip under the slider shows the render path's
 colours for equal-mired cells across the same range; clicking a cell jumps there.
@@ -11,13 +11,13 @@ from __future__ import annotations
 import numpy as np
 from PySide6 import QtCore, QtWidgets
 
-from engine.render import to_8bit
-from engine.sources import SPECTRAL_CLASS_TEFF_K, temperature_from_bv
-from engine.sources import temperature_from_spectral_class
-from engine.views import MiredScale, temperature_to_mired
-from gui.fields import INPUT_ERRORS, ErrorLine, Field, parse_number, set_role
-from gui.swatches import SwatchStrip
-from gui.theme import Theme
+from starkiln.engine.pipeline.render import to_8bit
+from starkiln.engine.stars.temperature import SPECTRAL_CLASS_TEFF_K, temperature_from_bv
+from starkiln.engine.stars.temperature import temperature_from_spectral_class
+from starkiln.engine.plotdata.plots import MiredScale, temperature_to_mired
+from starkiln.gui.fields import INPUT_ERRORS, ErrorLine, Field, parse_number, set_role
+from starkiln.gui.swatches import SwatchStrip
+from starkiln.gui.theme import Theme
 
 #: Slider resolution and key steps (in positions of the mired scale).
 POSITIONS_PER_MIRED = 4
@@ -54,7 +54,7 @@ class TemperatureSlider(QtWidgets.QSlider):
 
 
 class AuditionPanel(QtWidgets.QWidget):
-    """Slider, number entries and the temperature strip, bound to a :class:`gui.session.Session`."""
+    """Slider, number entries and the temperature strip, bound to a :class:`starkiln.gui.session.Session`."""
 
     def __init__(self, session, parent=None):
         super().__init__(parent)
@@ -150,7 +150,7 @@ class AuditionPanel(QtWidgets.QWidget):
 
     def refresh_strip(self) -> None:
         """Render the strip's cells with the current settings."""
-        from engine.render import render
+        from starkiln.engine.pipeline.render import render
 
         r = render(self.session.settings, self._cell_temperatures)
         tips = [f"{t:.0f} K  {h}" + ("" if ok else "  (outside gamut, mapped)")

@@ -1,8 +1,8 @@
 """The look controls: white, display, gamut and output, night sky (brightness and vision).
 
 Every option list is read from the engine (presets, methods, curves); every
-value goes to :meth:`gui.session.Session.change`, which asks
-:meth:`engine.settings.Settings.replace` to validate. A rejected value is
+value goes to :meth:`starkiln.gui.session.Session.change`, which asks
+:meth:`starkiln.engine.pipeline.settings.Settings.replace` to validate. A rejected value is
 shown under its control and the settings stay as they were.
 """
 
@@ -14,14 +14,14 @@ from pathlib import Path
 
 from PySide6 import QtCore, QtWidgets
 
-from engine import displays as engine_displays
-from engine import settings as engine_settings
-from engine.errors import StarkilnError
-from engine.gamut import GAMUT_METHODS
-from engine.observers import OBSERVERS
-from engine.whites import ADAPTATIONS, WHITE_PRESETS, resolve_white
-from gui.fields import INPUT_ERRORS, Choice, ErrorLine, Field, parse_number
-from gui.fields import parse_optional_number
+from starkiln.engine.colour import displays as engine_displays
+from starkiln.engine.pipeline import settings as engine_settings
+from starkiln.engine.errors import StarkilnError
+from starkiln.engine.colour.gamut import GAMUT_METHODS
+from starkiln.engine.colour.observers import OBSERVERS
+from starkiln.engine.colour.whites import ADAPTATIONS, WHITE_PRESETS, resolve_white
+from starkiln.gui.fields import INPUT_ERRORS, Choice, ErrorLine, Field, parse_number
+from starkiln.gui.fields import parse_optional_number
 
 WHITE_KINDS = ("daylight", "blackbody", "xy")
 DEMO_DISPLAY = "demo-dome"
@@ -51,7 +51,7 @@ CAUTION = ("Night vision here is an appearance model for rendering, not a basis 
 
 def demo_display_path() -> Path:
     """Path of the invented dome projector profile in ``assets``."""
-    from assets import asset_path
+    from starkiln.assets import asset_path
 
     return Path(str(asset_path("dome_projector.json")))
 
@@ -266,7 +266,7 @@ class DisplayTab(_Form):
 
     def save_profile(self, path) -> bool:
         """Write the current display as a JSON profile (atomically)."""
-        from engine.views import save_display_profile
+        from starkiln.engine.plotdata.plots import save_display_profile
 
         try:
             save_display_profile(self.session.settings.display, path)

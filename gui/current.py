@@ -5,9 +5,9 @@ from __future__ import annotations
 import numpy as np
 from PySide6 import QtCore, QtGui, QtWidgets
 
-from engine.render import to_8bit, to_hex
-from gui.swatches import ColourSwatch, Readouts, SwatchStrip
-from gui.theme import Theme
+from starkiln.engine.pipeline.render import to_8bit, to_hex
+from starkiln.gui.swatches import ColourSwatch, Readouts, SwatchStrip
+from starkiln.gui.theme import Theme
 
 ROWS = (("hex", "Hex", 8), ("8bit", "8-bit RGB", 11), ("linear", "Display-linear", 20),
         ("encoded", "Encoded 0\u20131", 20), ("xy", "CIE x, y", 16),

@@ -1,10 +1,10 @@
 """Export dialogs: lookup textures and palettes, through exactly the command line's functions.
 
-``starkiln lut`` (:func:`engine.cli_exports.cmd_lut`) checks the destination
-with :func:`engine.atomic.check_writable`, builds with
-:func:`engine.lut.build_lut` and writes with :func:`engine.lut.write_lut`;
-``starkiln palette`` (:func:`engine.cli_exports.cmd_palette`) uses
-:func:`engine.palette.build_palette` and :func:`engine.palette.write_palette`.
+``starkiln lut`` (:func:`starkiln.cli.exports.cmd_lut`) checks the destination
+with :func:`starkiln.engine.atomic.check_writable`, builds with
+:func:`starkiln.engine.exports.textures.build_lut` and writes with :func:`starkiln.engine.exports.textures.write_lut`;
+``starkiln palette`` (:func:`starkiln.cli.exports.cmd_palette`) uses
+:func:`starkiln.engine.exports.palettes.build_palette` and :func:`starkiln.engine.exports.palettes.write_palette`.
 The dialogs call the same functions in the same order with the session's
 settings, so a file written here is byte-identical to the command line's with
 the same settings and options. The preview is built by the same functions (at
@@ -19,10 +19,10 @@ from pathlib import Path
 import numpy as np
 from PySide6 import QtCore, QtGui, QtWidgets
 
-from engine.atomic import OutputExistsError, check_writable
-from engine.errors import StarkilnError
-from gui.fields import INPUT_ERRORS, ErrorLine, parse_number
-from gui.swatches import SwatchStrip
+from starkiln.engine.atomic import OutputExistsError, check_writable
+from starkiln.engine.errors import StarkilnError
+from starkiln.gui.fields import INPUT_ERRORS, ErrorLine, parse_number
+from starkiln.gui.swatches import SwatchStrip
 
 PREVIEW_MAX = (512, 256)
 
@@ -153,7 +153,7 @@ class LutDialog(_ExportDialog):
 
     def __init__(self, session, parent=None):
         super().__init__(session, parent)
-        from engine.lut import AXIS_MAPPINGS, DEFAULT_TEMPERATURE_RANGE_K, DEPTHS
+        from starkiln.engine.exports.textures import AXIS_MAPPINGS, DEFAULT_TEMPERATURE_RANGE_K, DEPTHS
 
         self.setObjectName("lut-dialog")
         self.setWindowTitle("Export a lookup texture")
@@ -218,8 +218,8 @@ class LutDialog(_ExportDialog):
         self.refresh_preview()
 
     def spec_for(self, path: Path):
-        """The :class:`engine.lut.LutSpec` for the options and the output path's format."""
-        from engine.lut import LutSpec, format_for_path
+        """The :class:`starkiln.engine.exports.textures.LutSpec` for the options and the output path's format."""
+        from starkiln.engine.exports.textures import LutSpec, format_for_path
 
         fmt = format_for_path(path)
         a = parse_number(self.t_min.text(), "lowest temperature")
@@ -253,7 +253,7 @@ class LutDialog(_ExportDialog):
         return " ".join(shlex.quote(p) for p in parts)
 
     def _preview(self) -> None:
-        from engine.lut import build_lut
+        from starkiln.engine.exports.textures import build_lut
 
         path = Path(self.path.text().strip() or self.default_name)
         spec = self.spec_for(path)
@@ -277,7 +277,7 @@ class LutDialog(_ExportDialog):
         self.command.setText("Command line: " + self.command_line(path, spec))
 
     def _export(self, path: Path, overwrite: bool) -> str:
-        from engine.lut import build_lut, write_lut
+        from starkiln.engine.exports.textures import build_lut, write_lut
 
         spec = self.spec_for(path)
         self.command.setText("Command line: " + self.command_line(path, spec))
@@ -296,7 +296,7 @@ class PaletteDialog(_ExportDialog):
 
     def __init__(self, session, parent=None):
         super().__init__(session, parent)
-        from engine.lut import AXIS_MAPPINGS, DEFAULT_TEMPERATURE_RANGE_K
+        from starkiln.engine.exports.textures import AXIS_MAPPINGS, DEFAULT_TEMPERATURE_RANGE_K
 
         self.setObjectName("palette-dialog")
         self.setWindowTitle("Export a palette")
@@ -347,7 +347,7 @@ class PaletteDialog(_ExportDialog):
         self.classes.setEnabled(not steps)
 
     def palette_options(self) -> dict:
-        """Keyword arguments of :func:`engine.palette.build_palette` (as ``cmd_palette`` builds)."""
+        """Keyword arguments of :func:`starkiln.engine.exports.palettes.build_palette` (as ``cmd_palette`` builds)."""
         if self.kind.currentData() == "classes":
             text = self.classes.text().strip() or "all"
             classes = None if text.lower() == "all" else text.split(",")
@@ -375,12 +375,12 @@ class PaletteDialog(_ExportDialog):
         return " ".join(shlex.quote(p) for p in parts)
 
     def _build(self):
-        from engine.palette import build_palette
+        from starkiln.engine.exports.palettes import build_palette
 
         return build_palette(self.session.settings, **self.palette_options())
 
     def _preview(self) -> None:
-        from engine.palette import palette_format_for_path, sheet_image
+        from starkiln.engine.exports.palettes import palette_format_for_path, sheet_image
 
         path = Path(self.path.text().strip() or self.default_name)
         fmt = palette_format_for_path(path)
@@ -397,13 +397,13 @@ class PaletteDialog(_ExportDialog):
         self.command.setText("Command line: " + self.command_line(path))
 
     def _export(self, path: Path, overwrite: bool) -> str:
-        from engine.palette import palette_format_for_path, write_palette
+        from starkiln.engine.exports.palettes import palette_format_for_path, write_palette
 
         palette_format_for_path(path)
         self.command.setText("Command line: " + self.command_line(path))
         opts = self.palette_options()
         check_writable(path, overwrite)
-        from engine.palette import build_palette
+        from starkiln.engine.exports.palettes import build_palette
 
         palette = build_palette(self.session.settings, **opts)
         write_palette(palette, path, overwrite=overwrite, name=self.name.text().strip() or None,

@@ -3,7 +3,7 @@
 A :class:`Field` is a line edit plus an error line under it. When the user
 commits (Enter or leaving the field), its text is parsed and handed to an
 ``apply`` callback, which asks the engine; a
-:class:`engine.errors.StarkilnError` (or a parse failure) is shown inline and
+:class:`starkiln.engine.errors.StarkilnError` (or a parse failure) is shown inline and
 the last good state stays as it was.
 """
 
@@ -14,7 +14,7 @@ from typing import Callable
 
 from PySide6 import QtCore, QtWidgets
 
-from engine.errors import StarkilnError
+from starkiln.engine.errors import StarkilnError
 
 #: What a failed parse or a rejected value may raise (StarkilnError is a ValueError).
 INPUT_ERRORS = (StarkilnError, ValueError, TypeError, OverflowError)

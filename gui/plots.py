@@ -1,7 +1,7 @@
 """The spectrum plot and the chromaticity diagram (pyqtgraph), drawn from engine data.
 
-Every curve, point and fill colour comes from :mod:`engine.views` or from
-:func:`engine.render.render`; this module only places them.
+Every curve, point and fill colour comes from :mod:`starkiln.engine.plotdata.plots` or from
+:func:`starkiln.engine.pipeline.render.render`; this module only places them.
 """
 
 from __future__ import annotations
@@ -10,10 +10,10 @@ import numpy as np
 import pyqtgraph as pg
 from PySide6 import QtCore, QtGui, QtWidgets
 
-from engine.views import (SPECTRUM_PLOT_RANGE_NM, VISIBLE_BAND_NM, chromaticity_diagram,
+from starkiln.engine.plotdata.plots import (SPECTRUM_PLOT_RANGE_NM, VISIBLE_BAND_NM, chromaticity_diagram,
                           efficiency_overlays, planck_curve, spectral_band_colours,
                           spectrum_plot_wavelengths_nm)
-from gui.theme import DIM, Theme
+from starkiln.gui.theme import DIM, Theme
 
 OVERLAYS = {  # key -> (legend text, engine curve keys)
     "photopic": ("V(\u03bb) photopic", ("V",)),

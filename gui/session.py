@@ -1,8 +1,8 @@
 """The window's state: one engine Settings object, the current temperature and magnitude.
 
 A thin Qt wrapper: it validates through the engine, asks
-:func:`engine.render.render` for the current colours, and tells the views. A
-rejected change raises :class:`engine.errors.StarkilnError` and leaves the last
+:func:`starkiln.engine.pipeline.render.render` for the current colours, and tells the views. A
+rejected change raises :class:`starkiln.engine.errors.StarkilnError` and leaves the last
 good state in place.
 
 Slider table: the temperature slider has a few thousand fixed positions. Soon
@@ -21,25 +21,25 @@ import dataclasses
 import numpy as np
 from PySide6 import QtCore
 
-from engine.errors import StarkilnError
-from engine.render import Rendered, render
-from engine.settings import Settings
-from engine.sources import check_temperature
-from engine.views import magnitude_ladder
+from starkiln.engine.errors import StarkilnError
+from starkiln.engine.pipeline.render import Rendered, render
+from starkiln.engine.pipeline.settings import Settings
+from starkiln.engine.stars.temperature import check_temperature
+from starkiln.engine.plotdata.plots import magnitude_ladder
 
 DEFAULT_TEMPERATURE_K = 5772.0  # the Sun's nominal effective temperature (IAU 2015 Resolution B3)
 DEFAULT_MAGNITUDE = 1.0
 
 
 def check_magnitude(value) -> float:
-    """A magnitude the engine accepts, as a float (engine.vision's range check)."""
-    from engine.vision import check_magnitude as _check
+    """A magnitude the engine accepts, as a float (starkiln.engine.eye.vision's range check)."""
+    from starkiln.engine.eye.vision import check_magnitude as _check
 
     return float(_check(value))
 
 
 def _row(r: Rendered, index) -> Rendered:
-    """The part ``index`` of a render (see :meth:`engine.render.Rendered.take`)."""
+    """The part ``index`` of a render (see :meth:`starkiln.engine.pipeline.render.Rendered.take`)."""
     return r.take(index)
 
 

@@ -1,7 +1,7 @@
 """Swatches: the current colour, its readouts, and the strips across temperature and magnitude.
 
 Pixels are filled with the 8-bit values the engine gives
-(:func:`engine.render.to_8bit` of ``rgb_encoded``), unchanged.
+(:func:`starkiln.engine.pipeline.render.to_8bit` of ``rgb_encoded``), unchanged.
 """
 
 from __future__ import annotations
@@ -9,7 +9,7 @@ from __future__ import annotations
 import numpy as np
 from PySide6 import QtCore, QtGui, QtWidgets
 
-from gui.theme import DIM, Theme
+from starkiln.gui.theme import DIM, Theme
 
 
 def qcolor(rgb8) -> QtGui.QColor:

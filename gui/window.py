@@ -1,4 +1,4 @@
-"""The main window: assembles the views over one :class:`gui.session.Session`.
+"""The main window: assembles the views over one :class:`starkiln.gui.session.Session`.
 
 Layout (names are this project's own)::
 
@@ -24,17 +24,17 @@ from pathlib import Path
 
 from PySide6 import QtCore, QtGui, QtWidgets
 
-from engine.errors import StarkilnError
-from engine.render import to_8bit
-from engine.settings import Settings, load_settings, save_settings, settings_to_toml
-from gui.audition import AuditionPanel
-from gui.controls import CAUTION, LookPanel
-from gui.current import CurrentColourPanel
-from gui.fields import INPUT_ERRORS
-from gui.plots import OVERLAYS, ChromaticityView, SpectrumView
-from gui.session import DEFAULT_MAGNITUDE, DEFAULT_TEMPERATURE_K, Session
-from gui.sky import SkyPreview
-from gui.theme import DEFAULT_THEME, THEMES, apply_theme
+from starkiln.engine.errors import StarkilnError
+from starkiln.engine.pipeline.render import to_8bit
+from starkiln.engine.pipeline.settings import Settings, load_settings, save_settings, settings_to_toml
+from starkiln.gui.audition import AuditionPanel
+from starkiln.gui.controls import CAUTION, LookPanel
+from starkiln.gui.current import CurrentColourPanel
+from starkiln.gui.fields import INPUT_ERRORS
+from starkiln.gui.plots import OVERLAYS, ChromaticityView, SpectrumView
+from starkiln.gui.session import DEFAULT_MAGNITUDE, DEFAULT_TEMPERATURE_K, Session
+from starkiln.gui.sky import SkyPreview
+from starkiln.gui.theme import DEFAULT_THEME, THEMES, apply_theme
 
 APP_TITLE = "Starkiln \u2014 star colours"
 MAX_RECENT = 8
@@ -60,7 +60,7 @@ class MainWindow(QtWidgets.QMainWindow):
 
     Parameters
     ----------
-    settings : engine.settings.Settings, optional
+    settings : starkiln.engine.pipeline.settings.Settings, optional
         Start with these settings (else the last session's, else defaults).
     temperature_K : float, optional
         Start at this temperature.
@@ -397,7 +397,7 @@ class MainWindow(QtWidgets.QMainWindow):
     # -- exports -----------------------------------------------------------------------------
     def export_dialog(self, kind: str):
         """Open (non-modal) the ``lut`` or ``palette`` export dialog and return it."""
-        from gui.exports import LutDialog, PaletteDialog
+        from starkiln.gui.exports import LutDialog, PaletteDialog
 
         cls = LutDialog if kind == "lut" else PaletteDialog
         dialog = getattr(self, f"_{kind}_dialog", None)
@@ -483,7 +483,7 @@ class MainWindow(QtWidgets.QMainWindow):
 
 def save_window_picture(window: QtWidgets.QWidget, path) -> Path:
     """Grab the window into a PNG file, atomically (nothing is left on failure)."""
-    from engine.atomic import atomic_path
+    from starkiln.engine.atomic import atomic_path
 
     path = Path(path)
     if path.suffix.lower() != ".png":

@@ -1,4 +1,4 @@
-"""Atomic writes (engine.atomic): the old file survives any failure; new files get ordinary modes.
+"""Atomic writes (starkiln.engine.atomic): the old file survives any failure; new files get ordinary modes.
 
 Reference: POSIX rename(2) is atomic within one file system and open(2) creates files with
 mode 0666 & ~umask (common practice for "ordinary" new files).
@@ -8,9 +8,9 @@ import os
 
 import pytest
 
-from engine.atomic import OutputExistsError, atomic_path, new_file_mode, write_atomic
-from engine.errors import StarkilnError
-from engine.settings import Settings, load_settings, save_settings
+from starkiln.engine.atomic import OutputExistsError, atomic_path, new_file_mode, write_atomic
+from starkiln.engine.errors import StarkilnError
+from starkiln.engine.pipeline.settings import Settings, load_settings, save_settings
 
 
 def test_write_then_refuse_to_overwrite(tmp_path):

@@ -1,4 +1,4 @@
-"""``starkiln catalogue``: row colours, statuses, formats, errors (engine.catalogue).
+"""``starkiln catalogue``: row colours, statuses, formats, errors (starkiln.engine.catalogue.stream).
 
 References for the checks:
 - Row colours are compared with ``starkiln colour --json`` for the same values (the
@@ -25,14 +25,14 @@ pa = pytest.importorskip("pyarrow")
 pq = pytest.importorskip("pyarrow.parquet")
 pytest.importorskip("tqdm")
 
-import engine.catalogue as cat  # noqa: E402
+import starkiln.engine.catalogue.stream as cat  # noqa: E402
 
 with cat.astropy_guard():  # colour-science may have left a stand-in matplotlib module
     astropy_table = pytest.importorskip("astropy.table")
-from engine.catalogue import CataloguePlan, colour_catalogue  # noqa: E402
-from engine.cli import main  # noqa: E402
-from engine.errors import StarkilnError  # noqa: E402
-from engine.settings import Settings  # noqa: E402
+from starkiln.engine.catalogue.stream import CataloguePlan, colour_catalogue  # noqa: E402
+from starkiln.cli.main import main  # noqa: E402
+from starkiln.engine.errors import StarkilnError  # noqa: E402
+from starkiln.engine.pipeline.settings import Settings  # noqa: E402
 
 Table = astropy_table.Table
 ONE_STEP = 1.0 / 255.0
@@ -424,7 +424,7 @@ def test_demo_catalogue_as_in_the_readme(tmp_path, capsys):
 
 
 def test_colour_command_does_not_import_the_catalogue_libraries(python_run):
-    r = python_run("import sys\nfrom engine.cli import main\n"
+    r = python_run("import sys\nfrom starkiln.cli.main import main\n"
                    "main(['colour', '--temperature', '5800'])\n"
                    "print(sorted(m for m in ('astropy', 'pyarrow', 'dask', 'pandas', 'tqdm',"
                    " 'distributed') if m in sys.modules))")

@@ -19,10 +19,10 @@ distributed = pytest.importorskip("distributed")
 pd = pytest.importorskip("pandas")
 pytestmark = pytest.mark.filterwarnings("ignore:The inplace keyword")
 
-from engine.catalogue import CataloguePlan, colour_catalogue  # noqa: E402
-from engine.catalogue_dask import colour_catalogue_dask  # noqa: E402
-from engine.cli import main  # noqa: E402
-from engine.settings import Settings  # noqa: E402
+from starkiln.engine.catalogue.stream import CataloguePlan, colour_catalogue  # noqa: E402
+from starkiln.engine.catalogue.dask_engine import colour_catalogue_dask  # noqa: E402
+from starkiln.cli.main import main  # noqa: E402
+from starkiln.engine.pipeline.settings import Settings  # noqa: E402
 
 
 def make_parts(folder, n_files=3, rows=4000, seed=3):
@@ -70,7 +70,7 @@ def test_dask_equals_the_single_machine_path(tmp_path, source, column):
 
 
 def test_dask_equals_the_single_machine_path_with_magnitudes(tmp_path, monkeypatch):
-    import engine.catalogue as cat
+    import starkiln.engine.catalogue.stream as cat
     monkeypatch.setattr(cat, "EXACT_ROWS_WITH_MAGNITUDE", 0)  # through the 2-D table
     src = tmp_path / "in"
     src.mkdir()

@@ -1,4 +1,4 @@
-"""Gaia relations (engine.photometry_gaia) against an independent published sequence.
+"""Gaia relations (starkiln.engine.stars.gaia) against an independent published sequence.
 
 The check values printed in Mucciarelli, Bellazzini & Massari (2021) and Riello
 et al. (2021) could not be consulted here (no access to the papers), so the
@@ -14,8 +14,8 @@ plus those systematics, not exactly.
 import numpy as np
 import pytest
 
-from engine.errors import InputRangeError
-from engine.photometry_gaia import (BP_RP_CALIBRATED_MAX, BP_RP_CALIBRATED_MIN,
+from starkiln.engine.errors import InputRangeError
+from starkiln.engine.stars.gaia import (BP_RP_CALIBRATED_MAX, BP_RP_CALIBRATED_MIN,
                                     MBM21_DWARF_SIGMA_K, RIELLO21_G_MINUS_V_SIGMA, bp_rp_in_range,
                                     g_minus_v, temperature_from_bp_rp, v_from_g)
 

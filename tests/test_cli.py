@@ -1,4 +1,4 @@
-"""engine.cli: the ``starkiln`` command line.
+"""starkiln.cli.main: the ``starkiln`` command line.
 
 Reference values come from outside the project: colour-science's blackbody chromaticity,
 Ballesteros (2012) for B-V, CIE 15:2004 Table T.3 for the white presets, IEC 61966-2-1 for
@@ -13,7 +13,7 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from engine.cli import main
+from starkiln.cli.main import main
 
 REPO_ROOT = Path(__file__).resolve().parent.parent
 STARKILN = Path(sys.executable).parent / "starkiln"

@@ -21,9 +21,9 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from engine.cli import build_parser, main
-from engine.render import render
-from engine.settings import Settings
+from starkiln.cli.main import build_parser, main
+from starkiln.engine.pipeline.render import render
+from starkiln.engine.pipeline.settings import Settings
 
 REPO = Path(__file__).resolve().parent.parent
 
@@ -293,8 +293,8 @@ def test_exports_get_the_usual_file_mode(tmp_path, capsys, name):
 
 
 def test_writer_failing_midway_leaves_the_old_file(tmp_path, monkeypatch):
-    import engine.imageio
-    from engine.lut import LutSpec, export_lut
+    import starkiln.engine.exports.image_files
+    from starkiln.engine.exports.textures import LutSpec, export_lut
 
     out = tmp_path / "old.png"
     out.write_bytes(b"previous good texture")
@@ -304,7 +304,7 @@ def test_writer_failing_midway_leaves_the_old_file(tmp_path, monkeypatch):
             fh.write(b"\x89PNG\r\n\x1a\nhalf a file")
         raise OSError("disk full (simulated)")
 
-    monkeypatch.setattr(engine.imageio, "write_png", failing)
+    monkeypatch.setattr(starkiln.engine.exports.image_files, "write_png", failing)
     with pytest.raises(OSError):
         export_lut(Settings(), LutSpec(width=8, height=2), out, overwrite=True)
     assert out.read_bytes() == b"previous good texture"
@@ -322,15 +322,15 @@ def test_sigkill_mid_write_leaves_the_old_file(tmp_path):
     # temporary file) so that the kill lands mid-write every time.
     code = f"""
 import sys, time
-import engine.imageio
+import starkiln.engine.exports.image_files
 def slow(path, array, text=None):
     with open(path, "wb") as fh:
         fh.write(b"\\x89PNG\\r\\n\\x1a\\n" + b"partial" * 1000)
         fh.flush()
         open({str(marker)!r}, "w").close()
         time.sleep(60)
-engine.imageio.write_png = slow
-from engine.cli import main
+starkiln.engine.exports.image_files.write_png = slow
+from starkiln.cli.main import main
 sys.exit(main(["lut", {str(out)!r}, "--size", "64x4", "--force"]))
 """
     proc = subprocess.Popen([sys.executable, "-c", code], cwd=REPO,

@@ -1,4 +1,4 @@
-"""engine.displays: presets, matrices, transfer functions and display profiles.
+"""starkiln.engine.colour.displays: presets, matrices, transfer functions and display profiles.
 
 References:
 
@@ -14,7 +14,7 @@ import json
 import numpy as np
 import pytest
 
-from engine.displays import (
+from starkiln.engine.colour.displays import (
     PRESETS,
     Display,
     decode,
@@ -27,7 +27,7 @@ from engine.displays import (
     srgb_decode,
     srgb_encode,
 )
-from engine.errors import SettingsError
+from starkiln.engine.errors import SettingsError
 
 GRID = np.linspace(0.0, 1.0, 1001)
 

@@ -17,16 +17,16 @@ import warnings
 import numpy as np
 import pytest
 
-import engine.settings
-from engine.fastpath import (MAGNITUDE_MAX, MAGNITUDE_MIN, _cache_file, build_colour_table,
+import starkiln.engine.pipeline.settings
+from starkiln.engine.catalogue.colour_grid import (MAGNITUDE_MAX, MAGNITUDE_MIN, _cache_file, build_colour_table,
                              colour_table)
-from engine.render import render
-from engine.settings import Settings
+from starkiln.engine.pipeline.render import render
+from starkiln.engine.pipeline.settings import Settings
 
 colour = pytest.importorskip("colour")
 warnings.filterwarnings("ignore", module="colour")
 
-needs_vision = pytest.mark.skipif(not hasattr(engine.settings.Settings, "aperture_mm"),
+needs_vision = pytest.mark.skipif(not hasattr(starkiln.engine.pipeline.settings.Settings, "aperture_mm"),
                                   reason="night-vision model not in this build yet")
 
 #: The bound the issue sets (CIEDE2000).
@@ -45,7 +45,7 @@ def lab_from_encoded(settings: Settings, encoded: np.ndarray) -> np.ndarray:
         linear = v
     elif d.transfer == "pq":
         linear = colour.models.eotf_ST2084(v) / d.peak_luminance_cd_m2  # SMPTE ST 2084
-    else:  # pragma: no cover - every transfer of engine.displays is listed
+    else:  # pragma: no cover - every transfer of starkiln.engine.colour.displays is listed
         raise AssertionError(d.transfer)
     space = colour.RGB_Colourspace("display", np.array([d.red_xy, d.green_xy, d.blue_xy]),
                                    np.array(d.white_xy))

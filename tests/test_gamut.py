@@ -1,4 +1,4 @@
-"""engine.gamut and the gamut step of the render path.
+"""starkiln.engine.colour.gamut and the gamut step of the render path.
 
 References:
 
@@ -14,11 +14,11 @@ References:
 import numpy as np
 import pytest
 
-from engine.errors import SettingsError
-from engine.gamut import GAMUT_METHODS, Oklab_to_XYZ, XYZ_to_Oklab, check_gamut_method
-from engine.render import render
-from engine.settings import Settings
-from engine.whites import resolve_white
+from starkiln.engine.errors import SettingsError
+from starkiln.engine.colour.gamut import GAMUT_METHODS, Oklab_to_XYZ, XYZ_to_Oklab, check_gamut_method
+from starkiln.engine.pipeline.render import render
+from starkiln.engine.pipeline.settings import Settings
+from starkiln.engine.colour.whites import resolve_white
 
 TEMPS = np.geomspace(500.0, 100000.0, 300)
 D65_4DIGIT_XY = np.array([0.3127, 0.3290])  # ITU-R BT.709 / IEC 61966-2-1 D65

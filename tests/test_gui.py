@@ -9,9 +9,9 @@ import numpy as np
 import pytest
 from PySide6 import QtCore, QtGui, QtWidgets
 
-from engine.render import render, to_8bit
-from engine.settings import Settings
-from engine.views import (efficiency_overlays, magnitude_ladder, sky_image,
+from starkiln.engine.pipeline.render import render, to_8bit
+from starkiln.engine.pipeline.settings import Settings
+from starkiln.engine.plotdata.plots import (efficiency_overlays, magnitude_ladder, sky_image,
                           spectral_band_colours)
 from test_gui_support import (centre_pixel, escaped, pytestmark, rendered_8bit,  # noqa: F401
                               shared_window, store, window)
@@ -41,7 +41,7 @@ def _cell_pixel(strip, index):
 
 # -- entry points ----------------------------------------------------------------------------
 def test_create_window_returns_it_unshown(qtbot, store):
-    from gui import create_window
+    from starkiln.gui import create_window
 
     w = create_window(store=store)
     qtbot.addWidget(w)
@@ -255,9 +255,9 @@ def test_adaptation_observer_gamut_normalisation(window):
 
 
 def test_options_are_the_engines(window):
-    from engine.displays import PRESETS
-    from engine.gamut import GAMUT_METHODS
-    from engine.whites import ADAPTATIONS, WHITE_PRESETS
+    from starkiln.engine.colour.displays import PRESETS
+    from starkiln.engine.colour.gamut import GAMUT_METHODS
+    from starkiln.engine.colour.whites import ADAPTATIONS, WHITE_PRESETS
 
     def data(choice):
         return [choice.combo.itemData(i) for i in range(choice.combo.count())]
@@ -270,8 +270,8 @@ def test_options_are_the_engines(window):
 
 
 def test_demo_dome_profile_and_editor(window, qtbot):
-    from assets import asset_path
-    from engine.displays import load_display_profile
+    from starkiln.assets import asset_path
+    from starkiln.engine.colour.displays import load_display_profile
 
     _choose(window.look.display.display, "demo-dome")
     dome = load_display_profile(str(asset_path("dome_projector.json")))
@@ -368,7 +368,7 @@ def test_copy_to_clipboard(window):
 
 
 def test_dim_theme_is_long_wavelength_light(window):
-    from gui.theme import DIM, ORDINARY
+    from starkiln.gui.theme import DIM, ORDINARY
 
     # Common practice: red light spares dark adaptation. Every interface colour of the dim
     # theme has red at least twice green and blue.
@@ -385,7 +385,7 @@ def test_dim_theme_is_long_wavelength_light(window):
 
 
 def test_state_is_kept_between_runs(qtbot, store, tmp_path):
-    from gui import create_window
+    from starkiln.gui import create_window
 
     w = create_window(Settings(), 5772.0, store=store)
     qtbot.addWidget(w)
@@ -406,7 +406,7 @@ def test_state_is_kept_between_runs(qtbot, store, tmp_path):
 
 
 def test_settings_save_and_load(window, tmp_path):
-    from engine.settings import load_settings
+    from starkiln.engine.pipeline.settings import load_settings
 
     _choose(window.look.output.gamut, "scale")
     path = tmp_path / "dome-look.toml"

@@ -14,8 +14,8 @@ import numpy as np
 import pytest
 from PySide6 import QtGui
 
-from engine.cli import main as cli_main
-from engine.render import render, to_8bit
+from starkiln.cli.main import main as cli_main
+from starkiln.engine.pipeline.render import render, to_8bit
 from test_gui_support import escaped, pytestmark, shared_window, window  # noqa: F401
 
 ROOT = Path(__file__).resolve().parent.parent
@@ -62,7 +62,7 @@ def test_lut_dialog_matches_the_command_line(window, tmp_path, capsys):
     assert gui_out.read_bytes() == cli_out.read_bytes()
     assert "--magnitudes -1:7" in d.command.text()
     # the preview is the same texture at 8 bits: its first texel is the render path's colour
-    from engine.lut import lut_axes
+    from starkiln.engine.exports.textures import lut_axes
 
     t, m = lut_axes(d.spec_for(gui_out))
     r = render(window.session.settings, t[0], m[0])
@@ -113,7 +113,7 @@ def test_palette_dialog_matches_the_command_line(window, tmp_path, capsys, suffi
           "--steps", "7", "--axis", "mired", "--name", "Kiln dome test"], capsys)
     assert gui_out.read_bytes() == cli_out.read_bytes()
     # the preview strip shows the palette's own 8-bit colours
-    from engine.palette import build_palette
+    from starkiln.engine.exports.palettes import build_palette
 
     p = build_palette(window.session.settings, range_K=(2500.0, 12000.0), steps=7, axis="mired")
     assert d.strip.cell_count == 7
@@ -179,12 +179,12 @@ def test_screenshot_command_sets_offscreen_itself(tmp_path):
     env = {k: v for k, v in os.environ.items()
            if k not in ("QT_QPA_PLATFORM", "DISPLAY", "WAYLAND_DISPLAY")}
     out = tmp_path / "cli-shot.png"
-    r = subprocess.run([sys.executable, "-m", "engine.cli", "--screenshot", str(out),
+    r = subprocess.run([sys.executable, "-m", "starkiln", "--screenshot", str(out),
                         "--temperature", "6500"], cwd=ROOT, env=env, capture_output=True,
                        text=True, timeout=60)
     assert r.returncode == 0, r.stderr
     assert QtGui.QImage(str(out)).size().toTuple() == (1280, 800)
-    bad = subprocess.run([sys.executable, "-m", "engine.cli", "--screenshot", str(out),
+    bad = subprocess.run([sys.executable, "-m", "starkiln", "--screenshot", str(out),
                           "--temperature", "20"], cwd=ROOT, env=env, capture_output=True,
                          text=True, timeout=60)
     assert bad.returncode == 2
@@ -194,11 +194,11 @@ def test_screenshot_command_sets_offscreen_itself(tmp_path):
 def test_no_command_opens_the_window(qapp, monkeypatch, tmp_path):
     from PySide6 import QtCore, QtWidgets
 
-    import gui.app
-    from engine.cli import build_parser
+    import starkiln.gui.app
+    from starkiln.cli.main import build_parser
 
     store = QtCore.QSettings(str(tmp_path / "state.ini"), QtCore.QSettings.Format.IniFormat)
-    monkeypatch.setattr(gui.app, "user_store", lambda: store)  # never the user's own store
+    monkeypatch.setattr(starkiln.gui.app, "user_store", lambda: store)  # never the user's own store
     before = set(QtWidgets.QApplication.topLevelWidgets())
     opened = []
 
@@ -213,7 +213,7 @@ def test_no_command_opens_the_window(qapp, monkeypatch, tmp_path):
     toml.write_text('starkiln_settings = 1\ngamut = "clip"\n')
     QtCore.QTimer.singleShot(300, close_soon)
     args = build_parser().parse_args(["--settings", str(toml), "--temperature", "4321"])
-    assert gui.app.run(args) == 0
+    assert starkiln.gui.app.run(args) == 0
     assert opened == [(4321.0, "clip")]
     assert store.value("session/temperature_K") is not None  # state kept on close
 
@@ -221,7 +221,7 @@ def test_no_command_opens_the_window(qapp, monkeypatch, tmp_path):
 def test_no_command_without_a_display_says_so(tmp_path):
     env = {k: v for k, v in os.environ.items()
            if k not in ("QT_QPA_PLATFORM", "DISPLAY", "WAYLAND_DISPLAY")}
-    r = subprocess.run([sys.executable, "-m", "engine.cli"], cwd=ROOT, env=env,
+    r = subprocess.run([sys.executable, "-m", "starkiln"], cwd=ROOT, env=env,
                        capture_output=True, text=True, timeout=60)
     assert r.returncode == 2
     assert "no display found" in r.stderr and "--screenshot" in r.stderr

@@ -46,8 +46,8 @@ def shared_window(qapp, tmp_path_factory):
     """One window per test module (building one costs a few tenths of a second)."""
     from PySide6 import QtCore, QtTest
 
-    from engine.settings import Settings
-    from gui import create_window
+    from starkiln.engine.pipeline.settings import Settings
+    from starkiln.gui import create_window
 
     path = tmp_path_factory.mktemp("state") / "window-state.ini"
     store = QtCore.QSettings(str(path), QtCore.QSettings.Format.IniFormat)
@@ -64,9 +64,9 @@ def shared_window(qapp, tmp_path_factory):
 
 def reset_window(w):
     """Back to a fresh window's state: default settings, 5772 K, magnitude 1, no errors."""
-    from engine.settings import Settings
-    from gui.fields import ErrorLine
-    from gui.theme import DEFAULT_THEME
+    from starkiln.engine.pipeline.settings import Settings
+    from starkiln.gui.fields import ErrorLine
+    from starkiln.gui.theme import DEFAULT_THEME
 
     for dialog in (w.look.display.editor, w.last_message):
         if dialog is not None:
@@ -111,7 +111,7 @@ def centre_pixel(widget):
 
 def rendered_8bit(settings, temperature_K, magnitude=None):
     """The render path's 8-bit colour (display-encoded) of one star."""
-    from engine.render import render, to_8bit
+    from starkiln.engine.pipeline.render import render, to_8bit
 
     r = render(settings, temperature_K, magnitude)
     rgb = r.rgb_encoded if magnitude is None else r.rgb_dimmed_encoded
@@ -142,10 +142,10 @@ def test_hook_catches_an_exception_in_a_slot(qtbot):
 
 
 def test_binding_guard_keeps_none_alive():
-    """gui.compat: found exactly when void calls drop references to None, and then it holds."""
+    """starkiln.gui.compat: found exactly when void calls drop references to None, and then it holds."""
     import io
 
-    from gui.compat import guard_none_refcount, none_leak_per_call
+    from starkiln.gui.compat import guard_none_refcount, none_leak_per_call
 
     leak = none_leak_per_call()
     found = guard_none_refcount(io.StringIO())

@@ -1,4 +1,4 @@
-"""Image writers and readers (engine.imageio), checked with independent readers.
+"""Image writers and readers (starkiln.engine.exports.image_files), checked with independent readers.
 
 References: ISO/IEC 15948:2004 (PNG: chunk layout, IHDR bit depths, tEXt =
 keyword NUL text); pypng and Pillow as independent PNG readers; the OpenEXR
@@ -8,8 +8,8 @@ Python bindings (OpenEXR 3.x) as the EXR reader.
 import numpy as np
 import pytest
 
-from engine.errors import StarkilnError
-from engine.imageio import read_embedded_json, read_embedded_text, write_exr, write_png
+from starkiln.engine.errors import StarkilnError
+from starkiln.engine.exports.image_files import read_embedded_json, read_embedded_text, write_exr, write_png
 
 
 def _png_chunks(path):

@@ -1,4 +1,4 @@
-"""Lookup textures (engine.lut): axes, texel centres, layouts, one render path.
+"""Lookup textures (starkiln.engine.exports.textures): axes, texel centres, layouts, one render path.
 
 References used here:
 - Texel centres at (i + 0.5) / N: the sampling convention of GPU textures
@@ -14,18 +14,18 @@ import warnings
 import numpy as np
 import pytest
 
-import engine.settings
-from engine.errors import StarkilnError
-from engine.lut import (LutSpec, build_lut, lut_axes, lut_metadata, magnitude_from_v,
+import starkiln.engine.pipeline.settings
+from starkiln.engine.errors import StarkilnError
+from starkiln.engine.exports.textures import (LutSpec, build_lut, lut_axes, lut_metadata, magnitude_from_v,
                         render_lut, spec_from_metadata, temperature_from_u, texel_centres,
                         u_from_temperature, v_from_magnitude, write_lut)
-from engine.render import render
-from engine.settings import Settings
+from starkiln.engine.pipeline.render import render
+from starkiln.engine.pipeline.settings import Settings
 
 #: Second radiation constant from the exact SI values of h, c, k (CODATA 2018).
 C2_CODATA_2018 = 6.62607015e-34 * 299792458.0 / 1.380649e-23
 
-needs_vision = pytest.mark.skipif(not hasattr(engine.settings.Settings, "aperture_mm"),
+needs_vision = pytest.mark.skipif(not hasattr(starkiln.engine.pipeline.settings.Settings, "aperture_mm"),
                                   reason="night-vision model (magnitudes) not available yet")
 
 
@@ -143,32 +143,32 @@ def test_exr_texels_match_the_colour_science_spectral_route(colour):
 
 
 def test_build_lut_calls_the_render_path_exactly_once(monkeypatch):
-    import engine.render
+    import starkiln.engine.pipeline.render
 
     calls = []
-    original = engine.render.render
+    original = starkiln.engine.pipeline.render.render
 
     def counting(settings, temperature_K, magnitude=None):
         calls.append((np.shape(temperature_K), None if magnitude is None else np.shape(magnitude)))
         return original(settings, temperature_K, magnitude)
 
-    monkeypatch.setattr(engine.render, "render", counting)
+    monkeypatch.setattr(starkiln.engine.pipeline.render, "render", counting)
     build_lut(Settings(), LutSpec(width=16, height=4))
     assert calls == [((1, 16), None)]
 
 
 @needs_vision
 def test_magnitude_texture_is_one_broadcast_render_call(monkeypatch):
-    import engine.render
+    import starkiln.engine.pipeline.render
 
     calls = []
-    original = engine.render.render
+    original = starkiln.engine.pipeline.render.render
 
     def counting(settings, temperature_K, magnitude=None):
         calls.append((np.shape(temperature_K), np.shape(magnitude)))
         return original(settings, temperature_K, magnitude)
 
-    monkeypatch.setattr(engine.render, "render", counting)
+    monkeypatch.setattr(starkiln.engine.pipeline.render, "render", counting)
     build_lut(Settings(), LutSpec(width=16, height=8, magnitude_range=(-1.0, 7.0)))
     assert calls == [((1, 16), (8, 1))]
 

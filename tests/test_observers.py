@@ -1,4 +1,4 @@
-"""engine.observers: colour-matching functions, luminous efficiency, chromaticity maths.
+"""starkiln.engine.colour.observers: colour-matching functions, luminous efficiency, chromaticity maths.
 
 Reference: colour-science (its CIE 15:2004 / CIE S 010:2004 datasets and conversion
 functions), and CIE 15:2004 section 7.3 (the spectral locus bounds the chromaticity
@@ -8,8 +8,8 @@ diagram).
 import numpy as np
 import pytest
 
-from engine.errors import SettingsError
-from engine.observers import (
+from starkiln.engine.errors import SettingsError
+from starkiln.engine.colour.observers import (
     XYZ_to_xy,
     check_observer,
     cmfs,

@@ -1,4 +1,4 @@
-"""Palettes (engine.palette): swatch sets and the JSON, CSV, GPL and contact-sheet writers.
+"""Palettes (starkiln.engine.exports.palettes): swatch sets and the JSON, CSV, GPL and contact-sheet writers.
 
 References used here:
 - GIMP palette format as GIMP reads it: GIMP source, app/core/gimppalette-load.c,
@@ -20,11 +20,11 @@ import warnings
 import numpy as np
 import pytest
 
-from engine.errors import StarkilnError
-from engine.palette import (build_palette, class_temperatures, palette_csv, palette_dict,
+from starkiln.engine.errors import StarkilnError
+from starkiln.engine.exports.palettes import (build_palette, class_temperatures, palette_csv, palette_dict,
                             palette_gpl, sheet_swatch_boxes, step_temperatures, write_palette)
-from engine.render import render
-from engine.settings import Settings
+from starkiln.engine.pipeline.render import render
+from starkiln.engine.pipeline.settings import Settings
 
 
 def parse_gimp_palette(data: bytes):
@@ -78,7 +78,7 @@ def test_reversed_range_is_refused():
 
 
 def test_classes_cover_the_main_sequence_table():
-    from engine.sources import SPECTRAL_CLASS_TEFF_K
+    from starkiln.engine.stars.temperature import SPECTRAL_CLASS_TEFF_K
 
     names, temps = class_temperatures()
     assert len(names) == len(SPECTRAL_CLASS_TEFF_K)

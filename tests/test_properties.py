@@ -14,12 +14,12 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from engine.displays import PRESETS
-from engine.gamut import GAMUT_METHODS
-from engine.observers import OBSERVERS
-from engine.render import render
-from engine.settings import NORMALISATIONS, Settings
-from engine.whites import ADAPTATIONS, WHITE_PRESETS
+from starkiln.engine.colour.displays import PRESETS
+from starkiln.engine.colour.gamut import GAMUT_METHODS
+from starkiln.engine.colour.observers import OBSERVERS
+from starkiln.engine.pipeline.render import render
+from starkiln.engine.pipeline.settings import NORMALISATIONS, Settings
+from starkiln.engine.colour.whites import ADAPTATIONS, WHITE_PRESETS
 
 FAST = settings(max_examples=80, deadline=None, derandomize=True, database=None)
 

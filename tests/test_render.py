@@ -1,4 +1,4 @@
-"""engine.render: the one render path, checked against colorimetry from outside the project.
+"""starkiln.engine.pipeline.render: the one render path, checked against colorimetry from outside the project.
 
 References:
 
@@ -16,11 +16,11 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from engine.displays import PRESETS
-from engine.errors import InputRangeError
-from engine.observers import XYZ_to_xy, xy_to_uv1976
-from engine.render import Rendered, blackbody_XYZ, render, to_8bit, to_hex
-from engine.settings import Settings
+from starkiln.engine.colour.displays import PRESETS
+from starkiln.engine.errors import InputRangeError
+from starkiln.engine.colour.observers import XYZ_to_xy, xy_to_uv1976
+from starkiln.engine.pipeline.render import Rendered, blackbody_XYZ, render, to_8bit, to_hex
+from starkiln.engine.pipeline.settings import Settings
 
 ENGINE_DIR = Path(__file__).resolve().parent.parent / "engine"
 WIEN_B_CODATA_2018 = 2.897771955e-3  # m K
@@ -202,8 +202,8 @@ def test_engine_sources_do_not_import_qt():
 
 
 def test_engine_import_does_not_load_qt(python_run):
-    code = ("import sys, engine.render, engine.cli, engine.settings\n"
-            "engine.cli.build_parser()\n"
+    code = ("import sys, starkiln.engine.pipeline.render, starkiln.cli.main, starkiln.engine.pipeline.settings\n"
+            "starkiln.cli.main.build_parser()\n"
             "bad = [m for m in ('PySide6', 'pyqtgraph', 'PyQt5', 'PyQt6') if m in sys.modules]\n"
             "print('QT:' + ','.join(bad))\n")
     res = python_run(code)

@@ -1,4 +1,4 @@
-"""engine.settings: the validated, immutable settings object and its TOML file.
+"""starkiln.engine.pipeline.settings: the validated, immutable settings object and its TOML file.
 
 References: TOML 1.0 (read back here with the standard library's tomllib, independent of
 the writer), the engine contract (frozen, hashable, one-line errors naming the file and
@@ -10,10 +10,10 @@ import tomllib
 
 import pytest
 
-from engine.displays import PRESETS, Display
-from engine.atomic import OutputExistsError
-from engine.errors import SettingsError
-from engine.settings import (
+from starkiln.engine.colour.displays import PRESETS, Display
+from starkiln.engine.atomic import OutputExistsError
+from starkiln.engine.errors import SettingsError
+from starkiln.engine.pipeline.settings import (
     SETTINGS_FORMAT,
     Settings,
     load_settings,
@@ -148,7 +148,7 @@ def test_from_dict_requires_a_table():
 
 
 def test_save_is_atomic_and_refuses_to_clobber(tmp_path):
-    # Contract: writes go through engine.atomic; overwrite=False keeps an existing file.
+    # Contract: writes go through starkiln.engine.atomic; overwrite=False keeps an existing file.
     path = tmp_path / "keep.toml"
     path.write_text("old", encoding="utf-8")
     with pytest.raises(OutputExistsError):

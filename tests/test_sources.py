@@ -1,4 +1,4 @@
-"""engine.sources: temperatures from kelvin, B-V and spectral classes.
+"""starkiln.engine.stars.temperature: temperatures from kelvin, B-V and spectral classes.
 
 References:
 
@@ -12,8 +12,8 @@ References:
 import numpy as np
 import pytest
 
-from engine.errors import InputRangeError, StarkilnError
-from engine.sources import (
+from starkiln.engine.errors import InputRangeError, StarkilnError
+from starkiln.engine.stars.temperature import (
     SPECTRAL_CLASS_TEFF_K,
     check_temperature,
     temperature_from_bv,

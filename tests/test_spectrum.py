@@ -1,4 +1,4 @@
-"""engine.spectrum: Planck's law, Wien's displacement law, Stefan-Boltzmann.
+"""starkiln.engine.colour.spectrum: Planck's law, Wien's displacement law, Stefan-Boltzmann.
 
 References used here (all outside the project):
 
@@ -15,14 +15,14 @@ import math
 import numpy as np
 import pytest
 
-from engine.spectrum import (
+from starkiln.engine.colour.spectrum import (
     band_integral,
     peak_wavelength_nm,
     planck_radiance,
     planck_weighted_sums,
     radiant_exitance_W_m2,
 )
-from engine.tables import tables
+from starkiln.engine.colour.cie_data import tables
 
 # SI Brochure 9th ed. (2019): exact defining constants.
 H_SI = 6.62607015e-34
@@ -182,7 +182,7 @@ def test_luminous_exitance_against_colour_science():
     # colour's rounded c2 = 1.4388e-2 and its trapezoid ends.
     import warnings
 
-    from engine.spectrum import luminous_exitance_lm_m2
+    from starkiln.engine.colour.spectrum import luminous_exitance_lm_m2
 
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
@@ -204,7 +204,7 @@ def test_luminous_exitance_against_colour_science():
 def test_blackbody_luminous_efficacy_peak():
     # From memory (handbook value): the luminous efficacy of blackbody radiation peaks at
     # about 95 lm/W near 6600 K; a 2856 K radiator (CIE A) gives about 15 lm/W.
-    from engine.spectrum import luminous_efficacy_lm_W
+    from starkiln.engine.colour.spectrum import luminous_efficacy_lm_W
 
     t = np.linspace(4000.0, 10000.0, 121)
     k = luminous_efficacy_lm_W(t)

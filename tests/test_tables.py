@@ -1,4 +1,4 @@
-"""engine.tables: the CIE tables taken from colour-science, and their on-disk cache.
+"""starkiln.engine.colour.cie_data: the CIE tables taken from colour-science, and their on-disk cache.
 
 References: colour-science's datasets (CIE 15:2004 Tables T.2, T.4, T.5; CIE S 010:2004),
 the engine contract (360-830 nm at 1 nm, cache keyed by the colour-science version, a warm
@@ -10,7 +10,7 @@ from importlib import metadata
 import numpy as np
 import pytest
 
-import engine.tables as et
+import starkiln.engine.colour.cie_data as et
 
 CMF_NAMES = {"cmf_cie1931": "CIE 1931 2 Degree Standard Observer",
              "cmf_cie1964": "CIE 1964 10 Degree Standard Observer"}
@@ -101,7 +101,7 @@ def test_corrupt_cache_is_rebuilt(private_cache, colour):
         np.testing.assert_array_equal(data["cmf_cie1931"], tab["cmf_cie1931"])
 
 
-PROBE = ("import sys, engine.tables as t\n"
+PROBE = ("import sys, starkiln.engine.colour.cie_data as t\n"
          "tab = t.tables()\n"
          "assert tab['cmf_cie1931'].shape == (471, 3)\n"
          "print('COLOUR:' + str('colour' in sys.modules))\n")

@@ -1,4 +1,4 @@
-"""Tests of engine.views: the data the window draws, checked against outside references.
+"""Tests of starkiln.engine.plotdata.plots: the data the window draws, checked against outside references.
 
 References used: colour-science (https://www.colour-science.org) as the reference
 library; CIE 15:2004 tables; IEC 61966-2-1 (sRGB); SMPTE RP 431-2 (DCI-P3);
@@ -10,11 +10,11 @@ import json
 import numpy as np
 import pytest
 
-from engine.displays import PRESETS, load_display_profile
-from engine.errors import InputRangeError, SettingsError
-from engine.render import render, to_8bit
-from engine.settings import Settings
-from engine.views import (VISIBLE_BAND_NM, MiredScale, chromaticity_diagram, efficiency_overlays,
+from starkiln.engine.colour.displays import PRESETS, load_display_profile
+from starkiln.engine.errors import InputRangeError, SettingsError
+from starkiln.engine.pipeline.render import render, to_8bit
+from starkiln.engine.pipeline.settings import Settings
+from starkiln.engine.plotdata.plots import (VISIBLE_BAND_NM, MiredScale, chromaticity_diagram, efficiency_overlays,
                           load_demo_cluster, magnitude_ladder, mired_to_temperature,
                           planck_curve, planckian_locus_xy, save_display_profile, sky_image,
                           spectral_band_colours, spectrum_plot_wavelengths_nm,
@@ -242,7 +242,7 @@ def test_save_display_profile_round_trip(tmp_path):
 
 
 def test_demo_dome_profile_is_valid_and_marked_invented():
-    from assets import asset_path
+    from starkiln.assets import asset_path
 
     path = asset_path("dome_projector.json")
     d = load_display_profile(str(path))

@@ -8,12 +8,12 @@ import warnings
 import numpy as np
 import pytest
 
-from engine import vision as nv
-from engine.errors import InputRangeError, SettingsError
-from engine.observers import KM_PHOTOPIC_LM_W, KM_SCOTOPIC_LM_W, v_photopic, v_scotopic
-from engine.render import render, scotopic_ratio
-from engine.settings import Settings
-from engine.tables import wavelengths_nm
+from starkiln.engine.eye import vision as nv
+from starkiln.engine.errors import InputRangeError, SettingsError
+from starkiln.engine.colour.observers import KM_PHOTOPIC_LM_W, KM_SCOTOPIC_LM_W, v_photopic, v_scotopic
+from starkiln.engine.pipeline.render import render, scotopic_ratio
+from starkiln.engine.pipeline.settings import Settings
+from starkiln.engine.colour.cie_data import wavelengths_nm
 
 with warnings.catch_warnings():
     warnings.simplefilter("ignore")
@@ -256,7 +256,7 @@ def test_log_curve_is_linear_in_magnitude():
 # --- dome compensation ----------------------------------------------------------------------
 
 def dim_dome(peak):
-    from engine.displays import PRESETS
+    from starkiln.engine.colour.displays import PRESETS
     import dataclasses
     return dataclasses.replace(PRESETS["dci-p3"], name="test-dome", peak_luminance_cd_m2=peak)
 

@@ -1,4 +1,4 @@
-"""engine.whites: scene whites and chromatic adaptation.
+"""starkiln.engine.colour.whites: scene whites and chromatic adaptation.
 
 References:
 
@@ -12,12 +12,12 @@ References:
 import numpy as np
 import pytest
 
-from engine.displays import PRESETS
-from engine.errors import SettingsError
-from engine.observers import xy_to_uv1976
-from engine.render import blackbody_XYZ, render
-from engine.settings import Settings
-from engine.whites import (
+from starkiln.engine.colour.displays import PRESETS
+from starkiln.engine.errors import SettingsError
+from starkiln.engine.colour.observers import xy_to_uv1976
+from starkiln.engine.pipeline.render import blackbody_XYZ, render
+from starkiln.engine.pipeline.settings import Settings
+from starkiln.engine.colour.whites import (
     ADAPTATIONS,
     CAT_MATRICES,
     WHITE_PRESETS,

@@ -2,14 +2,14 @@
 
 Every output of Starkiln calls :func:`render`. The chain, per star:
 
-1. Planck spectrum of the temperature on the 360-830 nm grid (:mod:`engine.spectrum`).
+1. Planck spectrum of the temperature on the 360-830 nm grid (:mod:`starkiln.engine.colour.spectrum`).
 2. Tristimulus values with the observer's colour-matching functions, by
    summation at 1 nm (CIE 15:2004 section 7.1), scaled to Y = 1; chromaticity xy.
 3. Chromatic adaptation from the scene white to the display white
-   (:mod:`engine.whites`), then the display's XYZ -> RGB matrix (SMPTE RP 177).
+   (:mod:`starkiln.engine.colour.whites`), then the display's XYZ -> RGB matrix (SMPTE RP 177).
 4. Normalisation: the largest linear channel is 1 (default), or a fixed
    relative luminance.
-5. ``in_gamut`` is recorded *before* mapping; gamut mapping (:mod:`engine.gamut`);
+5. ``in_gamut`` is recorded *before* mapping; gamut mapping (:mod:`starkiln.engine.colour.gamut`);
    for max-channel normalisation the largest channel is set to 1 again.
 6. The display's transfer function gives ``rgb_encoded`` (0-1).
 
@@ -25,15 +25,15 @@ from functools import lru_cache
 
 import numpy as np
 
-from engine import vision as nv
-from engine.gamut import Oklab_to_XYZ, XYZ_to_Oklab, channel_max, in_gamut, map_to_gamut
-from engine.observers import (KM_PHOTOPIC_LM_W, KM_SCOTOPIC_LM_W, XYZ_to_xy, cmfs, v_photopic,
+from starkiln.engine.eye import vision as nv
+from starkiln.engine.colour.gamut import Oklab_to_XYZ, XYZ_to_Oklab, channel_max, in_gamut, map_to_gamut
+from starkiln.engine.colour.observers import (KM_PHOTOPIC_LM_W, KM_SCOTOPIC_LM_W, XYZ_to_xy, cmfs, v_photopic,
                               v_scotopic, xy_to_XYZ)
-from engine.displays import D65_4DIGIT, Display
-from engine.settings import Settings
-from engine.sources import check_temperature
-from engine.spectrum import planck_weighted_sums
-from engine.whites import adaptation_matrix, resolve_white
+from starkiln.engine.colour.displays import D65_4DIGIT, Display
+from starkiln.engine.pipeline.settings import Settings
+from starkiln.engine.stars.temperature import check_temperature
+from starkiln.engine.colour.spectrum import planck_weighted_sums
+from starkiln.engine.colour.whites import adaptation_matrix, resolve_white
 
 @dataclass(frozen=True)
 class Rendered:
@@ -50,7 +50,7 @@ class Rendered:
     intensity : (...,) display intensity 0-1 from the magnitude's tone curve (1 without magnitudes).
     rgb_dimmed_encoded : (..., 3) ``encode(rgb_linear * intensity)``: the colour at its
         intensity, for premultiplied textures and previews.
-    display : the :class:`engine.displays.Display` the colours are for. ``rgb_encoded`` and
+    display : the :class:`starkiln.engine.colour.displays.Display` the colours are for. ``rgb_encoded`` and
         ``rgb_dimmed_encoded`` are computed from it on first use where the render did not
         already have them (a display-linear texture never pays for encoding).
     magnitude : (...,) apparent visual magnitudes, or None when none were given.
@@ -166,7 +166,7 @@ def render(settings: Settings, temperature_K, magnitude=None) -> Rendered:
     magnitude : array_like, optional
         Apparent visual magnitudes, -30..+30, broadcast against ``temperature_K``
         (e.g. temperatures (1, W) and magnitudes (H, 1) give (H, W) colours). With
-        magnitudes the night-vision model of :mod:`engine.vision` applies (unless
+        magnitudes the night-vision model of :mod:`starkiln.engine.eye.vision` applies (unless
         ``settings.vision == "none"``); without, every star is at full colour and
         intensity 1.
 
@@ -177,7 +177,7 @@ def render(settings: Settings, temperature_K, magnitude=None) -> Rendered:
 
     Raises
     ------
-    engine.errors.InputRangeError
+    starkiln.engine.errors.InputRangeError
         A temperature that is not finite or outside 500-100 000 K, or a magnitude
         that is not finite or outside -30..+30.
 
@@ -188,8 +188,8 @@ def render(settings: Settings, temperature_K, magnitude=None) -> Rendered:
 
     Examples
     --------
-    >>> from engine.displays import Display
-from engine.settings import Settings
+    >>> from starkiln.engine.colour.displays import Display
+from starkiln.engine.pipeline.settings import Settings
     >>> str(render(Settings(), 6504.0).hex())
     '#fff9fe'
     """
@@ -266,7 +266,7 @@ _BLAS_SINGLE_FROM = 4096  # from this many stars, render with single-threaded BL
 
 
 def _render_night(settings: Settings, t: np.ndarray, mag: np.ndarray) -> Rendered:
-    """Colour and brightness at night: the chain plus :mod:`engine.vision`, broadcast T x m.
+    """Colour and brightness at night: the chain plus :mod:`starkiln.engine.eye.vision`, broadcast T x m.
 
     The spectral work runs once per distinct temperature; the per-star vision work runs in
     blocks of ``_NIGHT_CHUNK`` stars on two threads (numpy releases the GIL in its kernels).
@@ -320,7 +320,7 @@ def _render_night(settings: Settings, t: np.ndarray, mag: np.ndarray) -> Rendere
 
 
 def _night_block(settings: Settings, chain: "_Chain", mag, sp, lab) -> dict:
-    """Night-vision steps for one block of stars (1-D arrays): see :mod:`engine.vision`."""
+    """Night-vision steps for one block of stars (1-D arrays): see :mod:`starkiln.engine.eye.vision`."""
     gain = nv.aperture_gain(settings.aperture_mm, settings.pupil_mm, settings.transmission)
     omega = nv.blur_spot_solid_angle_sr(settings.blur_spot_arcmin)
     lp = nv.photopic_illuminance_lux(mag, gain) / omega
@@ -400,7 +400,7 @@ def display_rgb_from_XYZ(settings: Settings, XYZ):
 
     References
     ----------
-    As :func:`render` (CIE 15:2004; SMPTE RP 177-1993; :mod:`engine.gamut`).
+    As :func:`render` (CIE 15:2004; SMPTE RP 177-1993; :mod:`starkiln.engine.colour.gamut`).
     """
     XYZ = np.asarray(XYZ, dtype=np.float64)
     rgb, ok = _display_rgb(settings, XYZ.reshape(-1, 3))

@@ -1,36 +1,18 @@
 """Command line: ``starkiln catalogue IN OUT`` (colour every star of a catalogue).
 
-Thin layer over :func:`engine.catalogue.colour_catalogue` and
-:func:`engine.catalogue_dask.colour_catalogue_dask`. This module is imported
+Thin layer over :func:`starkiln.engine.catalogue.stream.colour_catalogue` and
+:func:`starkiln.engine.catalogue.dask_engine.colour_catalogue_dask`. This module is imported
 whenever the parser is built, so it imports nothing heavy at module level:
 astropy, pyarrow and dask are loaded only when the command runs.
 """
 
 from __future__ import annotations
 
-import argparse
-
-from engine.errors import StarkilnError
-
-
-def _number(text: str) -> float:
-    try:
-        return float(text)
-    except ValueError:
-        raise argparse.ArgumentTypeError(f"{text!r} is not a number") from None
+from starkiln.cli.options import add_colour_options, number, positive_int, settings_from_args
+from starkiln.engine.errors import StarkilnError
 
 
-def _positive_int(text: str) -> int:
-    try:
-        v = int(text)
-    except ValueError:
-        raise argparse.ArgumentTypeError(f"{text!r} is not a whole number") from None
-    if v < 1:
-        raise argparse.ArgumentTypeError(f"{text!r} must be at least 1")
-    return v
-
-
-def add_parsers(sub, add_colour_options) -> None:
+def add_parsers(sub) -> None:
     """Add the ``catalogue`` subcommand (alias ``catalog``) to the ``starkiln`` parser."""
     p = sub.add_parser(
         "catalogue", aliases=["catalog"], help="colour every star of a catalogue file",
@@ -54,7 +36,7 @@ def add_parsers(sub, add_colour_options) -> None:
                         "status 'extrapolated' (appearance only)")
     c.add_argument("--magnitude-column", metavar="NAME",
                    help="apparent magnitudes, for night-vision colours and intensity")
-    c.add_argument("--magnitude", type=_number, metavar="M",
+    c.add_argument("--magnitude", type=number, metavar="M",
                    help="one apparent magnitude for every row (instead of a column)")
     c.add_argument("--magnitude-band", metavar="V|G", default="V",
                    help="V (Johnson, default) or G (Gaia G -> V by Riello et al. 2021, "
@@ -66,21 +48,21 @@ def add_parsers(sub, add_colour_options) -> None:
     o.add_argument("--exact", action="store_true",
                    help="call the render path for every row instead of the interpolation table "
                         "(slower; same colours within CIEDE2000 0.2)")
-    o.add_argument("--chunk-rows", type=_positive_int, metavar="N",
+    o.add_argument("--chunk-rows", type=positive_int, metavar="N",
                    help="rows per streamed chunk (default 131072)")
     o.add_argument("--no-progress", action="store_true", help="no progress bar on stderr")
     o.add_argument("--engine", default="local", metavar="local|dask",
                    help="local (default) or dask (Parquet in, folder of Parquet parts out)")
     o.add_argument("--scheduler", metavar="tcp://HOST:PORT",
                    help="with --engine dask: a running Dask scheduler (default: a local cluster)")
-    o.add_argument("--workers", type=_positive_int, metavar="N",
+    o.add_argument("--workers", type=positive_int, metavar="N",
                    help="with --engine dask and no --scheduler: local workers (default: cores)")
     add_colour_options(p)
 
 
 def plan_from_args(args, settings):
-    """The :class:`engine.catalogue.CataloguePlan` from the parsed options."""
-    from engine.catalogue import CataloguePlan
+    """The :class:`starkiln.engine.catalogue.stream.CataloguePlan` from the parsed options."""
+    from starkiln.engine.catalogue.stream import CataloguePlan
 
     sources = [(k, getattr(args, f"{k.replace('-', '_')}_column"))
                for k in ("temperature", "bv")]
@@ -115,7 +97,6 @@ def plan_from_args(args, settings):
 
 def cmd_catalogue(args, out) -> int:
     """``starkiln catalogue``: colour a catalogue, print a summary."""
-    from engine.cli import settings_from_args
 
     engine = str(args.engine).strip().lower()
     if engine not in ("local", "dask"):
@@ -139,13 +120,13 @@ def cmd_catalogue(args, out) -> int:
 def _run(args, plan, engine):
     progress = not args.no_progress
     if engine == "dask":
-        from engine.catalogue_dask import colour_catalogue_dask
+        from starkiln.engine.catalogue.dask_engine import colour_catalogue_dask
 
         summary = colour_catalogue_dask(args.input, args.output, plan, overwrite=args.force,
                                         scheduler=args.scheduler, n_workers=args.workers,
                                         progress=progress)
     else:
-        from engine.catalogue import DEFAULT_CHUNK_ROWS, colour_catalogue
+        from starkiln.engine.catalogue.stream import DEFAULT_CHUNK_ROWS, colour_catalogue
 
         summary = colour_catalogue(args.input, args.output, plan, overwrite=args.force,
                                    progress=progress,

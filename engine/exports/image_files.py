@@ -26,7 +26,7 @@ from pathlib import Path
 
 import numpy as np
 
-from engine.errors import StarkilnError
+from starkiln.engine.errors import StarkilnError
 
 PNG_SIGNATURE = b"\x89PNG\r\n\x1a\n"
 EXR_MAGIC = b"\x76\x2f\x31\x01"
@@ -40,7 +40,7 @@ def _check_image(array: np.ndarray) -> np.ndarray:
 
 
 def _finish(path) -> None:
-    """Flush a finished temporary file to disk (engine.atomic gives it its mode and name)."""
+    """Flush a finished temporary file to disk (starkiln.engine.atomic gives it its mode and name)."""
     fd = os.open(path, os.O_RDONLY)
     try:
         os.fsync(fd)
@@ -49,7 +49,7 @@ def _finish(path) -> None:
 
 
 def write_bytes(path, data: bytes) -> None:
-    """Write ``data`` to ``path`` (a temporary file of :func:`engine.atomic.atomic_path`)."""
+    """Write ``data`` to ``path`` (a temporary file of :func:`starkiln.engine.atomic.atomic_path`)."""
     with open(path, "wb") as fh:
         fh.write(data)
     _finish(path)
@@ -62,7 +62,7 @@ def write_png(path, array: np.ndarray, text: dict[str, str] | None = None) -> No
     ----------
     path : path-like
         Destination (written directly: callers wrap it in
-        :func:`engine.atomic.atomic_path`).
+        :func:`starkiln.engine.atomic.atomic_path`).
     array : numpy.ndarray
         ``(H, W, 3|4)`` uint8 or uint16; row 0 is the top of the image.
     text : dict, optional
@@ -126,7 +126,7 @@ def write_exr(path, array: np.ndarray, attributes: dict[str, str] | None = None,
     Parameters
     ----------
     path : path-like
-        Destination (callers wrap it in :func:`engine.atomic.atomic_path`).
+        Destination (callers wrap it in :func:`starkiln.engine.atomic.atomic_path`).
     array : numpy.ndarray
         ``(H, W, 3|4)`` values, stored as float32; row 0 is the top of the image
         (OpenEXR's ``INCREASING_Y`` line order, y down).
@@ -160,7 +160,7 @@ def read_embedded_text(path, key: str = "starkiln") -> str:
 
     Raises
     ------
-    engine.errors.StarkilnError
+    starkiln.engine.errors.StarkilnError
         The file cannot be read, is neither PNG nor EXR, or holds no ``key``.
 
     References

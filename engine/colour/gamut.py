@@ -21,7 +21,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from engine.errors import SettingsError
+from starkiln.engine.errors import SettingsError
 
 GAMUT_METHODS = ("clip", "scale", "chroma")
 

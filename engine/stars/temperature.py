@@ -20,7 +20,7 @@ import re
 
 import numpy as np
 
-from engine.errors import InputRangeError
+from starkiln.engine.errors import InputRangeError
 
 TEMPERATURE_MIN_K = 500.0
 TEMPERATURE_MAX_K = 100000.0

@@ -2,8 +2,8 @@
 
 ``dask.dataframe.read_parquet`` splits a Parquet file, folder or glob into
 partitions (files in natural order); every partition goes through
-:func:`engine.catalogue.colour_partition` (which calls the same
-:func:`engine.catalogue.colour_values` as the single-machine path) and is
+:func:`starkiln.engine.catalogue.stream.colour_partition` (which calls the same
+:func:`starkiln.engine.catalogue.stream.colour_values` as the single-machine path) and is
 written by its worker as ``part.NNNNN.parquet`` into a temporary folder
 beside the output; when every part is written, the folder is renamed to the
 output name. Read in order, the parts hold the rows of the single-machine
@@ -26,14 +26,14 @@ from pathlib import Path
 
 import numpy as np
 
-from engine.catalogue import (STATUSES, CataloguePlan, Summary, _counts_dict, _first_line,
+from starkiln.engine.catalogue.stream import (STATUSES, CataloguePlan, Summary, _counts_dict, _first_line,
                               _parquet_writer, _progress, colour_partition, format_of,
                               input_files, output_schema)
-from engine.errors import StarkilnError
+from starkiln.engine.errors import StarkilnError
 
 
 def _check_output_folder(output: Path, overwrite: bool) -> None:
-    from engine.atomic import check_writable
+    from starkiln.engine.atomic import check_writable
 
     check_writable(output, overwrite)
     if output.exists() and not output.is_dir():
@@ -51,7 +51,7 @@ def write_part(frame, path: str, schema) -> np.ndarray:
     Parameters
     ----------
     frame : pandas.DataFrame
-        A partition from :func:`engine.catalogue.colour_partition`.
+        A partition from :func:`starkiln.engine.catalogue.stream.colour_partition`.
     path : str
         Part file to write.
     schema : pyarrow.Schema
@@ -60,7 +60,7 @@ def write_part(frame, path: str, schema) -> np.ndarray:
     Returns
     -------
     numpy.ndarray
-        Rows per status, aligned with :data:`engine.catalogue.STATUSES`.
+        Rows per status, aligned with :data:`starkiln.engine.catalogue.stream.STATUSES`.
     """
     import pyarrow as pa
     import pyarrow.compute as pc

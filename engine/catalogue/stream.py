@@ -16,20 +16,20 @@ Formats go by extension. CSV (small files), ECSV, FITS and VOTable are read
 and written whole through astropy (``astropy.table``); Parquet, and CSV files
 above :data:`CSV_STREAM_BYTES`, are streamed through pyarrow in chunks of
 ``chunk_rows`` rows, so memory stays flat whatever the row count when the
-output is Parquet or CSV. Writing is atomic (:mod:`engine.atomic`).
+output is Parquet or CSV. Writing is atomic (:mod:`starkiln.engine.atomic`).
 
-Colours come from :func:`engine.fastpath.colour_table`, a fine table built
-by :func:`engine.render.render` (CIEDE2000 <= 0.2 against the exact path,
+Colours come from :func:`starkiln.engine.catalogue.colour_grid.colour_table`, a fine table built
+by :func:`starkiln.engine.pipeline.render.render` (CIEDE2000 <= 0.2 against the exact path,
 proven in the tests), or from ``render`` itself with ``exact=True``. The
 per-chunk function is :func:`colour_values` (numpy arrays in, arrays out);
 :func:`colour_arrow` and :func:`colour_partition` wrap it for pyarrow
-batches and pandas partitions (Dask, :mod:`engine.catalogue_dask`).
+batches and pandas partitions (Dask, :mod:`starkiln.engine.catalogue.dask_engine`).
 
 Temperature sources: kelvin (500-100 000 K, the render path's range);
-B-V through :func:`engine.sources.temperature_from_bv` (Ballesteros 2012);
-BP-RP through :func:`engine.photometry_gaia.temperature_from_bp_rp`
+B-V through :func:`starkiln.engine.stars.temperature.temperature_from_bv` (Ballesteros 2012);
+BP-RP through :func:`starkiln.engine.stars.gaia.temperature_from_bp_rp`
 (Mucciarelli, Bellazzini & Massari 2021, dwarfs, [Fe/H] = 0 assumed).
-Gaia G becomes V through :func:`engine.photometry_gaia.v_from_g` (Riello et
+Gaia G becomes V through :func:`starkiln.engine.stars.gaia.v_from_g` (Riello et
 al. 2021, Table C.2).
 """
 
@@ -47,9 +47,9 @@ from pathlib import Path
 
 import numpy as np
 
-from engine.errors import StarkilnError
-from engine.settings import Settings
-from engine.vision import MAGNITUDE_RANGE
+from starkiln.engine.errors import StarkilnError
+from starkiln.engine.pipeline.settings import Settings
+from starkiln.engine.eye.vision import MAGNITUDE_RANGE
 
 #: Row statuses, in the order of their codes (uint8 in memory, text in files).
 STATUSES = (
@@ -66,7 +66,7 @@ OK, EXTRAPOLATED, MISSING_TEMPERATURE, MISSING_MAGNITUDE, NOT_A_NUMBER, OUT_OF_R
 
 SOURCES = ("temperature", "bv", "bp-rp")
 BANDS = ("V", "G")
-#: Magnitudes the render path accepts (defined once, in engine.vision).
+#: Magnitudes the render path accepts (defined once, in starkiln.engine.eye.vision).
 MAGNITUDE_MIN, MAGNITUDE_MAX = MAGNITUDE_RANGE
 
 #: File extensions -> format names.
@@ -242,7 +242,7 @@ def colour_values(plan: CataloguePlan, columns: dict) -> Coloured:
     if parts < 2:
         return colour_values_serial(plan, columns)
     if not plan.exact:  # build (or load) the table once, before the threads need it
-        from engine.fastpath import colour_table
+        from starkiln.engine.catalogue.colour_grid import colour_table
 
         colour_table(plan.settings, plan.with_magnitude)
     bounds = np.linspace(0, n, parts + 1).astype(int)
@@ -291,11 +291,11 @@ def colour_values_serial(plan: CataloguePlan, columns: dict) -> Coloured:
 
     References
     ----------
-    :func:`engine.render.render` (the colours), :mod:`engine.fastpath` (the
-    table), :mod:`engine.sources`, :mod:`engine.photometry_gaia` (relations).
+    :func:`starkiln.engine.pipeline.render.render` (the colours), :mod:`starkiln.engine.catalogue.colour_grid` (the
+    table), :mod:`starkiln.engine.stars.temperature`, :mod:`starkiln.engine.stars.gaia` (relations).
     """
-    from engine import photometry_gaia as pg
-    from engine.sources import BV_MAX, BV_MIN, TEMPERATURE_MAX_K, TEMPERATURE_MIN_K
+    from starkiln.engine.stars import gaia as pg
+    from starkiln.engine.stars.temperature import BV_MAX, BV_MIN, TEMPERATURE_MAX_K, TEMPERATURE_MIN_K
 
     src, src_missing = columns[plan.source_column]
     n = src.shape[0]
@@ -346,7 +346,7 @@ def colour_values_serial(plan: CataloguePlan, columns: dict) -> Coloured:
     if plan.source == "temperature":
         temperature_K = safe
     elif plan.source == "bv":
-        from engine.sources import temperature_from_bv
+        from starkiln.engine.stars.temperature import temperature_from_bv
 
         temperature_K = temperature_from_bv(safe)
     else:
@@ -368,14 +368,14 @@ _SAFE = {"temperature": 5772.0, "bv": 0.65, "bp-rp": 0.82}
 def _colours(plan: CataloguePlan, temperature_K, v_mag):
     """r, g, b, intensity (float32) from the table or, with ``exact``, from render."""
     if plan.exact:
-        from engine.render import render
+        from starkiln.engine.pipeline.render import render
 
         rendered = render(plan.settings, temperature_K, v_mag)
         rgb = rendered.rgb_encoded.astype(np.float32)
         inten = np.broadcast_to(rendered.intensity, temperature_K.shape).astype(np.float32)
         return (np.ascontiguousarray(rgb[:, 0]), np.ascontiguousarray(rgb[:, 1]),
                 np.ascontiguousarray(rgb[:, 2]), inten)
-    from engine.fastpath import colour_table
+    from starkiln.engine.catalogue.colour_grid import colour_table
 
     table = colour_table(plan.settings, v_mag is not None)
     return table.lookup(temperature_K, v_mag)
@@ -614,7 +614,7 @@ def input_files(spec) -> list[Path]:
 def astropy_guard():
     """Hide a stand-in ``matplotlib`` module from astropy while astropy runs.
 
-    colour-science (used once by :mod:`engine.tables` to build its cache) puts a
+    colour-science (used once by :mod:`starkiln.engine.colour.cie_data` to build its cache) puts a
     stand-in object into ``sys.modules["matplotlib"]`` when matplotlib is not
     installed; astropy's optional-dependency probe (``importlib.util.find_spec``)
     fails on it with "matplotlib.__spec__ is not set". The stand-in is put back after.
@@ -917,11 +917,11 @@ def colour_catalogue(input_spec, output, plan: CataloguePlan, *, overwrite: bool
 
     Raises
     ------
-    engine.errors.StarkilnError
+    starkiln.engine.errors.StarkilnError
         Bad input (unreadable file, unknown extension, missing columns, existing
         output without ``overwrite``); nothing is written.
     """
-    from engine.atomic import check_writable
+    from starkiln.engine.atomic import check_writable
 
     t0 = time.perf_counter()
     if int(chunk_rows) < 1:
@@ -945,7 +945,7 @@ def colour_catalogue(input_spec, output, plan: CataloguePlan, *, overwrite: bool
 
 
 def _run_stream(files, fmt_in, output, fmt_out, plan, overwrite, progress, chunk_rows):
-    from engine.atomic import atomic_path
+    from starkiln.engine.atomic import atomic_path
 
     source = _StreamSource(files, fmt_in, plan, chunk_rows)
     schema = output_schema(source.schema, plan, str(files[0]))
@@ -1018,7 +1018,7 @@ def _run_astropy(path, fmt_in, output, fmt_out, plan, overwrite, progress, chunk
 def _run_astropy_guarded(path, fmt_in, output, fmt_out, plan, overwrite, progress, chunk_rows):
     from astropy.table import MaskedColumn
 
-    from engine.atomic import atomic_path
+    from starkiln.engine.atomic import atomic_path
 
     table = _read_astropy(path, fmt_in)
     check_columns(list(table.colnames), plan, str(path))

@@ -1,8 +1,8 @@
 """Command line exports: ``starkiln lut`` (lookup textures) and ``starkiln palette``.
 
-Both are thin layers over :mod:`engine.lut` and :mod:`engine.palette`: parse,
-build one :class:`engine.settings.Settings`, check the destination
-(:func:`engine.atomic.check_writable`) before computing, write atomically.
+Both are thin layers over :mod:`starkiln.engine.exports.textures` and :mod:`starkiln.engine.exports.palettes`: parse,
+build one :class:`starkiln.engine.pipeline.settings.Settings`, check the destination
+(:func:`starkiln.engine.atomic.check_writable`) before computing, write atomically.
 Ranges are ``A:B`` and may start with a minus sign as typed
 (``--magnitudes -1:7``), not only as ``--magnitudes=-1:7``.
 """
@@ -12,7 +12,8 @@ from __future__ import annotations
 import argparse
 import re
 
-from engine.errors import StarkilnError
+from starkiln.cli.options import add_colour_options, settings_from_args
+from starkiln.engine.errors import StarkilnError
 
 #: A value that starts like a negative number range, "-1:7", "-1.5:-0.5", "-2e1:3".
 _RANGE_VALUE = re.compile(r"^-\d*\.?\d+([eE][-+]?\d+)?\s*:")
@@ -44,7 +45,7 @@ def parse_range(text: str, what: str) -> tuple[float, float]:
 
 def parse_size(text: str) -> tuple[int, int]:
     """``"WxH"`` -> ``(W, H)``; each side 1-16384."""
-    from engine.lut import MAX_SIDE
+    from starkiln.engine.exports.textures import MAX_SIDE
 
     m = re.fullmatch(r"\s*(-?\d+)\s*[xX]\s*(-?\d+)\s*", str(text))
     if not m:
@@ -57,7 +58,7 @@ def parse_size(text: str) -> tuple[int, int]:
     return w, h
 
 
-def add_parsers(sub, add_colour_options) -> None:
+def add_parsers(sub) -> None:
     """Add ``lut`` and ``palette`` to the ``starkiln`` subcommands."""
     lut = sub.add_parser(
         "lut", help="write a lookup texture (temperature x magnitude) for a render engine",
@@ -115,8 +116,7 @@ def _settings_overriding(base, args):
     """``base`` with the colour options that were given on the command line applied."""
     import dataclasses
 
-    from engine.cli import settings_from_args
-    from engine.settings import Settings
+    from starkiln.engine.pipeline.settings import Settings
 
     plain = argparse.Namespace(**{**vars(args), "settings": None})
     explicit = settings_from_args(plain)
@@ -127,13 +127,12 @@ def _settings_overriding(base, args):
 
 
 def _lut_spec_and_settings(args):
-    from engine.cli import settings_from_args
-    from engine.lut import DEFAULT_TEMPERATURE_RANGE_K, LutSpec, format_for_path, spec_from_metadata
+    from starkiln.engine.exports.textures import DEFAULT_TEMPERATURE_RANGE_K, LutSpec, format_for_path, spec_from_metadata
 
     fmt = format_for_path(args.out)
     if args.settings_from:
-        from engine.imageio import read_embedded_json
-        from engine.settings import Settings
+        from starkiln.engine.exports.image_files import read_embedded_json
+        from starkiln.engine.pipeline.settings import Settings
 
         if args.settings:
             raise StarkilnError("use either --settings or --settings-from, not both")
@@ -176,9 +175,9 @@ def _lut_spec_and_settings(args):
 
 
 def cmd_lut(args, out) -> int:
-    """``starkiln lut``: write a lookup texture (see :mod:`engine.lut`)."""
-    from engine.atomic import check_writable
-    from engine.lut import build_lut, write_lut
+    """``starkiln lut``: write a lookup texture (see :mod:`starkiln.engine.exports.textures`)."""
+    from starkiln.engine.atomic import check_writable
+    from starkiln.engine.exports.textures import build_lut, write_lut
 
     spec, settings = _lut_spec_and_settings(args)
     check_writable(args.out, args.force)
@@ -201,10 +200,9 @@ def cmd_lut(args, out) -> int:
 
 
 def cmd_palette(args, out) -> int:
-    """``starkiln palette``: write swatches (see :mod:`engine.palette`)."""
-    from engine.atomic import check_writable
-    from engine.cli import settings_from_args
-    from engine.palette import build_palette, palette_format_for_path, write_palette
+    """``starkiln palette``: write swatches (see :mod:`starkiln.engine.exports.palettes`)."""
+    from starkiln.engine.atomic import check_writable
+    from starkiln.engine.exports.palettes import build_palette, palette_format_for_path, write_palette
 
     palette_format_for_path(args.out)
     settings = settings_from_args(args)

@@ -43,12 +43,12 @@ from pathlib import Path
 
 import numpy as np
 
-from engine.displays import PRESETS, Display, get_display
-from engine.errors import SettingsError
-from engine.gamut import check_gamut_method
-from engine.observers import check_observer
-from engine.vision import INTENSITY_CURVES, VISIONS
-from engine.whites import check_adaptation, normalise_white_spec
+from starkiln.engine.colour.displays import PRESETS, Display, get_display
+from starkiln.engine.errors import SettingsError
+from starkiln.engine.colour.gamut import check_gamut_method
+from starkiln.engine.colour.observers import check_observer
+from starkiln.engine.eye.vision import INTENSITY_CURVES, VISIONS
+from starkiln.engine.colour.whites import check_adaptation, normalise_white_spec
 
 SETTINGS_FORMAT = 1
 NORMALISATIONS = ("max-channel", "luminance")
@@ -74,15 +74,15 @@ class Settings:
     Attributes
     ----------
     observer : ``cie1931`` (default) or ``cie1964`` (CIE 15:2004).
-    scene_white : what should look neutral; see :mod:`engine.whites`.
+    scene_white : what should look neutral; see :mod:`starkiln.engine.colour.whites`.
     adaptation : ``bradford`` (default), ``cat16``, ``cat02``, ``von-kries``, ``none``.
-    display : a :class:`engine.displays.Display` (preset or custom profile).
-    gamut : ``clip``, ``scale`` or ``chroma`` (default); see :mod:`engine.gamut`.
+    display : a :class:`starkiln.engine.colour.displays.Display` (preset or custom profile).
+    gamut : ``clip``, ``scale`` or ``chroma`` (default); see :mod:`starkiln.engine.colour.gamut`.
     normalisation : ``max-channel`` (default: the largest linear channel is 1)
         or ``luminance`` (every star at relative luminance ``luminance_Y``).
     luminance_Y : relative luminance used by ``luminance`` normalisation, (0, 1].
 
-    Night vision (used only when magnitudes are rendered; see :mod:`engine.vision`):
+    Night vision (used only when magnitudes are rendered; see :mod:`starkiln.engine.eye.vision`):
 
     vision : ``mesopic`` (default, CIE 191:2010 cone weight and desaturation) or
         ``none`` (the camera look: full colour).
@@ -242,6 +242,6 @@ def settings_to_toml(settings: Settings) -> str:
 
 def save_settings(settings: Settings, path, overwrite: bool = True) -> None:
     """Write settings as TOML, atomically (temporary file in the same folder, then rename)."""
-    from engine.atomic import write_atomic
+    from starkiln.engine.atomic import write_atomic
 
     write_atomic(path, settings_to_toml(settings).encode("utf-8"), overwrite=overwrite)

@@ -2,7 +2,7 @@
 
 The window (:mod:`gui`) may not compute colour. Everything it draws that is not
 a plain render of a temperature comes from here, and every colour here goes
-through the same chain as :func:`engine.render.render`:
+through the same chain as :func:`starkiln.engine.pipeline.render.render`:
 
 - :class:`MiredScale`: slider positions evenly spaced in mired (reciprocal
   megakelvin, ``1e6 / T``; common practice: equal mired steps look roughly
@@ -32,15 +32,15 @@ from pathlib import Path
 
 import numpy as np
 
-from engine.errors import InputRangeError, SettingsError
-from engine.observers import XYZ_to_xy, check_observer, cmfs, spectral_locus_xy, v_photopic
-from engine.observers import v_scotopic
-from engine.render import blackbody_XYZ, display_rgb_from_XYZ, render, to_8bit
-from engine.settings import Settings
-from engine.sources import check_temperature
-from engine.spectrum import peak_wavelength_nm, planck_radiance
-from engine.tables import wavelengths_nm
-from engine.whites import resolve_white
+from starkiln.engine.errors import InputRangeError, SettingsError
+from starkiln.engine.colour.observers import XYZ_to_xy, check_observer, cmfs, spectral_locus_xy, v_photopic
+from starkiln.engine.colour.observers import v_scotopic
+from starkiln.engine.pipeline.render import blackbody_XYZ, display_rgb_from_XYZ, render, to_8bit
+from starkiln.engine.pipeline.settings import Settings
+from starkiln.engine.stars.temperature import check_temperature
+from starkiln.engine.colour.spectrum import peak_wavelength_nm, planck_radiance
+from starkiln.engine.colour.cie_data import wavelengths_nm
+from starkiln.engine.colour.whites import resolve_white
 
 #: The visible band marked on the spectrum plot, nm (CIE 15:2004 tabulates 380-780 nm as the
 #: range of the visible spectrum that matters for colorimetry; common practice).
@@ -206,7 +206,7 @@ def spectral_band_colours(settings: Settings, wavelength_nm=None) -> BandColours
     References
     ----------
     CIE 15:2004 sections 7.1 and 7.3; SMPTE RP 177-1993; the gamut methods of
-    :mod:`engine.gamut`.
+    :mod:`starkiln.engine.colour.gamut`.
     """
     wl = (np.arange(VISIBLE_BAND_NM[0], VISIBLE_BAND_NM[1] + 0.5)
           if wavelength_nm is None else np.asarray(wavelength_nm, dtype=np.float64))
@@ -385,7 +385,7 @@ def planck_curve(temperature_K: float, wavelength_nm) -> PlanckCurve:
 
     References
     ----------
-    Planck (1901); CODATA 2018 (Wien's constant), via :mod:`engine.spectrum`.
+    Planck (1901); CODATA 2018 (Wien's constant), via :mod:`starkiln.engine.colour.spectrum`.
     """
     t = float(check_temperature(temperature_K))
     wl = np.asarray(wavelength_nm, dtype=np.float64)
@@ -420,19 +420,19 @@ def efficiency_overlays(observer: str = "cie1931") -> dict[str, tuple[np.ndarray
 
 
 def save_display_profile(display, path, overwrite: bool = True) -> None:
-    """Write a display as a JSON display profile (format: :mod:`engine.displays`), atomically.
+    """Write a display as a JSON display profile (format: :mod:`starkiln.engine.colour.displays`), atomically.
 
     The text is ``json.dumps(display.to_profile(), indent=2)`` plus a newline;
-    :func:`engine.displays.load_display_profile` reads it back to an equal display.
+    :func:`starkiln.engine.colour.displays.load_display_profile` reads it back to an equal display.
 
     References
     ----------
-    RFC 8259 (JSON); :mod:`engine.atomic` for the write.
+    RFC 8259 (JSON); :mod:`starkiln.engine.atomic` for the write.
     """
     import json
 
-    from engine.atomic import write_atomic
-    from engine.displays import get_display
+    from starkiln.engine.atomic import write_atomic
+    from starkiln.engine.colour.displays import get_display
 
     text = json.dumps(get_display(display).to_profile(), indent=2) + "\n"
     write_atomic(path, text.encode("utf-8"), overwrite=overwrite)
@@ -446,7 +446,7 @@ def magnitude_ladder(settings: Settings, step: float = 1.0) -> np.ndarray:
 
     References
     ----------
-    Pogson (1856) magnitude scale; :mod:`engine.vision` (tone curve ends).
+    Pogson (1856) magnitude scale; :mod:`starkiln.engine.eye.vision` (tone curve ends).
     """
     bright = float(settings.magnitude_bright)
     faint = float(settings.magnitude_faint)
@@ -489,7 +489,7 @@ def load_demo_cluster(path=None) -> Cluster:
     RFC 4180 (CSV); the data are invented (``assets/make_demo_cluster.py``).
     """
     if path is None:
-        from assets import asset_path
+        from starkiln.assets import asset_path
 
         path = asset_path("demo_cluster.csv")
     path = Path(str(path))
@@ -531,7 +531,7 @@ def sky_image(settings: Settings, cluster: Cluster, width_px: int, height_px: in
               radius_px=(0.7, 2.6)) -> SkyImage:
     """Draw a star list as it would appear on the display, with the current settings.
 
-    Each star's colour and intensity come from :func:`engine.render.render`
+    Each star's colour and intensity come from :func:`starkiln.engine.pipeline.render.render`
     with its temperature and magnitude (night vision, tone curve). It is drawn
     as a small Gaussian spot in display-linear light; spots add; where a sum
     exceeds 1 the pixel is scaled down to keep its hue; then the display's
@@ -558,7 +558,7 @@ def sky_image(settings: Settings, cluster: Cluster, width_px: int, height_px: in
     References
     ----------
     Snyder (1987), *Map Projections: A Working Manual*, USGS PP 1395, p. 164
-    (gnomonic projection); :func:`engine.render.render` for the colours.
+    (gnomonic projection); :func:`starkiln.engine.pipeline.render.render` for the colours.
     """
     w, h = int(width_px), int(height_px)
     if not (16 <= w <= 4096 and 16 <= h <= 4096):

@@ -18,7 +18,7 @@ import math
 
 import numpy as np
 
-from engine.tables import wavelengths_nm
+from starkiln.engine.colour.cie_data import wavelengths_nm
 
 #: Planck constant, J s (SI 2019, exact).
 PLANCK_J_S = 6.62607015e-34
@@ -161,7 +161,7 @@ def luminous_exitance_lm_m2(temperature_K, scotopic: bool = False) -> np.ndarray
     ----------
     CIE S 010:2004 (V, V', K_m, K'_m); CIE 15:2004 section 7.1 (summation).
     """
-    from engine.observers import KM_PHOTOPIC_LM_W, KM_SCOTOPIC_LM_W, v_photopic, v_scotopic
+    from starkiln.engine.colour.observers import KM_PHOTOPIC_LM_W, KM_SCOTOPIC_LM_W, v_photopic, v_scotopic
 
     weights = v_scotopic() if scotopic else v_photopic()
     km = KM_SCOTOPIC_LM_W if scotopic else KM_PHOTOPIC_LM_W

@@ -41,9 +41,9 @@ from functools import lru_cache
 
 import numpy as np
 
-from engine.errors import SettingsError
-from engine.observers import XYZ_to_xy, check_observer, cmfs, inside_spectral_locus, xy_to_XYZ
-from engine.tables import tables
+from starkiln.engine.errors import SettingsError
+from starkiln.engine.colour.observers import XYZ_to_xy, check_observer, cmfs, inside_spectral_locus, xy_to_XYZ
+from starkiln.engine.colour.cie_data import tables
 
 #: Sharpened cone matrices, XYZ -> LMS. Sources in the module docstring.
 CAT_MATRICES = {
@@ -184,7 +184,7 @@ def resolve_white(spec: str, observer: str = "cie1931") -> White:
     ----------
     CIE 15:2004 sections 3.1 and 7.3; SMPTE RP 431-2:2011 (DCI white).
     """
-    from engine.spectrum import planck_radiance  # local: spectrum imports nothing of ours
+    from starkiln.engine.colour.spectrum import planck_radiance  # local: spectrum imports nothing of ours
 
     observer = check_observer(observer)
     text = str(spec).strip()
@@ -213,7 +213,7 @@ def resolve_white(spec: str, observer: str = "cie1931") -> White:
         return White(f"daylight:{cct:g}", _spectrum_xy(daylight_spectrum(cct), observer))
     if kind == "blackbody":
         t = _number(rest, "temperature", text)
-        from engine.sources import TEMPERATURE_MAX_K, TEMPERATURE_MIN_K
+        from starkiln.engine.stars.temperature import TEMPERATURE_MAX_K, TEMPERATURE_MIN_K
 
         if not TEMPERATURE_MIN_K <= t <= TEMPERATURE_MAX_K:
             raise SettingsError(f"white {text!r}: blackbody temperature {t:g} K is outside "

@@ -3,10 +3,10 @@
 Swatch sets
 -----------
 - Steps: ``N`` temperatures across ``[A, B]`` kelvin through the same axis
-  mappings as lookup textures (:mod:`engine.lut`); swatch ``k`` (0-based) sits
+  mappings as lookup textures (:mod:`starkiln.engine.exports.textures`); swatch ``k`` (0-based) sits
   at ``u = k / (N - 1)``, so both ends are included.
 - Classes: one swatch per main-sequence spectral class (all of O5V-M8V from
-  :data:`engine.sources.SPECTRAL_CLASS_TEFF_K`, or a chosen list).
+  :data:`starkiln.engine.stars.temperature.SPECTRAL_CLASS_TEFF_K`, or a chosen list).
 
 Formats (by extension)
 ----------------------
@@ -38,7 +38,7 @@ from pathlib import Path
 
 import numpy as np
 
-from engine.errors import StarkilnError
+from starkiln.engine.errors import StarkilnError
 
 PALETTE_FORMAT = 1
 PALETTE_FORMATS = {".json": "json", ".csv": "csv", ".gpl": "gpl", ".png": "sheet"}
@@ -57,9 +57,9 @@ class Palette:
     names : (N,) swatch names ("5800 K", "G2V").
     temperature_K : (N,) temperatures.
     spectral_class : (N,) class names, or None for temperature steps.
-    rendered : engine.render.Rendered of shape (N,).
+    rendered : starkiln.engine.pipeline.render.Rendered of shape (N,).
     description : plain data saying how the set was made (axis, range, steps or classes).
-    settings : engine.settings.Settings used.
+    settings : starkiln.engine.pipeline.settings.Settings used.
     """
 
     names: tuple
@@ -72,7 +72,7 @@ class Palette:
     @property
     def rgb_8bit(self) -> np.ndarray:
         """(N, 3) uint8 ``floor(rgb_encoded * 255 + 0.5)``."""
-        from engine.render import to_8bit
+        from starkiln.engine.pipeline.render import to_8bit
 
         return to_8bit(self.rendered.rgb_encoded)
 
@@ -92,18 +92,18 @@ def step_temperatures(range_K, steps: int, axis: str = "mired") -> np.ndarray:
     steps : int
         2-4096.
     axis : {"mired", "log", "linear"}
-        Spacing (see :mod:`engine.lut`).
+        Spacing (see :mod:`starkiln.engine.exports.textures`).
 
     References
     ----------
-    Axis mappings of :mod:`engine.lut` (mired = 10^6 / T, common practice).
+    Axis mappings of :mod:`starkiln.engine.exports.textures` (mired = 10^6 / T, common practice).
 
     Examples
     --------
     >>> step_temperatures((2000.0, 8000.0), 3, "mired").round(6).tolist()
     [2000.0, 3200.0, 8000.0]
     """
-    from engine.lut import check_temperature_range, temperature_from_u
+    from starkiln.engine.exports.textures import check_temperature_range, temperature_from_u
 
     a, b = check_temperature_range(range_K)
     n = _check_steps(steps)
@@ -140,10 +140,10 @@ def class_temperatures(classes=None):
 
     References
     ----------
-    :func:`engine.sources.temperature_from_spectral_class` (Pecaut & Mamajek
+    :func:`starkiln.engine.stars.temperature.temperature_from_spectral_class` (Pecaut & Mamajek
     2013, Table 5, values from memory).
     """
-    from engine.sources import SPECTRAL_CLASS_TEFF_K, temperature_from_spectral_class
+    from starkiln.engine.stars.temperature import SPECTRAL_CLASS_TEFF_K, temperature_from_spectral_class
 
     if classes is None:
         names = tuple(f"{k}V" for k in SPECTRAL_CLASS_TEFF_K)
@@ -158,11 +158,11 @@ def class_temperatures(classes=None):
 
 def build_palette(settings, *, range_K=None, steps: int = 16, axis: str = "mired",
                   classes=None, use_classes: bool = False) -> Palette:
-    """Render a swatch set with one call to :func:`engine.render.render`.
+    """Render a swatch set with one call to :func:`starkiln.engine.pipeline.render.render`.
 
     Parameters
     ----------
-    settings : engine.settings.Settings
+    settings : starkiln.engine.pipeline.settings.Settings
     range_K, steps, axis
         Temperature steps (default range 1000-40000 K); ignored with classes.
     classes : sequence of str, optional
@@ -176,17 +176,17 @@ def build_palette(settings, *, range_K=None, steps: int = 16, axis: str = "mired
 
     References
     ----------
-    Module docstring; :func:`engine.render.render`.
+    Module docstring; :func:`starkiln.engine.pipeline.render.render`.
 
     Examples
     --------
-    >>> from engine.settings import Settings
+    >>> from starkiln.engine.pipeline.settings import Settings
     >>> p = build_palette(Settings(), range_K=(2000, 8000), steps=3)
     >>> p.names
     ('2000 K', '3200 K', '8000 K')
     """
-    from engine.lut import DEFAULT_TEMPERATURE_RANGE_K, check_axis, check_temperature_range
-    from engine.render import render
+    from starkiln.engine.exports.textures import DEFAULT_TEMPERATURE_RANGE_K, check_axis, check_temperature_range
+    from starkiln.engine.pipeline.render import render
 
     if use_classes or classes is not None:
         names, temps = class_temperatures(classes)
@@ -209,7 +209,7 @@ def build_palette(settings, *, range_K=None, steps: int = 16, axis: str = "mired
 
 def palette_format_for_path(path) -> str:
     """Palette format from the extension: json, csv, gpl, or sheet (``.png``)."""
-    from engine.atomic import format_for_extension
+    from starkiln.engine.atomic import format_for_extension
 
     return format_for_extension(path, PALETTE_FORMATS, "palette")
 
@@ -245,7 +245,7 @@ def palette_dict(palette: Palette, name: str | None = None) -> dict:
         if palette.spectral_class is not None:
             sw["spectral_class"] = palette.spectral_class[k]
         swatches.append(sw)
-    from engine import __version__
+    from starkiln import __version__
 
     return {
         "starkiln_palette": PALETTE_FORMAT,
@@ -394,15 +394,15 @@ def write_palette(palette: Palette, path, overwrite: bool = False, name: str | N
 
     Raises
     ------
-    engine.atomic.OutputExistsError
+    starkiln.engine.atomic.OutputExistsError
         ``path`` exists and ``overwrite`` is False (the old file is untouched).
 
     References
     ----------
-    Module docstring (formats); :mod:`engine.atomic`.
+    Module docstring (formats); :mod:`starkiln.engine.atomic`.
     """
-    from engine import imageio
-    from engine.atomic import atomic_path
+    from starkiln.engine.exports import image_files as imageio
+    from starkiln.engine.atomic import atomic_path
 
     path = Path(path)
     fmt = palette_format_for_path(path)

@@ -2,7 +2,7 @@
 
 A lookup texture (LUT) is what a shader samples to colour a star: the texel
 at ``(u, v)`` holds the display colour of temperature ``T(u)`` at magnitude
-``m(v)``, exactly as :func:`engine.render.render` gives it.
+``m(v)``, exactly as :func:`starkiln.engine.pipeline.render.render` gives it.
 
 Axes and sampling convention (fixed; README "Lookup textures")
 ---------------------------------------------------------------
@@ -52,9 +52,9 @@ from pathlib import Path
 
 import numpy as np
 
-from engine.errors import InputRangeError, StarkilnError
-from engine.sources import TEMPERATURE_MAX_K, TEMPERATURE_MIN_K
-from engine.vision import MAGNITUDE_RANGE
+from starkiln.engine.errors import InputRangeError, StarkilnError
+from starkiln.engine.stars.temperature import TEMPERATURE_MAX_K, TEMPERATURE_MIN_K
+from starkiln.engine.eye.vision import MAGNITUDE_RANGE
 
 AXIS_MAPPINGS = ("mired", "log", "linear")
 FORMATS = {".png": "png", ".exr": "exr"}
@@ -63,7 +63,7 @@ MAX_SIDE = 16384
 TEXTURE_FORMAT = 1  # version of the embedded metadata layout
 METADATA_KEY = "starkiln"
 DEFAULT_TEMPERATURE_RANGE_K = (1000.0, 40000.0)
-#: What the render path accepts (one definition each, in engine.vision and engine.sources).
+#: What the render path accepts (one definition each, in starkiln.engine.eye.vision and starkiln.engine.stars.temperature).
 MAGNITUDE_MIN, MAGNITUDE_MAX = MAGNITUDE_RANGE
 
 
@@ -251,7 +251,7 @@ def _pair(value, what: str) -> tuple[float, float]:
 
 def format_for_path(path) -> str:
     """Texture format from the file extension: ``.png`` -> ``png``, ``.exr`` -> ``exr``."""
-    from engine.atomic import format_for_extension
+    from starkiln.engine.atomic import format_for_extension
 
     return format_for_extension(path, FORMATS, "texture")
 
@@ -367,7 +367,7 @@ def to_16bit(rgb_encoded) -> np.ndarray:
 def render_lut(settings, spec: LutSpec) -> np.ndarray:
     """The texture's values as float64 ``(H, W, C)`` before quantisation.
 
-    Calls :func:`engine.render.render` once, with temperatures of shape
+    Calls :func:`starkiln.engine.pipeline.render.render` once, with temperatures of shape
     ``(1, W)`` and magnitudes of shape ``(H, 1)`` (broadcast to ``(H, W)``),
     or with temperatures alone for a strip. PNG (display-encoded) takes
     ``rgb_encoded`` or ``rgb_dimmed_encoded``; EXR (display-linear) takes
@@ -375,9 +375,9 @@ def render_lut(settings, spec: LutSpec) -> np.ndarray:
 
     References
     ----------
-    Module docstring (layouts); :func:`engine.render.render` (colours).
+    Module docstring (layouts); :func:`starkiln.engine.pipeline.render.render` (colours).
     """
-    from engine.render import render
+    from starkiln.engine.pipeline.render import render
 
     temperature_K, magnitude = lut_axes(spec)
     h, w = spec.height, spec.width
@@ -405,7 +405,7 @@ def render_lut(settings, spec: LutSpec) -> np.ndarray:
 def quantise(values: np.ndarray, spec: LutSpec) -> np.ndarray:
     """Float texture values -> the stored sample type of ``spec`` (uint8, uint16, float32)."""
     if spec.depth == 8:
-        from engine.render import to_8bit
+        from starkiln.engine.pipeline.render import to_8bit
 
         return to_8bit(values)
     if spec.depth == 16:
@@ -433,7 +433,7 @@ def lut_metadata(settings, spec: LutSpec) -> dict:
     ----------
     Module docstring; README "Lookup textures".
     """
-    from engine import __version__
+    from starkiln import __version__
 
     a, b = spec.temperature_range_K
     formulas = {
@@ -506,7 +506,7 @@ def build_lut(settings, spec: LutSpec):
 
     Parameters
     ----------
-    settings : engine.settings.Settings
+    settings : starkiln.engine.pipeline.settings.Settings
     spec : LutSpec
 
     Returns
@@ -521,7 +521,7 @@ def build_lut(settings, spec: LutSpec):
 
     Examples
     --------
-    >>> from engine.settings import Settings
+    >>> from starkiln.engine.pipeline.settings import Settings
     >>> arr, meta = build_lut(Settings(), LutSpec(width=8, height=2))
     >>> arr.shape, arr.dtype.name, meta["axes"]["u"]["mapping"]
     ((2, 8, 3), 'uint8', 'mired')
@@ -545,7 +545,7 @@ def write_lut(path, array: np.ndarray, metadata: dict, spec: LutSpec,
 
     Raises
     ------
-    engine.atomic.OutputExistsError
+    starkiln.engine.atomic.OutputExistsError
         ``path`` exists and ``overwrite`` is False (the old file is untouched).
 
     References
@@ -553,8 +553,8 @@ def write_lut(path, array: np.ndarray, metadata: dict, spec: LutSpec,
     PNG (ISO/IEC 15948:2004, section 11.3.4.3 tEXt); OpenEXR file layout
     (attributes, "chromaticities").
     """
-    from engine import imageio
-    from engine.atomic import atomic_path
+    from starkiln.engine.exports import image_files as imageio
+    from starkiln.engine.atomic import atomic_path
 
     path = Path(path)
     if format_for_path(path) != spec.file_format:
@@ -583,14 +583,14 @@ def _chromaticities(metadata: dict):
 def export_lut(settings, spec: LutSpec, path, overwrite: bool = False) -> dict:
     """Check the destination, build and write a texture; returns its metadata.
 
-    The destination is checked first (:func:`engine.atomic.check_writable`),
+    The destination is checked first (:func:`starkiln.engine.atomic.check_writable`),
     so nothing is computed for a file that could not be written.
 
     References
     ----------
     :func:`build_lut`, :func:`write_lut`.
     """
-    from engine.atomic import check_writable
+    from starkiln.engine.atomic import check_writable
 
     if format_for_path(path) != spec.file_format:
         raise StarkilnError(f"{path}: extension does not match the texture format "

@@ -40,7 +40,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from engine.errors import InputRangeError
+from starkiln.engine.errors import InputRangeError
 
 #: Mucciarelli, Bellazzini & Massari (2021) Table 1, dwarfs, BP-RP (from memory).
 MBM21_DWARF_BP_RP = (0.4929, 0.5092, -0.0353, 0.0192, -0.0020, -0.0395)
@@ -112,7 +112,7 @@ def temperature_from_bp_rp(bp_rp, feh=0.0, extrapolate: bool = False) -> np.ndar
 
     Raises
     ------
-    engine.errors.InputRangeError
+    starkiln.engine.errors.InputRangeError
         A colour outside the accepted range, or not finite.
 
     References
@@ -158,7 +158,7 @@ def g_minus_v(bp_rp) -> np.ndarray:
 
     Raises
     ------
-    engine.errors.InputRangeError
+    starkiln.engine.errors.InputRangeError
         A colour outside -0.5 to 5.0, or not finite.
 
     References

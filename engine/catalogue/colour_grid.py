@@ -4,7 +4,7 @@ Colouring a billion stars through the full spectral path costs a Planck spectrum
 on 471 wavelengths per star. The colour of a blackbody is a smooth function of
 temperature, so a catalogue is coloured from a table instead:
 
-- **Without magnitudes**: :func:`engine.render.render` is called once on
+- **Without magnitudes**: :func:`starkiln.engine.pipeline.render.render` is called once on
   ``TABLE_NODES`` temperatures evenly spaced in mired (10^6 / T) from
   10 mired (100 000 K) to 2000 mired (500 K), and each output channel
   (``rgb_encoded`` r, g, b and ``intensity``) is interpolated linearly in mired.
@@ -36,7 +36,7 @@ difference of the decoded colours, CIE 15:2004) or the intensity by more than
 ``render`` itself (details in :func:`_exact_cells`). A few per cent of the
 cells near those curves are marked (see the benchmark).
 
-Every table belongs to one :class:`engine.settings.Settings` (cached per
+Every table belongs to one :class:`starkiln.engine.pipeline.settings.Settings` (cached per
 settings object). The interpolation error against the exact path is proven
 in ``tests/test_fastpath.py``: CIEDE2000 at most 0.2 over 500-100 000 K
 (measured at most 0.01 without magnitudes, 0.07 with them), with colour-science
@@ -54,9 +54,9 @@ from pathlib import Path
 
 import numpy as np
 
-from engine.settings import Settings
-from engine.sources import TEMPERATURE_MAX_K, TEMPERATURE_MIN_K
-from engine.vision import MAGNITUDE_RANGE
+from starkiln.engine.pipeline.settings import Settings
+from starkiln.engine.stars.temperature import TEMPERATURE_MAX_K, TEMPERATURE_MIN_K
+from starkiln.engine.eye.vision import MAGNITUDE_RANGE
 
 #: Mired range of the tables: 10^6 / 100 000 K .. 10^6 / 500 K.
 MIRED_MIN = 1e6 / TEMPERATURE_MAX_K
@@ -218,7 +218,7 @@ class ColourTable:
         rows = np.flatnonzero(self.exact_cells.take(cell))
         if rows.size == 0:
             return channels
-        from engine.render import render
+        from starkiln.engine.pipeline.render import render
 
         t = np.asarray(temperature_K, dtype=np.float64)[rows]
         if magnitude is None:
@@ -255,7 +255,7 @@ def _node_temperatures(mired: np.ndarray) -> np.ndarray:
 def _lab(settings: Settings, encoded: np.ndarray) -> np.ndarray:
     """CIE 1976 L*a*b* of encoded display RGB, relative to the display white (for the
     tolerances only): CIE 15:2004 section 8.2.1, with the display's own decoding and
-    primaries (:mod:`engine.displays`)."""
+    primaries (:mod:`starkiln.engine.colour.displays`)."""
     d = settings.display
     XYZ = d.decode(encoded) @ d.rgb_to_XYZ.T / d.white_XYZ
     e = 216.0 / 24389.0
@@ -406,7 +406,7 @@ def _photopic_limit_magnitude(settings) -> float:
     The limit is the same for every temperature (at cone weight 1 the mesopic
     luminance is the photopic one: CIE 191:2010), so it is found at 5772 K.
     """
-    from engine.render import render
+    from starkiln.engine.pipeline.render import render
 
     def full(m):
         return float(render(settings, 5772.0, m).cone_weight) >= 1.0
@@ -423,7 +423,7 @@ def _photopic_limit_magnitude(settings) -> float:
 def _rendered(settings, temperature_K, magnitude=None, cone_weight=None) -> np.ndarray:
     """(..., 4) encoded r, g, b and intensity from the render path (and, into
     ``cone_weight`` when given, render's cone weight)."""
-    from engine.render import render
+    from starkiln.engine.pipeline.render import render
 
     r = render(settings, temperature_K, magnitude)
     out = np.empty(r.rgb_encoded.shape[:-1] + (4,))
@@ -459,7 +459,7 @@ def _cache_key(settings: Settings, with_magnitude: bool) -> str:
 
 
 def _cache_file(settings: Settings, with_magnitude: bool) -> Path:
-    from engine.tables import cache_dir
+    from starkiln.engine.colour.cie_data import cache_dir
 
     return cache_dir() / f"colour-table-{_cache_key(settings, with_magnitude)}.npz"
 
@@ -482,7 +482,7 @@ CACHE_KEEP = 16
 
 
 def _save_cached(table: ColourTable, path: Path) -> None:
-    from engine.tables import write_npz_atomic
+    from starkiln.engine.colour.cie_data import write_npz_atomic
 
     arrays = {"mired_nodes": table.mired_nodes, "values": table.values}
     for name in ("magnitude_nodes", "slopes", "exact_cells"):
@@ -502,7 +502,7 @@ def colour_table(settings: Settings, with_magnitude: bool = False) -> ColourTabl
     """The (cached) interpolation table of the render path for ``settings``.
 
     Tables are kept in memory per process and on disk in the engine's cache folder
-    (:func:`engine.tables.cache_dir`), keyed by a hash of the settings, the grid and
+    (:func:`starkiln.engine.colour.cie_data.cache_dir`), keyed by a hash of the settings, the grid and
     the engine's source code, so a changed engine never reuses an old table.
 
     Parameters
@@ -519,7 +519,7 @@ def colour_table(settings: Settings, with_magnitude: bool = False) -> ColourTabl
 
     References
     ----------
-    Built by :func:`engine.render.render` only (see the module docstring).
+    Built by :func:`starkiln.engine.pipeline.render.render` only (see the module docstring).
     """
     path = _cache_file(settings, with_magnitude)
     table = _load_cached(settings, path)
@@ -546,7 +546,7 @@ def build_colour_table(settings: Settings, with_magnitude: bool = False) -> Colo
 
     References
     ----------
-    Built by :func:`engine.render.render` only (see the module docstring).
+    Built by :func:`starkiln.engine.pipeline.render.render` only (see the module docstring).
     """
     if not with_magnitude:
         mired = _mired_nodes(TABLE_NODES)

@@ -86,7 +86,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from engine.errors import InputRangeError
+from starkiln.engine.errors import InputRangeError
 
 #: Illuminance of a zero-magnitude (V) star outside the atmosphere, lux (Schlyter's tables;
 #: Allen 2000 from memory; other published values 2.1e-6 to 2.6e-6, see the module docstring).

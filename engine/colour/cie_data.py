@@ -34,7 +34,7 @@ from pathlib import Path
 
 import numpy as np
 
-from engine.errors import StarkilnError
+from starkiln.engine.errors import StarkilnError
 
 #: Default wavelength grid of the engine (CIE 15:2004 recommends 360-830 nm).
 WAVELENGTH_MIN_NM = 360.0

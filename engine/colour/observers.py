@@ -17,8 +17,8 @@ from __future__ import annotations
 
 import numpy as np
 
-from engine.errors import SettingsError
-from engine.tables import tables
+from starkiln.engine.errors import SettingsError
+from starkiln.engine.colour.cie_data import tables
 
 OBSERVERS = ("cie1931", "cie1964")
 

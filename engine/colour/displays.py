@@ -43,7 +43,7 @@ from pathlib import Path
 
 import numpy as np
 
-from engine.errors import SettingsError
+from starkiln.engine.errors import SettingsError
 
 TRANSFERS = ("srgb", "gamma", "linear", "pq")
 PROFILE_FORMAT = 1

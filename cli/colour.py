@@ -1,0 +1,134 @@
+"""``starkiln colour``, ``starkiln whites``, ``starkiln displays``: one star, and the preset lists.
+
+Parses, asks :func:`starkiln.engine.pipeline.render.render` and prints; nothing else.
+"""
+
+from __future__ import annotations
+
+import json
+
+from starkiln.cli.options import add_colour_options, number, settings_from_args
+
+
+def add_parsers(sub) -> None:
+    """Add ``colour`` (alias ``color``), ``whites`` and ``displays`` to the subcommands."""
+    c = sub.add_parser("colour", aliases=["color"], help="the display colour of one star",
+                       description="Print the display colour of one star.")
+    src = c.add_mutually_exclusive_group(required=True)
+    src.add_argument("--temperature", type=number, metavar="K", help="effective temperature, K")
+    src.add_argument("--bv", type=number, metavar="B-V", help="Johnson B-V colour index")
+    src.add_argument("--spectral-class", metavar="CLASS", help="main-sequence class, e.g. G2V")
+    c.add_argument("--magnitude", type=number, metavar="M",
+                   help="apparent visual magnitude: turns on the night-vision model")
+    c.add_argument("--json", action="store_true", help="print one JSON object")
+    add_colour_options(c)
+
+    sub.add_parser("whites", help="list the scene-white presets")
+    sub.add_parser("displays", help="list the display presets")
+
+
+def _temperature_from_args(args) -> float:
+    from starkiln.engine.stars.temperature import temperature_from_bv, temperature_from_spectral_class
+
+    if args.temperature is not None:
+        return args.temperature
+    if args.bv is not None:
+        return float(temperature_from_bv(args.bv))
+    return temperature_from_spectral_class(args.spectral_class)
+
+
+def cmd_colour(args, out) -> int:
+    """``starkiln colour``: one star's colour as a table or JSON."""
+    from starkiln.engine.pipeline.render import render
+
+    settings = settings_from_args(args)
+    temperature = _temperature_from_args(args)
+    r = render(settings, temperature, args.magnitude)
+    record = {
+        "temperature_K": float(r.temperature_K),
+        "xy": [round(float(v), 6) for v in r.xy],
+        "rgb_linear": [round(float(v), 6) for v in r.rgb_linear],
+        "rgb_encoded": [round(float(v), 6) for v in r.rgb_encoded],
+        "hex": str(r.hex()),
+        "in_gamut": bool(r.in_gamut),
+        "settings": {"observer": settings.observer, "scene_white": settings.scene_white,
+                     "adaptation": settings.adaptation, "display": settings.display.name,
+                     "gamut": settings.gamut, "normalisation": settings.normalisation},
+    }
+    night = []
+    if args.magnitude is not None:
+        record.update({
+            "magnitude": float(r.magnitude),
+            "photopic_luminance_cd_m2": float(r.photopic_luminance_cd_m2),
+            "scotopic_ratio": round(float(r.scotopic_ratio), 6),
+            "cone_weight": round(float(r.cone_weight), 6),
+            "saturation": round(float(r.saturation), 6),
+            "intensity": round(float(r.intensity), 6),
+            "rgb_dimmed_encoded": [round(float(v), 6) for v in r.rgb_dimmed_encoded],
+        })
+        if r.compensation_reached is not None:
+            record["compensation_reached"] = bool(r.compensation_reached)
+        record["settings"].update({"vision": settings.vision,
+                                   "aperture_mm": settings.aperture_mm,
+                                   "transmission": settings.transmission})
+        instrument = ("naked eye" if settings.aperture_mm is None
+                      else f"{settings.aperture_mm:g} mm aperture, transmission "
+                           f"{settings.transmission:g}")
+        night = [
+            ("magnitude", f"{record['magnitude']:g} ({instrument})"),
+            ("image luminance", f"{record['photopic_luminance_cd_m2']:.4g} cd/m2 photopic, "
+                                f"S/P {record['scotopic_ratio']:.3f}"),
+            ("cone weight", f"{record['cone_weight']:.3f} (0 rods only, 1 full colour)"),
+            ("saturation", f"{record['saturation']:.3f} of full colour ({settings.vision})"),
+            ("intensity", f"{record['intensity']:.3f}"),
+        ]
+        if r.compensation_reached is not None:
+            night.append(("dome compensation", "reached" if record["compensation_reached"]
+                          else "out of reach (clamped to the gamut)"))
+    if args.json:
+        out.write(json.dumps(record) + "\n")
+        return 0
+    rows = [
+        ("temperature", f"{record['temperature_K']:.0f} K"),
+        ("chromaticity x, y", "{:.5f}, {:.5f}".format(*record["xy"])),
+        ("display linear", "{:.4f} {:.4f} {:.4f}".format(*record["rgb_linear"])),
+        ("display encoded", "{:.4f} {:.4f} {:.4f}".format(*record["rgb_encoded"])),
+        ("hex", record["hex"]),
+        ("inside gamut", "yes" if record["in_gamut"] else f"no (mapped by {settings.gamut})"),
+        ("white / display", f"{settings.scene_white} -> {settings.display.name} "
+                            f"({settings.adaptation})"),
+    ] + night
+    width = max(len(k) for k, _ in rows)
+    for k, v in rows:
+        out.write(f"{k:<{width}}  {v}\n")
+    return 0
+
+
+def cmd_whites(args, out) -> int:
+    """``starkiln whites``: the scene-white presets with their chromaticities (CIE 1931)."""
+    from starkiln.engine.colour.whites import WHITE_PRESETS, resolve_white
+
+    notes = {"D50": "CIE daylight, 5003 K (print viewing)", "D55": "CIE daylight, 5503 K",
+             "D65": "CIE daylight, 6504 K (sRGB, Rec. 2020 white)", "D75": "CIE daylight, 7504 K",
+             "E": "equal-energy white", "DCI": "digital-cinema projector white (SMPTE RP 431-2)"}
+    for name in WHITE_PRESETS:
+        w = resolve_white(name, "cie1931")
+        out.write(f"{name:<5} x={w.xy[0]:.5f} y={w.xy[1]:.5f}  {notes[name]}\n")
+    out.write("also: daylight:<4000-25000 K>, blackbody:<500-100000 K>, xy:<x>,<y>\n")
+    return 0
+
+
+def cmd_displays(args, out) -> int:
+    """``starkiln displays``: the display presets."""
+    from starkiln.engine.colour.displays import PRESET_NOTES, PRESETS
+
+    for name, d in PRESETS.items():
+        tf = f"gamma {d.gamma:g}" if d.transfer == "gamma" else d.transfer
+        out.write(f"{name:<11} white {d.white_xy[0]:.4f},{d.white_xy[1]:.4f}  {tf:<9} "
+                  f"{d.peak_luminance_cd_m2:g} cd/m2  {PRESET_NOTES[name]}\n")
+    out.write("also: a JSON display profile (see README, 'Display profiles')\n")
+    return 0
+
+
+COMMANDS = {"colour": cmd_colour, "color": cmd_colour, "whites": cmd_whites,
+            "displays": cmd_displays}

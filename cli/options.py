@@ -1,0 +1,100 @@
+"""Shared command-line options: the parser class, number parsing and the colour settings group.
+
+Every subcommand that renders colours adds :func:`add_colour_options` and turns the
+parsed options into one :class:`starkiln.engine.pipeline.settings.Settings` with
+:func:`settings_from_args`. This module imports no command module (no cycles).
+"""
+
+from __future__ import annotations
+
+import argparse
+from typing import TYPE_CHECKING
+
+from starkiln.engine.errors import StarkilnError
+
+if TYPE_CHECKING:  # for annotations only; the CLI imports settings lazily
+    from starkiln.engine.pipeline.settings import Settings
+
+EXIT_BAD_INPUT = 2
+
+
+class Parser(argparse.ArgumentParser):
+    """argparse with one-line errors (``starkiln: error: ...``) and exit code 2."""
+
+    def error(self, message):  # noqa: D401 - argparse hook
+        raise StarkilnError(f"{message} (see '{self.prog} --help')")
+
+
+def number(text: str) -> float:
+    try:
+        return float(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"{text!r} is not a number") from None
+
+
+def positive_int(text: str) -> int:
+    """argparse type: a whole number of at least 1."""
+    try:
+        v = int(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"{text!r} is not a whole number") from None
+    if v < 1:
+        raise argparse.ArgumentTypeError(f"{text!r} must be at least 1")
+    return v
+
+
+def add_colour_options(p: argparse.ArgumentParser) -> None:
+    """Options shared by every command that renders colours."""
+    g = p.add_argument_group("colour settings (override --settings)")
+    g.add_argument("--settings", metavar="FILE.toml", help="start from a saved settings file")
+    g.add_argument("--white", metavar="WHITE",
+                   help="scene white: D50 D55 D65 D75 E DCI, daylight:<K>, blackbody:<K>, xy:<x>,<y>")
+    g.add_argument("--display", metavar="NAME|PROFILE.json",
+                   help="display preset (see 'starkiln displays') or a JSON display profile")
+    g.add_argument("--adaptation", metavar="METHOD",
+                   help="bradford (default), cat16, cat02, von-kries, none")
+    g.add_argument("--gamut", metavar="METHOD", help="clip, scale, chroma (default)")
+    g.add_argument("--observer", metavar="NAME", help="cie1931 (default) or cie1964")
+    g.add_argument("--normalisation", "--normalization", dest="normalisation", metavar="MODE",
+                   help="max-channel (default) or luminance")
+    v = p.add_argument_group("night vision (applies when magnitudes are given)")
+    v.add_argument("--vision", metavar="MODEL",
+                   help="mesopic (default: CIE 191 cone weight) or none (full colour, camera look)")
+    v.add_argument("--aperture-mm", type=number, metavar="D",
+                   help="instrument aperture in mm (default: naked eye)")
+    v.add_argument("--transmission", type=number, metavar="T",
+                   help="instrument transmission, 0 < T <= 1 (default 1)")
+    v.add_argument("--pupil-mm", type=number, metavar="d", help="dark-adapted pupil, mm (default 7)")
+    v.add_argument("--blur-spot-arcmin", type=number, metavar="A",
+                   help="diameter of the effective star image, arcmin (default 6)")
+    v.add_argument("--intensity-curve", metavar="CURVE", help="asinh (default), log or linear")
+    v.add_argument("--magnitude-bright", type=number, metavar="M",
+                   help="magnitude shown at intensity 1 (default -1.5)")
+    v.add_argument("--magnitude-faint", type=number, metavar="M",
+                   help="magnitude shown at intensity 0 (default 6.5)")
+    v.add_argument("--night-tint", type=number, metavar="S",
+                   help="0-1, cool tint of faint stars (a rendering convention; default 0)")
+    v.add_argument("--compensate", action="store_true", default=None,
+                   help="pre-boost chroma for a dark dome at the display's peak luminance")
+
+
+def settings_from_args(args) -> "Settings":
+    """The one Settings object from ``--settings`` plus any explicit options."""
+    from starkiln.engine.pipeline.settings import Settings, load_settings
+
+    base = load_settings(args.settings) if getattr(args, "settings", None) else Settings()
+    changes = {}
+    for opt, key in (("white", "scene_white"), ("display", "display"),
+                     ("adaptation", "adaptation"), ("gamut", "gamut"),
+                     ("observer", "observer"), ("normalisation", "normalisation"),
+                     ("vision", "vision"), ("aperture_mm", "aperture_mm"),
+                     ("transmission", "transmission"), ("pupil_mm", "pupil_mm"),
+                     ("blur_spot_arcmin", "blur_spot_arcmin"),
+                     ("intensity_curve", "intensity_curve"),
+                     ("magnitude_bright", "magnitude_bright"),
+                     ("magnitude_faint", "magnitude_faint"), ("night_tint", "night_tint"),
+                     ("compensate", "compensate")):
+        value = getattr(args, opt, None)
+        if value is not None:
+            changes[key] = value
+    return base.replace(**changes) if changes else base

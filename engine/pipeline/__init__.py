@@ -1,0 +1,1 @@
+"""The one render path and the validated settings object it takes."""
