@@ -52,11 +52,11 @@ from pathlib import Path
 
 import numpy as np
 
+from starkiln.engine.colour.temperature_axis import AXIS_MAPPINGS, check_axis, temperature_from_u, u_from_temperature  # noqa: F401 (re-exported for texture callers)
 from starkiln.engine.errors import InputRangeError, StarkilnError
 from starkiln.engine.stars.temperature import TEMPERATURE_MAX_K, TEMPERATURE_MIN_K
 from starkiln.engine.eye.vision import MAGNITUDE_RANGE
 
-AXIS_MAPPINGS = ("mired", "log", "linear")
 FORMATS = {".png": "png", ".exr": "exr"}
 DEPTHS = {"png": (8, 16), "exr": (32,)}
 MAX_SIDE = 16384
@@ -92,81 +92,6 @@ def texel_centres(n: int) -> np.ndarray:
     """
     return (np.arange(int(n), dtype=np.float64) + 0.5) / float(n)
 
-
-def u_from_temperature(temperature_K, range_K, axis: str = "mired") -> np.ndarray:
-    """Texture coordinate u (0 at ``range_K[0]``, 1 at ``range_K[1]``) of temperatures.
-
-    Parameters
-    ----------
-    temperature_K : array_like
-        Temperatures in kelvin.
-    range_K : (float, float)
-        ``(A, B)``, the temperatures at the left and right edges, ``A < B``.
-    axis : {"mired", "log", "linear"}
-        Mapping; formulas in the module docstring.
-
-    Returns
-    -------
-    numpy.ndarray
-        u, same shape as ``temperature_K`` (not clipped).
-
-    References
-    ----------
-    Mired = 10^6 / T (common practice; CIE 15:2004 section 9.5 discusses the
-    reciprocal temperature scale).
-
-    Examples
-    --------
-    >>> float(u_from_temperature(2000.0, (1000.0, 40000.0), "linear")) == 1000.0 / 39000.0
-    True
-    """
-    t = np.asarray(temperature_K, dtype=np.float64)
-    a, b = float(range_K[0]), float(range_K[1])
-    axis = check_axis(axis)
-    if axis == "mired":
-        return (1e6 / a - 1e6 / t) / (1e6 / a - 1e6 / b)
-    if axis == "log":
-        return np.log(t / a) / np.log(b / a)
-    return (t - a) / (b - a)
-
-
-def temperature_from_u(u, range_K, axis: str = "mired") -> np.ndarray:
-    """Temperatures (K) at texture coordinates u; inverse of :func:`u_from_temperature`.
-
-    Parameters
-    ----------
-    u : array_like
-        Coordinates, 0 = left edge (``range_K[0]``), 1 = right edge.
-    range_K : (float, float)
-        ``(A, B)`` kelvin, ``A < B``.
-    axis : {"mired", "log", "linear"}
-        Mapping; formulas in the module docstring.
-
-    Returns
-    -------
-    numpy.ndarray
-        Temperatures in kelvin, same shape as ``u``. Mired: the harmonic
-        interpolation ``1 / ((1 - u)/A + u/B)``; log: ``A (B/A)^u``;
-        linear: ``A + u (B - A)``.
-
-    References
-    ----------
-    Mired = 10^6 / T (common practice).
-
-    Examples
-    --------
-    >>> round(float(temperature_from_u(0.5, (2000.0, 8000.0), "mired")), 6)
-    3200.0
-    """
-    uu = np.asarray(u, dtype=np.float64)
-    a, b = float(range_K[0]), float(range_K[1])
-    axis = check_axis(axis)
-    if axis == "mired":
-        mired = (1.0 - uu) * (1e6 / a) + uu * (1e6 / b)
-        return 1e6 / mired
-    if axis == "log":
-        return a * np.exp(uu * np.log(b / a))
-    return a + uu * (b - a)
 
 
 def v_from_magnitude(magnitude, range_mag) -> np.ndarray:
@@ -205,13 +130,6 @@ def magnitude_from_v(v, range_mag) -> np.ndarray:
     a, b = float(range_mag[0]), float(range_mag[1])
     return a + vv * (b - a)
 
-
-def check_axis(axis: str) -> str:
-    """Validate an axis mapping name (``mired``, ``log``, ``linear``); returns it lower-cased."""
-    name = str(axis).strip().lower()
-    if name not in AXIS_MAPPINGS:
-        raise StarkilnError(f"unknown temperature axis {axis!r}; accepted: {', '.join(AXIS_MAPPINGS)}")
-    return name
 
 
 def check_temperature_range(range_K, what: str = "temperature range") -> tuple[float, float]:

@@ -33,6 +33,7 @@ from pathlib import Path
 import numpy as np
 
 from starkiln.engine.errors import InputRangeError, SettingsError
+from starkiln.engine.colour.temperature_axis import mired_to_temperature, temperature_to_mired  # noqa: F401
 from starkiln.engine.colour.observers import XYZ_to_xy, check_observer, cmfs, spectral_locus_xy, v_photopic
 from starkiln.engine.colour.observers import v_scotopic
 from starkiln.engine.pipeline.render import blackbody_XYZ, display_rgb_from_XYZ, render, to_8bit
@@ -56,31 +57,6 @@ LOCUS_TICKS_K = (1000.0, 1500.0, 2000.0, 3000.0, 4000.0, 5000.0, 6500.0, 10000.0
 #: Wavelengths labelled on the spectral locus, nm.
 SPECTRAL_TICKS_NM = (460.0, 480.0, 490.0, 500.0, 520.0, 540.0, 560.0, 580.0, 600.0, 620.0)
 
-
-def temperature_to_mired(temperature_K) -> np.ndarray:
-    """Mired (micro reciprocal degree) of a temperature, ``1e6 / T``.
-
-    References
-    ----------
-    Wyszecki & Stiles (1982), *Color Science*, section 3.11 (mired scale).
-
-    Examples
-    --------
-    >>> float(temperature_to_mired(5000.0))
-    200.0
-    """
-    return 1e6 / np.asarray(temperature_K, dtype=np.float64)
-
-
-def mired_to_temperature(mired) -> np.ndarray:
-    """Temperature in kelvin of a mired value, ``1e6 / mired`` (Wyszecki & Stiles 1982, 3.11).
-
-    Examples
-    --------
-    >>> float(mired_to_temperature(250.0))
-    4000.0
-    """
-    return 1e6 / np.asarray(mired, dtype=np.float64)
 
 
 @dataclass(frozen=True)
