@@ -188,8 +188,7 @@ def render(settings: Settings, temperature_K, magnitude=None) -> Rendered:
 
     Examples
     --------
-    >>> from starkiln.engine.colour.displays import Display
-from starkiln.engine.pipeline.settings import Settings
+    >>> from starkiln.engine.pipeline.settings import Settings
     >>> str(render(Settings(), 6504.0).hex())
     '#fff9fe'
     """
