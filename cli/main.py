@@ -9,6 +9,8 @@ line on stderr and exit code 2.
 
 from __future__ import annotations
 
+import errno
+import os
 import sys
 
 from starkiln.cli import catalogue, colour, exports
@@ -22,7 +24,7 @@ COMMAND_MODULES = (colour, exports, catalogue)
 def build_parser() -> argparse.ArgumentParser:
     """The full argument parser (also used by the docs)."""
     p = Parser(prog="starkiln", description="Star colours for domes and screens.")
-    p.add_argument("--version", action="version", version=f"starkiln {__version__}")
+    p.add_argument("-V", "--version", action="version", version=f"starkiln {__version__}")
     p.add_argument("--screenshot", metavar="OUT.png",
                    help="with no command: render the window offscreen at 1280 x 800 into OUT.png")
     p.add_argument("--settings", dest="window_settings", metavar="FILE.toml",
@@ -35,23 +37,86 @@ def build_parser() -> argparse.ArgumentParser:
     return p
 
 
+#: Options that belong to the window only; with a subcommand they are an error, not ignored.
+WINDOW_OPTIONS = (("screenshot", "--screenshot"), ("window_settings", "--settings"),
+                  ("window_temperature", "--temperature"))
+
+
 def main(argv=None) -> int:
-    """Entry point of the ``starkiln`` console script; returns the exit code."""
+    """Entry point of the ``starkiln`` console script; returns the exit code.
+
+    Exit codes: 0 done; 2 bad input or an output that could not be written (one line on
+    stderr naming the value or file and what is accepted); 130 interrupted. A closed or
+    broken standard output (``starkiln whites | head -c1``) ends the command quietly.
+    """
     argv = sys.argv[1:] if argv is None else argv
     try:
         args = build_parser().parse_args(argv)
         if args.command is None:
             return _launch_window(args)
+        for dest, option in WINDOW_OPTIONS:
+            if getattr(args, dest, None) is not None:
+                raise StarkilnError(f"{option} before a command applies to the window only; "
+                                    f"give it after '{args.command}' if the command accepts it, "
+                                    "or leave out the command to open the window")
+        if sys.stdout is None:
+            raise StarkilnError("standard output is closed; accepted: an open standard output "
+                                "or a command that writes a file")
         commands = {}
         for module in COMMAND_MODULES:
             commands.update(module.COMMANDS)
-        return commands[args.command](args, sys.stdout)
+        code = commands[args.command](args, sys.stdout)
+        sys.stdout.flush()
+        return code
     except StarkilnError as exc:
-        sys.stderr.write(f"starkiln: error: {exc}\n")
-        return EXIT_BAD_INPUT
+        return _fail(str(exc))
+    except BrokenPipeError:
+        return _quiet_broken_pipe()
     except KeyboardInterrupt:
         sys.stderr.write("starkiln: interrupted\n")
         return 130
+    except RecursionError:
+        return _fail("an input file is nested too deeply to read (a JSON or TOML file with "
+                     "thousands of nested brackets?); accepted: ordinary settings and profiles")
+    except MemoryError:
+        return _fail("not enough memory for this request; accepted: a smaller size or input")
+    except OSError as exc:
+        if exc.errno == errno.EPIPE:
+            return _quiet_broken_pipe()
+        return _fail(describe_os_error(exc))
+
+
+def describe_os_error(exc: OSError) -> str:
+    """One line for a failed read or write: the file, then what went wrong, without the
+    Python exception's name (``errno`` meanings from POSIX, common practice)."""
+    where = exc.filename if exc.filename is not None else "standard output"
+    reason = exc.strerror or str(exc)
+    hint = {errno.ENOSPC: "; free some space or write elsewhere",
+            errno.EISDIR: "; accepted: a file path, not a folder",
+            errno.EACCES: "; accepted: a path you may write",
+            errno.EROFS: "; accepted: a path on a writable file system",
+            errno.ENOENT: "; check the path"}.get(exc.errno, "")
+    return f"{where}: {reason}{hint}"
+
+
+def _fail(message: str) -> int:
+    line = " ".join(str(message).split())  # always one line
+    try:
+        sys.stderr.write(f"starkiln: error: {line}\n")
+    except (OSError, ValueError, AttributeError):
+        pass
+    return EXIT_BAD_INPUT
+
+
+def _quiet_broken_pipe() -> int:
+    """The reader of standard output went away: stop quietly (Python documentation,
+    "Note on SIGPIPE": point stdout at devnull so the interpreter's final flush is silent)."""
+    try:
+        devnull = os.open(os.devnull, os.O_WRONLY)
+        os.dup2(devnull, sys.stdout.fileno())
+    except (OSError, ValueError, AttributeError):
+        pass
+    return 0
 
 
 def _launch_window(args) -> int:
