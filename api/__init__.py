@@ -42,8 +42,8 @@ _PUBLIC = {
     "export_texture": ("starkiln.engine.exports.textures", "export_lut"),
     "build_palette": ("starkiln.engine.exports.palettes", "build_palette"),
     "write_palette": ("starkiln.engine.exports.palettes", "write_palette"),
-    "CataloguePlan": ("starkiln.engine.catalogue.stream", "CataloguePlan"),
-    "colour_catalogue": ("starkiln.engine.catalogue.stream", "colour_catalogue"),
+    "CataloguePlan": ("starkiln.engine.catalogue.plan", "CataloguePlan"),
+    "colour_catalogue": ("starkiln.engine.catalogue.run", "colour_catalogue"),
     # errors
     "StarkilnError": ("starkiln.engine.errors", "StarkilnError"),
 }

@@ -8,8 +8,8 @@ Prints measured figures beside the goals of issue 6, with ratios, in one run:
 - a local Dask cluster (1 and 2 worker processes on 127.0.0.1) on 10 Parquet parts;
 - a billion-row run, *scaled from these measurements* (not measured).
 
-Two plans: ``teff`` (temperature column, 1-D table) and ``bp-rp+G`` (Gaia BP-RP and
-G magnitude: night vision through the 2-D table). The data are invented (uniform
+Two plans: ``teff`` (temperature column, 1-D grid) and ``bp-rp+G`` (Gaia BP-RP and
+G magnitude: night vision through the 2-D grid). The data are invented (uniform
 random colours and magnitudes), not catalogue rows.
 
 Usage::
@@ -118,7 +118,7 @@ def run_timed_child(code: str) -> dict:
 
 
 def plan_for(name: str):
-    from starkiln.engine.catalogue.stream import CataloguePlan
+    from starkiln.engine.catalogue.plan import CataloguePlan
     from starkiln.engine.pipeline.settings import Settings
 
     if name == "teff":
@@ -131,8 +131,9 @@ def bench_step(rows: int) -> dict:
     """The colouring step alone: colour_values and colour_arrow on arrays in memory."""
     import pyarrow as pa
 
-    from starkiln.engine.catalogue.stream import colour_arrow, colour_values
-    from starkiln.engine.catalogue.colour_grid import build_colour_table, colour_table
+    from starkiln.engine.catalogue.colouring import colour_arrow, colour_values
+    from starkiln.engine.catalogue.grid_build import build_colour_grid
+    from starkiln.engine.catalogue.grid_cache import colour_grid
 
     rng = np.random.default_rng(1)
     cols = invented_columns(rows, rng)
@@ -140,9 +141,9 @@ def bench_step(rows: int) -> dict:
     for name in PLANS:
         plan = plan_for(name)
         t0 = time.perf_counter()
-        table = build_colour_table(plan.settings, plan.with_magnitude)
+        grid = build_colour_grid(plan.settings, plan.with_magnitude)
         build = time.perf_counter() - t0
-        colour_table(plan.settings, plan.with_magnitude)  # into the disk cache for the runs
+        colour_grid(plan.settings, plan.with_magnitude)  # into the disk cache for the runs
         arrays = {c: (np.asarray(cols[c], dtype=np.float64), None) for c in plan.input_columns}
         step = best_of(lambda: colour_values(plan, arrays))
         batch = pa.record_batch({k: pa.array(v) for k, v in cols.items()})
@@ -151,7 +152,7 @@ def bench_step(rows: int) -> dict:
         exact_plan = dataclasses.replace(plan, exact=True)
         exact = best_of(lambda: colour_values(exact_plan, sub), repeat=1) * (rows / 100_000)
         out[name] = {"build_s": build, "step_s": step, "arrow_s": arrow, "exact_s": exact,
-                     "table_MB": table.nbytes / 1e6, "exact_cells": table.exact_fraction}
+                     "grid_MB": grid.nbytes / 1e6, "exact_cells": grid.exact_fraction}
     return out
 
 
@@ -162,7 +163,7 @@ def bench_end_to_end(path: Path, out_dir: Path, rows: int) -> dict:
         code = (
             "import json, time, sys\n"
             "t0 = time.perf_counter()\n"
-            "from starkiln.engine.catalogue.stream import colour_catalogue\n"
+            "from starkiln.engine.catalogue.run import colour_catalogue\n"
             "import pyarrow.parquet, pandas  # pyarrow loads pandas on first conversion\n"
             f"sys.path.insert(0, {str(REPO / 'bench')!r})\n"
             "from bench_catalogue import plan_for\n"
@@ -254,10 +255,10 @@ def main(argv=None) -> int:
                 print(f"{'  ratio to goal (>1 meets it)':<66}"
                       + "".join(f"{r:>13.2f}x" for r in ratios))
 
-        row("table build, s (once per settings; then from disk)", lambda n: step[n]["build_s"],
+        row("colour grid build, s (once per settings; then from disk)", lambda n: step[n]["build_s"],
             fmt="{:.2f}")
-        row("table size, MB", lambda n: step[n]["table_MB"], fmt="{:.1f}")
-        row("cells rendered exactly, % of table", lambda n: 100 * step[n]["exact_cells"],
+        row("colour grid size, MB", lambda n: step[n]["grid_MB"], fmt="{:.1f}")
+        row("cells rendered exactly, % of grid", lambda n: 100 * step[n]["exact_cells"],
             fmt="{:.2f}")
         row("colouring step alone, M stars/s (colour_values)",
             lambda n: m / step[n]["step_s"] / 1e6, GOAL_STEP / 1e6)
@@ -265,9 +266,9 @@ def main(argv=None) -> int:
             / 1e6)
         row("  exact render path for every row, M/s", lambda n: m / step[n]["exact_s"] / 1e6,
             fmt="{:.2f}")
-        row("  table speed-up over the exact path", lambda n: step[n]["exact_s"]
+        row("  grid speed-up over the exact path", lambda n: step[n]["exact_s"]
             / step[n]["step_s"], fmt="{:.0f}")
-        row(f"Parquet->Parquet {m / 1e6:g} M rows, M stars/s (in-process, table on disk)",
+        row(f"Parquet->Parquet {m / 1e6:g} M rows, M stars/s (in-process, grid on disk)",
             lambda n: m / e2e[n]["inside_s"] / 1e6, GOAL_END_TO_END / 1e6, fmt="{:.2f}")
         row("  process start-up and imports (with pandas), s", lambda n: e2e[n]["imports_s"],
             fmt="{:.2f}")

@@ -1,6 +1,6 @@
 """Command line: ``starkiln catalogue IN OUT`` (colour every star of a catalogue).
 
-Thin layer over :func:`starkiln.engine.catalogue.stream.colour_catalogue` and
+Thin layer over :func:`starkiln.engine.catalogue.run.colour_catalogue` and
 :func:`starkiln.engine.catalogue.dask_engine.colour_catalogue_dask`. This module is imported
 whenever the parser is built, so it imports nothing heavy at module level:
 astropy, pyarrow and dask are loaded only when the command runs.
@@ -46,7 +46,7 @@ def add_parsers(sub) -> None:
     o.add_argument("--prefix", default="", metavar="TEXT",
                    help="put TEXT before the names of the new columns (if IN has an 'r' ...)")
     o.add_argument("--exact", action="store_true",
-                   help="call the render path for every row instead of the interpolation table "
+                   help="call the render path for every row instead of the colour grid "
                         "(slower; same colours within CIEDE2000 0.2)")
     o.add_argument("--chunk-rows", type=positive_int, metavar="N",
                    help="rows per streamed chunk (default 131072)")
@@ -61,8 +61,8 @@ def add_parsers(sub) -> None:
 
 
 def plan_from_args(args, settings):
-    """The :class:`starkiln.engine.catalogue.stream.CataloguePlan` from the parsed options."""
-    from starkiln.engine.catalogue.stream import CataloguePlan
+    """The :class:`starkiln.engine.catalogue.plan.CataloguePlan` from the parsed options."""
+    from starkiln.engine.catalogue.plan import CataloguePlan
 
     sources = [(k, getattr(args, f"{k.replace('-', '_')}_column"))
                for k in ("temperature", "bv")]
@@ -126,7 +126,7 @@ def _run(args, plan, engine):
                                         scheduler=args.scheduler, n_workers=args.workers,
                                         progress=progress)
     else:
-        from starkiln.engine.catalogue.stream import DEFAULT_CHUNK_ROWS, colour_catalogue
+        from starkiln.engine.catalogue.run import DEFAULT_CHUNK_ROWS, colour_catalogue
 
         summary = colour_catalogue(args.input, args.output, plan, overwrite=args.force,
                                    progress=progress,

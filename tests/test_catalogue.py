@@ -1,4 +1,4 @@
-"""``starkiln catalogue``: row colours, statuses, formats, errors (starkiln.engine.catalogue.stream).
+"""``starkiln catalogue``: row colours, statuses, formats, errors (starkiln.engine.catalogue).
 
 References for the checks:
 - Row colours are compared with ``starkiln colour --json`` for the same values (the
@@ -25,11 +25,15 @@ pa = pytest.importorskip("pyarrow")
 pq = pytest.importorskip("pyarrow.parquet")
 pytest.importorskip("tqdm")
 
-import starkiln.engine.catalogue.stream as cat  # noqa: E402
+import starkiln.engine.catalogue.plan as catalogue_plan  # noqa: E402
+import starkiln.engine.catalogue.run as catalogue_run  # noqa: E402
+import starkiln.engine.catalogue.streaming as catalogue_streaming  # noqa: E402
+from starkiln.engine.catalogue.formats import astropy_guard  # noqa: E402
 
-with cat.astropy_guard():  # colour-science may have left a stand-in matplotlib module
+with astropy_guard():  # colour-science may have left a stand-in matplotlib module
     astropy_table = pytest.importorskip("astropy.table")
-from starkiln.engine.catalogue.stream import CataloguePlan, colour_catalogue  # noqa: E402
+from starkiln.engine.catalogue.plan import CataloguePlan  # noqa: E402
+from starkiln.engine.catalogue.run import colour_catalogue  # noqa: E402
 from starkiln.cli.main import main  # noqa: E402
 from starkiln.engine.errors import StarkilnError  # noqa: E402
 from starkiln.engine.pipeline.settings import Settings  # noqa: E402
@@ -52,7 +56,7 @@ def read_back(path: Path):
     if path.suffix == ".parquet" or path.is_dir():
         return {k: v for k, v in pq.read_table(path).to_pydict().items()}
     fmt = {".csv": "ascii.csv", ".ecsv": "ascii.ecsv", ".fits": "fits", ".vot": "votable"}
-    with cat.astropy_guard():
+    with astropy_guard():
         t = Table.read(str(path), format=fmt[path.suffix])
     out = {}
     for name in t.colnames:
@@ -109,10 +113,10 @@ def test_bv_rows_equal_the_colour_command(tmp_path, capsys):
         assert np.abs(np.subtract(got, ref)).max() <= ONE_STEP, (b, got, ref)
 
 
-@pytest.mark.parametrize("through_table", [False, True])
-def test_magnitude_rows_equal_the_colour_command(tmp_path, capsys, monkeypatch, through_table):
-    if through_table:  # small runs call render directly; force the 2-D table here
-        monkeypatch.setattr(cat, "EXACT_ROWS_WITH_MAGNITUDE", 0)
+@pytest.mark.parametrize("through_grid", [False, True])
+def test_magnitude_rows_equal_the_colour_command(tmp_path, capsys, monkeypatch, through_grid):
+    if through_grid:  # small runs call render directly; force the 2-D grid here
+        monkeypatch.setattr(catalogue_plan, "EXACT_ROWS_WITH_MAGNITUDE", 0)
     stars = [(3000.0, -1.0), (5772.0, 1.5), (9000.0, 3.0), (4000.0, 4.2), (20000.0, 6.0),
              (2500.0, 0.3), (7000.0, 9.0)]
     src = write_csv(tmp_path / "in.csv", ["teff", "vmag"], stars)
@@ -216,7 +220,7 @@ def test_chunking_does_not_change_the_result(tmp_path):
 
 @pytest.mark.parametrize("with_magnitude", [False, True])
 def test_threads_do_not_change_the_result(tmp_path, monkeypatch, with_magnitude):
-    monkeypatch.setattr(cat, "EXACT_ROWS_WITH_MAGNITUDE", 0)
+    monkeypatch.setattr(catalogue_plan, "EXACT_ROWS_WITH_MAGNITUDE", 0)
     rng = np.random.default_rng(7)
     n = 80000
     pq.write_table(pa.table({"teff": rng.uniform(400, 110000, n),
@@ -259,7 +263,7 @@ def make_input(path: Path, fmt: str) -> Path:
         return path
     t = Table({"name": NAMES, "teff": teff, "count": COUNT})
     fmt_name = {"csv": "ascii.csv", "ecsv": "ascii.ecsv", "fits": "fits", "vot": "votable"}[fmt]
-    with cat.astropy_guard():
+    with astropy_guard():
         t.write(str(path), format=fmt_name)
     return path
 
@@ -300,7 +304,7 @@ def test_output_columns_with_prefix_and_name_clash(tmp_path):
 
 
 def test_csv_column_changing_type_late_restarts_as_text(tmp_path, monkeypatch):
-    monkeypatch.setattr(cat, "CSV_BLOCK_BYTES", 4096)  # types come from the first 4 KiB
+    monkeypatch.setattr(catalogue_streaming, "CSV_BLOCK_BYTES", 4096)  # types come from the first 4 KiB
     rows = [[i, 4000 + i] for i in range(2000)] + [["late-id", "oops"], [2001, 6000]]
     src = write_csv(tmp_path / "in.csv", ["id", "teff"], rows)
     plan = CataloguePlan(Settings(), "temperature", "teff")
@@ -374,8 +378,8 @@ def test_existing_output_needs_force(tmp_path, capsys):
 
 
 def test_broken_row_late_in_a_streamed_csv_leaves_nothing(tmp_path, capsys, monkeypatch):
-    monkeypatch.setattr(cat, "CSV_STREAM_BYTES", 0)
-    monkeypatch.setattr(cat, "CSV_BLOCK_BYTES", 4096)
+    monkeypatch.setattr(catalogue_run, "CSV_STREAM_BYTES", 0)
+    monkeypatch.setattr(catalogue_streaming, "CSV_BLOCK_BYTES", 4096)
     rows = [[i, 5000] for i in range(3000)] + [[1, 2, 3, 4]]  # a row with too many fields
     src = write_csv(tmp_path / "in.csv", ["id", "teff"], rows)
     code, err = _run_cli(capsys, src, tmp_path / "out.parquet", "--temperature-column", "teff")
@@ -412,7 +416,7 @@ def test_demo_catalogue_as_in_the_readme(tmp_path, capsys):
     summary = capsys.readouterr().out
     assert "306 rows" in summary and "ok" in summary
     rows = read_back(out)
-    with cat.astropy_guard():
+    with astropy_guard():
         src = Table.read(str(demo), format="ascii.csv")
     assert rows["ember_id"] == list(src["ember_id"])
     status = dict(zip(rows["ember_id"], rows["status"]))

@@ -19,7 +19,8 @@ distributed = pytest.importorskip("distributed")
 pd = pytest.importorskip("pandas")
 pytestmark = pytest.mark.filterwarnings("ignore:The inplace keyword")
 
-from starkiln.engine.catalogue.stream import CataloguePlan, colour_catalogue  # noqa: E402
+from starkiln.engine.catalogue.plan import CataloguePlan  # noqa: E402
+from starkiln.engine.catalogue.run import colour_catalogue  # noqa: E402
 from starkiln.engine.catalogue.dask_engine import colour_catalogue_dask  # noqa: E402
 from starkiln.cli.main import main  # noqa: E402
 from starkiln.engine.pipeline.settings import Settings  # noqa: E402
@@ -70,8 +71,8 @@ def test_dask_equals_the_single_machine_path(tmp_path, source, column):
 
 
 def test_dask_equals_the_single_machine_path_with_magnitudes(tmp_path, monkeypatch):
-    import starkiln.engine.catalogue.stream as cat
-    monkeypatch.setattr(cat, "EXACT_ROWS_WITH_MAGNITUDE", 0)  # through the 2-D table
+    import starkiln.engine.catalogue.plan as catalogue_plan
+    monkeypatch.setattr(catalogue_plan, "EXACT_ROWS_WITH_MAGNITUDE", 0)  # through the 2-D grid
     src = tmp_path / "in"
     src.mkdir()
     rng = np.random.default_rng(8)

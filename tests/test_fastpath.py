@@ -18,8 +18,9 @@ import numpy as np
 import pytest
 
 import starkiln.engine.pipeline.settings
-from starkiln.engine.catalogue.colour_grid import (MAGNITUDE_MAX, MAGNITUDE_MIN, _cache_file, build_colour_table,
-                             colour_table)
+from starkiln.engine.catalogue.colour_grid import MAGNITUDE_MAX, MAGNITUDE_MIN
+from starkiln.engine.catalogue.grid_build import build_colour_grid
+from starkiln.engine.catalogue.grid_cache import cache_file, colour_grid
 from starkiln.engine.pipeline.render import render
 from starkiln.engine.pipeline.settings import Settings
 
@@ -58,9 +59,9 @@ def delta_E(settings: Settings, a, b) -> np.ndarray:
                                              lab_from_encoded(settings, b))
 
 
-def _off_node_temperatures(table, rng) -> np.ndarray:
+def _off_node_temperatures(grid, rng) -> np.ndarray:
     """A quarter, half and three quarters into every cell, plus random points: 500-100 000 K."""
-    m = table.mired_nodes
+    m = grid.mired_nodes
     h = np.diff(m)
     inner = np.concatenate([m[:-1] + f * h for f in (0.25, 0.5, 0.75)])
     random = rng.uniform(m[0], m[-1], 20000)
@@ -87,10 +88,10 @@ SETTINGS_CASES = [
     f"{k}={v}" for k, v in c.items()) or "default")
 def test_interpolation_within_ciede2000_bound(changes):
     settings = Settings().replace(**changes)
-    table = build_colour_table(settings)  # built here, not taken from the disk cache
-    t = _off_node_temperatures(table, np.random.default_rng(6))
+    grid = build_colour_grid(settings)  # built here, not taken from the disk cache
+    t = _off_node_temperatures(grid, np.random.default_rng(6))
     exact = render(settings, t).rgb_encoded
-    fast = np.stack(table.lookup(t)[:3], axis=-1)
+    fast = np.stack(grid.lookup(t)[:3], axis=-1)
     de = delta_E(settings, exact, fast)
     assert np.isfinite(de).all()
     assert de.max() <= DELTA_E_BOUND, (f"max CIEDE2000 {de.max():.3f} at "
@@ -102,12 +103,12 @@ def test_bound_holds_at_the_ends_of_the_range():
     settings = Settings()
     t = np.array([500.0, 500.001, 501.0, 99999.0, 99999.999, 100000.0])
     exact = render(settings, t).rgb_encoded
-    fast = np.stack(colour_table(settings).lookup(t)[:3], axis=-1)
+    fast = np.stack(colour_grid(settings).lookup(t)[:3], axis=-1)
     assert delta_E(settings, exact, fast).max() <= DELTA_E_BOUND
 
 
-def test_the_test_can_fail_on_a_coarse_table():
-    # The referee notices a poor table: a 16-node table over the same range is far off.
+def test_the_test_can_fail_on_a_coarse_grid():
+    # The referee notices a poor grid: a 16-node grid over the same range is far off.
     settings = Settings()
     nodes = np.linspace(10.0, 2000.0, 16)
     coarse = render(settings, np.clip(1e6 / nodes, 500, 100000)).rgb_encoded
@@ -116,18 +117,18 @@ def test_the_test_can_fail_on_a_coarse_table():
     assert delta_E(settings, render(settings, t).rgb_encoded, fast).max() > DELTA_E_BOUND
 
 
-def test_table_nodes_are_render_outputs():
-    # At the nodes the table returns what render returned (float32 storage).
+def test_grid_nodes_are_render_outputs():
+    # At the nodes the grid returns what render returned (float32 storage).
     settings = Settings(display="display-p3")
-    table = colour_table(settings)
-    t = np.clip(1e6 / table.mired_nodes[::97], 500.0, 100000.0)
-    fast = np.stack(table.lookup(t)[:3], axis=-1)
+    grid = colour_grid(settings)
+    t = np.clip(1e6 / grid.mired_nodes[::97], 500.0, 100000.0)
+    fast = np.stack(grid.lookup(t)[:3], axis=-1)
     np.testing.assert_allclose(fast, render(settings, t).rgb_encoded, atol=2e-6)
 
 
 def test_intensity_is_one_without_magnitudes():
     # Engine contract: intensity is ones without magnitudes.
-    r, g, b, intensity = colour_table(Settings()).lookup(np.array([3000.0, 6500.0, 30000.0]))
+    r, g, b, intensity = colour_grid(Settings()).lookup(np.array([3000.0, 6500.0, 30000.0]))
     assert np.all(intensity == 1.0)
 
 
@@ -140,12 +141,12 @@ VISION_CASES = [
 ]
 
 
-def _vision_points(table, n, seed):
+def _vision_points(grid, n, seed):
     """Random points over the whole range: 500-100 000 K (uniform in mired) and -30..30 mag,
-    half of them inside the magnitude rows the table stores (where the colours change)."""
+    half of them inside the magnitude rows the grid stores (where the colours change)."""
     rng = np.random.default_rng(seed)
-    t = 1e6 / rng.uniform(table.mired_nodes[0], table.mired_nodes[-1], n)
-    lo, hi = max(table.magnitude_nodes[0], MAGNITUDE_MIN), min(table.magnitude_nodes[-1],
+    t = 1e6 / rng.uniform(grid.mired_nodes[0], grid.mired_nodes[-1], n)
+    lo, hi = max(grid.magnitude_nodes[0], MAGNITUDE_MIN), min(grid.magnitude_nodes[-1],
                                                                    MAGNITUDE_MAX)
     mag = np.concatenate([rng.uniform(MAGNITUDE_MIN, MAGNITUDE_MAX, n // 2),
                           rng.uniform(lo, hi, n - n // 2)])
@@ -155,12 +156,12 @@ def _vision_points(table, n, seed):
 @needs_vision
 @pytest.mark.parametrize("changes", VISION_CASES, ids=lambda c: ",".join(
     f"{k}={v}" for k, v in c.items()) or "default")
-def test_vision_table_within_ciede2000_bound(changes):
+def test_vision_grid_within_ciede2000_bound(changes):
     settings = Settings().replace(**changes)
-    table = build_colour_table(settings, with_magnitude=True)  # not from the disk cache
-    t, mag = _vision_points(table, 60000, 9)
+    grid = build_colour_grid(settings, with_magnitude=True)  # not from the disk cache
+    t, mag = _vision_points(grid, 60000, 9)
     exact = render(settings, t, mag)
-    r, g, b, intensity = table.lookup(t, mag)
+    r, g, b, intensity = grid.lookup(t, mag)
     de = delta_E(settings, exact.rgb_encoded, np.stack([r, g, b], axis=-1))
     assert de.max() <= DELTA_E_BOUND, (f"max CIEDE2000 {de.max():.3f} at "
                                        f"{t[np.argmax(de)]:.0f} K, mag {mag[np.argmax(de)]:.2f}")
@@ -169,35 +170,52 @@ def test_vision_table_within_ciede2000_bound(changes):
 
 
 @needs_vision
-def test_vision_table_needs_its_exact_cells():
+def test_vision_grid_needs_its_exact_cells():
     # Without the cells marked for exact rendering the render path's step (the mesopic
     # fixed point dropping to m = 0 for very red stars) breaks the bound: the marking matters.
     settings = Settings()
-    table = colour_table(settings, with_magnitude=True)
-    # A small part of the stored cells (the table keeps only the magnitudes where colours
+    grid = colour_grid(settings, with_magnitude=True)
+    # A small part of the stored cells (the grid keeps only the magnitudes where colours
     # change) is marked.
-    assert table.exact_cells is not None and 0.0 < table.exact_fraction < 0.15
-    bare = dataclasses.replace(table, exact_cells=None)
-    t, mag = _vision_points(table, 40000, 9)
+    assert grid.exact_cells is not None and 0.0 < grid.exact_fraction < 0.15
+    bare = dataclasses.replace(grid, exact_cells=None)
+    t, mag = _vision_points(grid, 40000, 9)
     exact = render(settings, t, mag)
     r, g, b, _ = bare.lookup(t, mag)
     assert delta_E(settings, exact.rgb_encoded, np.stack([r, g, b], axis=-1)).max() > DELTA_E_BOUND
 
 
-def test_disk_cache_returns_the_built_table(tmp_path, monkeypatch):
+def test_disk_cache_returns_the_built_grid(tmp_path, monkeypatch):
     monkeypatch.setenv("STARKILN_CACHE_DIR", str(tmp_path))
     settings = Settings(display="rec2020", gamut="scale")
-    colour_table.cache_clear()
+    colour_grid.cache_clear()
     try:
-        first = colour_table(settings)
-        assert _cache_file(settings, False).exists()
-        colour_table.cache_clear()
-        again = colour_table(settings)  # from disk now
+        first = colour_grid(settings)
+        assert cache_file(settings, False).exists()
+        colour_grid.cache_clear()
+        again = colour_grid(settings)  # from disk now
     finally:
-        colour_table.cache_clear()
+        colour_grid.cache_clear()
     assert again is not first
     np.testing.assert_array_equal(again.values, first.values)
     np.testing.assert_array_equal(again.slopes, first.slopes)
     # Other settings, another file.
-    assert _cache_file(settings.replace(gamut="clip"), False) != _cache_file(settings, False)
-    assert _cache_file(settings, True) != _cache_file(settings, False)
+    assert cache_file(settings.replace(gamut="clip"), False) != cache_file(settings, False)
+    assert cache_file(settings, True) != cache_file(settings, False)
+
+
+def test_cache_key_follows_code_anywhere_in_the_engine(tmp_path, monkeypatch):
+    # A grid holds the render path's outputs, and the render path lives in every room of
+    # the engine (colour, eye, pipeline ...): a change to any engine module, not only to
+    # the catalogue room, must lead to another cache file.
+    import starkiln.engine.catalogue.grid_cache as grid_cache
+
+    source = tmp_path / "engine"
+    (source / "colour").mkdir(parents=True)
+    module = source / "colour" / "spectrum.py"
+    module.write_text("STEP_NM = 1.0\n")
+    monkeypatch.setattr(grid_cache, "ENGINE_SOURCE_DIR", source)
+    settings = Settings()
+    before = cache_file(settings)
+    module.write_text("STEP_NM = 5.0\n")
+    assert cache_file(settings) != before

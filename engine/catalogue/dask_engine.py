@@ -2,8 +2,8 @@
 
 ``dask.dataframe.read_parquet`` splits a Parquet file, folder or glob into
 partitions (files in natural order); every partition goes through
-:func:`starkiln.engine.catalogue.stream.colour_partition` (which calls the same
-:func:`starkiln.engine.catalogue.stream.colour_values` as the single-machine path) and is
+:func:`starkiln.engine.catalogue.colouring.colour_partition` (which calls the same
+:func:`starkiln.engine.catalogue.colouring.colour_values` as the single-machine path) and is
 written by its worker as ``part.NNNNN.parquet`` into a temporary folder
 beside the output; when every part is written, the folder is renamed to the
 output name. Read in order, the parts hold the rows of the single-machine
@@ -26,9 +26,12 @@ from pathlib import Path
 
 import numpy as np
 
-from starkiln.engine.catalogue.stream import (STATUSES, CataloguePlan, Summary, _counts_dict, _first_line,
-                              _parquet_writer, _progress, colour_partition, format_of,
-                              input_files, output_schema)
+from starkiln.engine.catalogue.colouring import colour_partition
+from starkiln.engine.catalogue.columns import output_schema
+from starkiln.engine.catalogue.formats import FORMATS, first_line, format_of, input_files
+from starkiln.engine.catalogue.plan import STATUSES, CataloguePlan, status_counts
+from starkiln.engine.catalogue.run import Summary, progress_bar
+from starkiln.engine.catalogue.streaming import parquet_writer
 from starkiln.engine.errors import StarkilnError
 
 
@@ -39,8 +42,7 @@ def _check_output_folder(output: Path, overwrite: bool) -> None:
     if output.exists() and not output.is_dir():
         raise StarkilnError(f"{output} exists and is not a folder; --engine dask writes a "
                             "folder of Parquet parts")
-    if output.suffix.lower() in (".csv", ".ecsv", ".fits", ".fit", ".fts", ".vot", ".votable",
-                                 ".xml"):
+    if FORMATS.get(output.suffix.lower(), "parquet") != "parquet":
         raise StarkilnError(f"{output}: --engine dask writes a folder of Parquet parts, not "
                             f"a {output.suffix} file")
 
@@ -51,7 +53,7 @@ def write_part(frame, path: str, schema) -> np.ndarray:
     Parameters
     ----------
     frame : pandas.DataFrame
-        A partition from :func:`starkiln.engine.catalogue.stream.colour_partition`.
+        A partition from :func:`starkiln.engine.catalogue.colouring.colour_partition`.
     path : str
         Part file to write.
     schema : pyarrow.Schema
@@ -60,13 +62,13 @@ def write_part(frame, path: str, schema) -> np.ndarray:
     Returns
     -------
     numpy.ndarray
-        Rows per status, aligned with :data:`starkiln.engine.catalogue.stream.STATUSES`.
+        Rows per status, aligned with :data:`starkiln.engine.catalogue.plan.STATUSES`.
     """
     import pyarrow as pa
     import pyarrow.compute as pc
 
     table = pa.Table.from_pandas(frame, preserve_index=False).cast(schema)
-    writer = _parquet_writer(path, schema)
+    writer = parquet_writer(path, schema)
     try:
         writer.write_table(table)
     finally:
@@ -127,21 +129,21 @@ def colour_catalogue_dask(input_spec, output, plan: CataloguePlan, *, overwrite:
     try:
         schema_in = pq.read_schema(files[0])
     except Exception as exc:
-        raise StarkilnError(f"{files[0]}: cannot read as Parquet ({_first_line(exc)})") from None
+        raise StarkilnError(f"{files[0]}: cannot read as Parquet ({first_line(exc)})") from None
     schema = output_schema(schema_in, plan, str(files[0]))
     rows = 0
     for f in files:
         try:
             rows += pq.ParquetFile(f).metadata.num_rows
         except Exception as exc:
-            raise StarkilnError(f"{f}: cannot read as Parquet ({_first_line(exc)})") from None
+            raise StarkilnError(f"{f}: cannot read as Parquet ({first_line(exc)})") from None
     # One thread per partition on a worker: the workers are the parallelism.
     plan = dataclasses.replace(plan.for_rows(rows), threads=1)
     for f in files[1:]:
         try:
             s = pq.read_schema(f)
         except Exception as exc:
-            raise StarkilnError(f"{f}: cannot read as Parquet ({_first_line(exc)})") from None
+            raise StarkilnError(f"{f}: cannot read as Parquet ({first_line(exc)})") from None
         if not s.remove_metadata().equals(schema_in.remove_metadata()):
             raise StarkilnError(f"{f}: its columns differ from those of {files[0]}; every "
                                 "file needs the same columns")
@@ -163,7 +165,7 @@ def colour_catalogue_dask(input_spec, output, plan: CataloguePlan, *, overwrite:
             client = Client(scheduler, timeout="10s")
         except (OSError, TimeoutError) as exc:
             raise StarkilnError(f"cannot reach the Dask scheduler at {scheduler} "
-                                f"({_first_line(exc)})") from None
+                                f"({first_line(exc)})") from None
         cluster = None
     else:
         workers = n_workers or os.cpu_count() or 1
@@ -186,7 +188,7 @@ def colour_catalogue_dask(input_spec, output, plan: CataloguePlan, *, overwrite:
                  for i, p in enumerate(parts)]
         futures = client.compute(tasks)
         counts = np.zeros(len(STATUSES), dtype=np.int64)
-        with _progress(len(futures), progress, unit="part") as bar:
+        with progress_bar(len(futures), progress, unit="part") as bar:
             for fut in as_completed(futures):
                 counts += fut.result()
                 bar.update(1)
@@ -199,7 +201,7 @@ def colour_catalogue_dask(input_spec, output, plan: CataloguePlan, *, overwrite:
         if cluster is not None:
             cluster.close()
     rows = int(counts.sum())
-    return Summary(rows, _counts_dict(counts), time.perf_counter() - t0, str(output),
+    return Summary(rows, status_counts(counts), time.perf_counter() - t0, str(output),
                    engine="dask", parts=len(tasks))
 
 

@@ -1,0 +1,297 @@
+"""Building a colour grid: rendering the nodes and marking the cells to render exactly.
+
+:func:`build_colour_grid` fills a :class:`starkiln.engine.catalogue.colour_grid.ColourGrid`
+by calling :func:`starkiln.engine.pipeline.render.render` on its nodes (the grid is
+described in :mod:`starkiln.engine.catalogue.colour_grid`).
+
+**Cells rendered exactly.** The render path is not smooth everywhere: the CIE
+191 mesopic fixed point drops to m = 0 for red stars near the scotopic limit (a
+step in colour and intensity along a curve in the temperature-magnitude plane),
+the cone weight and the tone curve have kinks, and dark channels under PQ bend
+sharply at the gamut edge. So when a grid is built, ``render`` is also called
+at the centre of every cell, and again at inner points of suspect cells (those
+next to a node where the values bend sharply); a cell where interpolation
+misses the rendered value by more than ``CELL_TOLERANCE_DE`` (CIE 1976 colour
+difference of the decoded colours, CIE 15:2004 section 8.2.1,
+:mod:`starkiln.engine.colour.cielab`) or the intensity by more than
+``CELL_TOLERANCE_INTENSITY`` is marked, with its suspect neighbours, and rows
+that fall into a marked cell are coloured by ``render`` itself (details in
+:func:`_exact_cells`). A few per cent of the cells near those curves are marked
+(see the benchmark).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from starkiln.engine.catalogue.colour_grid import (GRID_NODES, MAGNITUDE_MAX, MAGNITUDE_MIN,
+                                                   MAGNITUDE_STEP, VISION_GRID_NODES, ColourGrid,
+                                                   grid_mired_nodes, node_temperatures)
+from starkiln.engine.colour.cielab import XYZ_to_CIELAB, delta_E_CIE1976
+from starkiln.engine.pipeline.settings import Settings
+
+#: Magnitude rows rendered per call while building the 2-D grid (bounds memory).
+_BUILD_ROWS = 32
+#: A cell where interpolation misses the rendered colour by more than this CIE 1976
+#: colour difference (Delta E*ab, CIE 15:2004 section 8.2.1; CIEDE2000 is smaller for
+#: all but a few colours), or the intensity by more than CELL_TOLERANCE_INTENSITY, is
+#: rendered exactly.
+CELL_TOLERANCE_DE = 0.1
+CELL_TOLERANCE_INTENSITY = 0.5 / 255.0
+#: A node whose second difference exceeds this (Delta E*ab, or intensity) makes the
+#: cells around it suspects, checked again at inner points (a kink or step is near).
+BEND_TOLERANCE_DE = 0.2
+BEND_TOLERANCE_INTENSITY = 1.0 / 255.0
+
+
+def _display_lab(settings: Settings, encoded: np.ndarray) -> np.ndarray:
+    """CIE 1976 L*a*b* of encoded display RGB, relative to the display white (for the
+    tolerances only), with the display's own decoding and primaries
+    (:mod:`starkiln.engine.colour.displays`)."""
+    d = settings.display
+    return XYZ_to_CIELAB(d.decode(encoded) @ d.rgb_to_XYZ.T, d.white_XYZ)
+
+
+def _bend_cells(values: np.ndarray, axis: int, tolerance: float) -> np.ndarray:
+    """Cells next to a node where the values bend by more than ``tolerance`` (the norm of
+    the second difference along ``axis``): a kink or a step of the render path is near.
+    ``values`` (..., K) node vectors; returns a cell mask (one less along every axis)."""
+    a = np.moveaxis(values, axis, 0)
+    d2 = np.linalg.norm(a[2:] - 2.0 * a[1:-1] + a[:-2], axis=-1) > tolerance
+    node = np.zeros(a.shape[:-1], dtype=bool)
+    node[1:-1] = d2
+    node = np.moveaxis(node, 0, axis)
+    cells = node
+    for ax in range(node.ndim):  # a node touches the cells on both sides along every axis
+        n = cells.shape[ax]
+        cells = (np.take(cells, np.arange(0, n - 1), axis=ax)
+                 | np.take(cells, np.arange(1, n), axis=ax))
+    return cells
+
+
+def _grow(mask: np.ndarray) -> np.ndarray:
+    """``mask`` with every cell's neighbours (diagonals too) added."""
+    out = mask.copy()
+    for axis in range(mask.ndim):
+        shifted = out.copy()
+        lead = [slice(None)] * mask.ndim
+        lag = [slice(None)] * mask.ndim
+        lead[axis], lag[axis] = slice(1, None), slice(None, -1)
+        shifted[tuple(lead)] |= out[tuple(lag)]
+        shifted[tuple(lag)] |= out[tuple(lead)]
+        out = shifted
+    return out
+
+
+#: Points per cell side at which a suspect cell is checked against render.
+_CONFIRM_FRACTIONS = (0.125, 0.375, 0.625, 0.875)
+
+
+def _misses(settings, exact: np.ndarray, interp: np.ndarray) -> np.ndarray:
+    """Where interpolated values miss render's (the cell tolerances)."""
+    colour = delta_E_CIE1976(_display_lab(settings, exact[..., :3]), _display_lab(settings, interp[..., :3]))
+    return (colour > CELL_TOLERANCE_DE) | \
+        (np.abs(exact[..., 3] - interp[..., 3]) > CELL_TOLERANCE_INTENSITY)
+
+
+def _confirm(settings, suspects: np.ndarray, nodes: np.ndarray, mired, mags) -> np.ndarray:
+    """Suspect cells where interpolation misses render at one of 4 (or 4 x 4) inner points."""
+    idx = np.nonzero(suspects)
+    out = np.zeros_like(suspects)
+    if idx[0].size == 0:
+        return out
+    f = np.array(_CONFIRM_FRACTIONS)
+    h_t = mired[1] - mired[0]
+    if mags is None:
+        i = idx[0][:, None]
+        exact = _rendered(settings, node_temperatures(mired[i] + f * h_t))
+        interp = nodes[i] * (1 - f[None, :, None]) + nodes[i + 1] * f[None, :, None]
+        out[idx] = _misses(settings, exact, interp).any(axis=1)
+        return out
+    fx, fy = (g.reshape(-1) for g in np.meshgrid(f, f))
+    h_m = mags[1] - mags[0]
+    bad = np.zeros(idx[0].size, dtype=bool)
+    for s0 in range(0, idx[0].size, 2048):
+        j, i = idx[0][s0:s0 + 2048, None], idx[1][s0:s0 + 2048, None]
+        exact = _rendered(settings, node_temperatures(mired[i] + fx * h_t),
+                          np.clip(mags[j] + fy * h_m, MAGNITUDE_MIN, MAGNITUDE_MAX))
+        x, y = fx[None, :, None], fy[None, :, None]
+        interp = ((nodes[j, i] * (1 - x) + nodes[j, i + 1] * x) * (1 - y)
+                  + (nodes[j + 1, i] * (1 - x) + nodes[j + 1, i + 1] * x) * y)
+        bad[s0:s0 + 2048] = _misses(settings, exact, interp).any(axis=1)
+    out[idx] = bad
+    return out
+
+
+def _exact_cells(settings, nodes, centre_exact, centre_interp, mired, mags=None, known=None):
+    """Cells to render exactly, or None: (N - 1,) or (M - 1, N - 1) booleans.
+
+    1. Cells whose centre misses render (:func:`_misses`) are marked, and so are the
+       ``known`` ones (where a step of the render path is known to lie).
+    2. Suspects: those, cells next to a node where the values bend sharply (a kink or a
+       step of the render path, :func:`_bend_cells`), and all their neighbours.
+    3. Each suspect is checked at 4 (1-D) or 16 (2-D) inner points; a miss marks it.
+    4. Suspects next to a marked cell are marked too: a step can slip between the
+       inner points of one cell, but not of every cell along its line.
+    """
+    bad = _misses(settings, centre_exact, centre_interp)
+    if known is not None:
+        bad |= known
+    lab = _display_lab(settings, nodes[..., :3])
+    bend = np.zeros_like(bad)
+    for axis in range(nodes.ndim - 1):
+        bend |= _bend_cells(lab, axis, BEND_TOLERANCE_DE)
+        bend |= _bend_cells(nodes[..., 3:], axis, BEND_TOLERANCE_INTENSITY)
+    suspects = _grow(bad | bend)
+    marked = bad | _confirm(settings, suspects & ~bad, nodes, mired, mags)
+    marked |= _grow(marked) & suspects
+    return marked if marked.any() else None
+
+
+def _same_row(a: np.ndarray, b: np.ndarray) -> bool:
+    return bool(np.all(np.abs(a - b) <= 1e-7))
+
+
+def _changing_rows(settings, temps: np.ndarray, mags: np.ndarray) -> tuple[int, int]:
+    """First and last magnitude rows to keep: outside them render's outputs equal the end
+    rows. Found by bisection (each probe renders one row), then confirmed on 8 rows of
+    each constant band."""
+    n = mags.size
+
+    def row(j):
+        return _rendered(settings, temps, float(mags[j]))
+
+    def edge(end: int, step: int) -> int:
+        ref = row(end)
+        far = end + step * (n - 1)
+        if _same_row(row(far), ref):
+            return end  # nothing changes at all: keep everything (degenerate, small)
+        inside, outside = end, far  # row(inside) == ref, row(outside) != ref
+        while abs(outside - inside) > 1:
+            mid = (inside + outside) // 2
+            if _same_row(row(mid), ref):
+                inside = mid
+            else:
+                outside = mid
+        probes = np.linspace(end, inside, 8).round().astype(int)
+        if not all(_same_row(row(int(j)), ref) for j in probes):
+            return end  # not one constant band: keep everything
+        return inside
+
+    lo = edge(0, 1)
+    hi = edge(n - 1, -1)
+    if hi <= lo + 1:
+        return 0, n - 1
+    return lo, hi
+
+
+def _photopic_limit_magnitude(settings) -> float:
+    """Faintest magnitude still seen with full cone vision (render's cone weight is 1),
+    found by bisection on the render path; the middle of the range when there is none.
+
+    The limit is the same for every temperature (at cone weight 1 the mesopic
+    luminance is the photopic one: CIE 191:2010), so it is found at 5772 K.
+    """
+    from starkiln.engine.pipeline.render import render
+
+    def full(m):
+        return float(render(settings, 5772.0, m).cone_weight) >= 1.0
+
+    lo, hi = MAGNITUDE_MIN, MAGNITUDE_MAX
+    if not full(lo) or full(hi):
+        return 0.0
+    for _ in range(48):
+        mid = 0.5 * (lo + hi)
+        lo, hi = (mid, hi) if full(mid) else (lo, mid)
+    return lo
+
+
+def _rendered(settings, temperature_K, magnitude=None, cone_weight=None) -> np.ndarray:
+    """(..., 4) encoded r, g, b and intensity from the render path (and, into
+    ``cone_weight`` when given, render's cone weight)."""
+    from starkiln.engine.pipeline.render import render
+
+    r = render(settings, temperature_K, magnitude)
+    out = np.empty(r.rgb_encoded.shape[:-1] + (4,))
+    out[..., :3] = r.rgb_encoded
+    out[..., 3] = r.intensity
+    if cone_weight is not None:
+        cone_weight[...] = r.cone_weight
+    return out
+
+
+def build_colour_grid(settings: Settings, with_magnitude: bool = False) -> ColourGrid:
+    """Build the colour grid of the render path for ``settings`` (no caching).
+
+    Parameters
+    ----------
+    settings : Settings
+        Settings to render the grid with.
+    with_magnitude : bool
+        False: 1-D grid over temperature (no magnitudes). True: 2-D grid over
+        temperature and magnitude (night-vision model).
+
+    Returns
+    -------
+    ColourGrid
+
+    References
+    ----------
+    Built by :func:`starkiln.engine.pipeline.render.render` only (see the module docstring).
+    """
+    if not with_magnitude:
+        mired = grid_mired_nodes(GRID_NODES)
+        nodes = _rendered(settings, node_temperatures(mired))
+        centres = _rendered(settings, node_temperatures(0.5 * (mired[:-1] + mired[1:])))
+        values = nodes.astype(np.float32)
+        slopes = np.zeros_like(values)
+        slopes[:-1] = values[1:] - values[:-1]
+        flags = _exact_cells(settings, values.astype(np.float64), centres,
+                             0.5 * (values[:-1] + values[1:]), mired)
+        if flags is not None:
+            flags = np.concatenate([flags, [False]])
+        return ColourGrid(settings, mired, None, values, slopes, flags)
+    mired = grid_mired_nodes(VISION_GRID_NODES)
+    n_t = mired.size
+    # The grid is shifted so that a node falls on the photopic limit (a kink for every
+    # temperature at once); nodes just beyond -30 / +30 are rendered at -30 / +30.
+    kink = _photopic_limit_magnitude(settings)
+    first = kink - MAGNITUDE_STEP * np.ceil((kink - MAGNITUDE_MIN) / MAGNITUDE_STEP - 1e-9)
+    n_m = int(np.ceil((MAGNITUDE_MAX - first) / MAGNITUDE_STEP - 1e-9)) + 1
+    mags = first + MAGNITUDE_STEP * np.arange(n_m)
+    temps = node_temperatures(mired)[None, :]
+    # Brighter than some magnitude every output is constant (full cone vision, intensity
+    # 1), and fainter than another too (rods only, intensity 0): keep only the rows in
+    # between, plus one constant row at each end; lookups clamp to the kept rows.
+    lo, hi = _changing_rows(settings, temps[0], np.clip(mags, MAGNITUDE_MIN, MAGNITUDE_MAX))
+    mags = mags[lo:hi + 1]
+    n_m = mags.size
+    temps_mid = node_temperatures(0.5 * (mired[:-1] + mired[1:]))[None, :]
+    mags_mid = np.clip(0.5 * (mags[:-1] + mags[1:]), MAGNITUDE_MIN, MAGNITUDE_MAX)
+    render_mags = np.clip(mags, MAGNITUDE_MIN, MAGNITUDE_MAX)
+    out = np.empty((n_m, n_t, 4), dtype=np.float32)
+    cone = np.empty((n_m, n_t))
+    for j0 in range(0, n_m, _BUILD_ROWS):
+        j1 = min(j0 + _BUILD_ROWS, n_m)
+        out[j0:j1] = _rendered(settings, temps, render_mags[j0:j1, None], cone[j0:j1])
+    miss = np.zeros((n_m - 1, n_t - 1, 4), dtype=np.float32)
+    centre_exact = np.empty_like(miss)
+    for j0 in range(0, n_m - 1, _BUILD_ROWS):
+        j1 = min(j0 + _BUILD_ROWS, n_m - 1)
+        centre_exact[j0:j1] = _rendered(settings, temps_mid, mags_mid[j0:j1, None])
+        c = out[j0:j1 + 1]
+        miss[j0:j1] = 0.25 * (c[:-1, :-1] + c[:-1, 1:] + c[1:, :-1] + c[1:, 1:])
+    # The mesopic fixed point drops to m = 0 (a step): cells whose corners have m = 0
+    # and m > 0 hold the step.
+    zero = cone <= 0.0
+    mixed = zero[:-1, :-1] | zero[:-1, 1:] | zero[1:, :-1] | zero[1:, 1:]
+    mixed &= ~(zero[:-1, :-1] & zero[:-1, 1:] & zero[1:, :-1] & zero[1:, 1:])
+    cells = _exact_cells(settings, out, centre_exact, miss, mired, mags, known=mixed)
+    flags = None
+    if cells is not None:
+        flags = np.zeros((n_m, n_t), dtype=bool)
+        flags[:-1, :-1] = cells
+        flags = flags.reshape(-1)
+    slopes = np.zeros_like(out)
+    slopes[:, :-1] = out[:, 1:] - out[:, :-1]
+    return ColourGrid(settings, mired, mags, out.reshape(-1, 4), slopes.reshape(-1, 4), flags)

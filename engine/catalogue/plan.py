@@ -1,0 +1,170 @@
+"""The catalogue plan: which columns mean what, the row statuses and the appended columns.
+
+A catalogue is any table with a column the temperature comes from (kelvin,
+Johnson B-V, or Gaia BP-RP) and, optionally, a magnitude column (V, or Gaia G
+converted to V). Every input column and row is kept, in order, and five
+columns are appended (:data:`OUTPUT_NAMES`):
+
+========== ===============================================================
+r, g, b    display-encoded colour, 0-1 floats (``Rendered.rgb_encoded``)
+intensity  0-1 from the magnitude tone curve (1 without magnitudes)
+status     ``ok`` or a short reason (:data:`STATUSES`); rows that are not
+           coloured keep empty r, g, b and intensity; no row is dropped
+========== ===============================================================
+
+:class:`CataloguePlan` is the validated, picklable description of one run
+that every engine (this machine, :mod:`starkiln.engine.catalogue.dask_engine`)
+hands to the per-chunk function (:mod:`starkiln.engine.catalogue.colouring`).
+
+Temperature sources: kelvin (500-100 000 K, the render path's range);
+B-V through :func:`starkiln.engine.stars.temperature.temperature_from_bv` (Ballesteros 2012);
+BP-RP through :func:`starkiln.engine.stars.gaia.temperature_from_bp_rp`
+(Mucciarelli, Bellazzini & Massari 2021, dwarfs, [Fe/H] = 0 assumed).
+Gaia G becomes V through :func:`starkiln.engine.stars.gaia.v_from_g` (Riello et
+al. 2021, Table C.2).
+"""
+
+from __future__ import annotations
+
+import dataclasses
+from dataclasses import dataclass
+
+import numpy as np
+
+from starkiln.engine.errors import StarkilnError
+from starkiln.engine.eye.vision import MAGNITUDE_RANGE
+from starkiln.engine.pipeline.settings import Settings
+
+#: Row statuses, in the order of their codes (uint8 in memory, text in files).
+STATUSES = (
+    "ok",                      # coloured
+    "extrapolated",            # coloured, BP-RP outside the calibrated range (on request)
+    "missing-temperature",     # the temperature source cell is empty / null
+    "missing-magnitude",       # the magnitude (or the BP-RP that G-to-V needs) is empty
+    "not-a-number",            # a cell that is text, NaN or infinite
+    "out-of-range",            # temperature source outside its accepted range
+    "magnitude-out-of-range",  # V outside -30..30, or BP-RP outside the G-to-V range
+)
+OK, EXTRAPOLATED, MISSING_TEMPERATURE, MISSING_MAGNITUDE, NOT_A_NUMBER, OUT_OF_RANGE, \
+    MAGNITUDE_OUT_OF_RANGE = range(len(STATUSES))
+
+SOURCES = ("temperature", "bv", "bp-rp")
+BANDS = ("V", "G")
+#: Magnitudes the render path accepts (defined once, in starkiln.engine.eye.vision).
+MAGNITUDE_MIN, MAGNITUDE_MAX = MAGNITUDE_RANGE
+#: Runs with magnitudes and at most this many rows call the render path for every row:
+#: cheaper than building the 2-D grid (about 1.5 s), and exactly the window's colours.
+EXACT_ROWS_WITH_MAGNITUDE = 250_000
+#: Names of the appended columns (before the plan's prefix), in order.
+OUTPUT_NAMES = ("r", "g", "b", "intensity", "status")
+
+
+def status_counts(counts) -> dict:
+    """Rows per status as a ``{status: rows}`` dict.
+
+    Parameters
+    ----------
+    counts : array_like
+        Row counts aligned with :data:`STATUSES` (as from ``numpy.bincount`` of the codes).
+
+    Returns
+    -------
+    dict
+        ``{"ok": ..., "extrapolated": ..., ...}``, every status, in the order of :data:`STATUSES`.
+
+    References
+    ----------
+    The statuses are the project's own (:data:`STATUSES`).
+    """
+    return {s: int(c) for s, c in zip(STATUSES, counts)}
+
+
+@dataclass(frozen=True)
+class CataloguePlan:
+    """What to read from each row and how to colour it (validated, picklable).
+
+    Attributes
+    ----------
+    settings : Settings
+        The one settings object (same as the window and ``starkiln colour``).
+    source : ``temperature`` (K), ``bv`` (Johnson B-V) or ``bp-rp`` (Gaia BP-RP).
+    source_column : column holding the temperature source.
+    magnitude_column : column of apparent magnitudes, or None.
+    magnitude_band : ``V`` (Johnson V) or ``G`` (Gaia G, converted to V).
+    bp_rp_column : BP-RP column used by the G-to-V relation (defaults to
+        ``source_column`` when the source is ``bp-rp``).
+    magnitude : one magnitude for every row (instead of a column), or None.
+    extrapolate_bp_rp : colour BP-RP outside 0.39-1.50 (status ``extrapolated``).
+    exact : call the render path for every row instead of the colour grid.
+    prefix : text put before the names of the appended columns.
+    threads : threads that colour parts of a chunk at once (numpy releases the GIL);
+        0 (default) means one per core, up to 4. Dask workers use 1.
+    """
+
+    settings: Settings
+    source: str
+    source_column: str
+    magnitude_column: str | None = None
+    magnitude_band: str = "V"
+    bp_rp_column: str | None = None
+    magnitude: float | None = None
+    extrapolate_bp_rp: bool = False
+    exact: bool = False
+    prefix: str = ""
+    threads: int = 0
+
+    def __post_init__(self):
+        if self.source not in SOURCES:
+            raise StarkilnError(f"unknown temperature source {self.source!r}; accepted: "
+                                f"{', '.join(SOURCES)}")
+        band = str(self.magnitude_band).strip().upper()
+        if band not in BANDS:
+            raise StarkilnError(f"magnitude band {self.magnitude_band!r} unknown; accepted: V, G")
+        object.__setattr__(self, "magnitude_band", band)
+        if self.magnitude_column is not None and self.magnitude is not None:
+            raise StarkilnError("give either a magnitude column or one magnitude, not both")
+        if self.magnitude is not None:
+            m = float(self.magnitude)
+            if not (np.isfinite(m) and MAGNITUDE_MIN <= m <= MAGNITUDE_MAX):
+                raise StarkilnError(f"magnitude {self.magnitude!r} is outside the accepted range "
+                                    f"{MAGNITUDE_MIN:g} to {MAGNITUDE_MAX:g}")
+            object.__setattr__(self, "magnitude", m)
+        if self.source == "bp-rp" and self.bp_rp_column is None:
+            object.__setattr__(self, "bp_rp_column", self.source_column)
+        if band == "G":
+            if not self.with_magnitude:
+                raise StarkilnError("--magnitude-band G needs --magnitude-column")
+            if self.bp_rp_column is None:
+                raise StarkilnError("--magnitude-band G needs --bp-rp-column: the G-to-V "
+                                    "relation (Riello et al. 2021) uses BP-RP")
+
+    def for_rows(self, rows: int | None) -> "CataloguePlan":
+        """This plan for a run of ``rows`` rows: exact for small runs with magnitudes.
+
+        Both engines call this with the total row count, so they colour alike.
+        """
+        if (self.with_magnitude and not self.exact and rows is not None
+                and rows <= EXACT_ROWS_WITH_MAGNITUDE):
+            return dataclasses.replace(self, exact=True)
+        return self
+
+    @property
+    def with_magnitude(self) -> bool:
+        """True when rows carry magnitudes (night-vision colours and intensities)."""
+        return self.magnitude_column is not None or self.magnitude is not None
+
+    @property
+    def input_columns(self) -> list[str]:
+        """Names of the columns this plan reads, without repeats."""
+        names = [self.source_column, self.magnitude_column,
+                 self.bp_rp_column if self.magnitude_band == "G" else None]
+        out = []
+        for n in names:
+            if n is not None and n not in out:
+                out.append(n)
+        return out
+
+    @property
+    def output_columns(self) -> list[str]:
+        """Names of the appended columns (with the prefix)."""
+        return [self.prefix + n for n in OUTPUT_NAMES]
