@@ -14,7 +14,8 @@ from PySide6 import QtCore, QtWidgets
 from starkiln.engine.pipeline.render import to_8bit
 from starkiln.engine.stars.temperature import SPECTRAL_CLASS_TEFF_K, temperature_from_bv
 from starkiln.engine.stars.temperature import temperature_from_spectral_class
-from starkiln.engine.plotdata.plots import MiredScale, temperature_to_mired
+from starkiln.engine.colour.temperature_axis import temperature_to_mired
+from starkiln.engine.plotdata.plots import MiredScale
 from starkiln.gui.fields import INPUT_ERRORS, ErrorLine, Field, parse_number, set_role
 from starkiln.gui.swatches import SwatchStrip
 from starkiln.gui.theme import Theme

@@ -1,6 +1,6 @@
 """The small sky preview: the invented demo cluster drawn with the current settings.
 
-The picture comes whole from :func:`starkiln.engine.plotdata.plots.sky_image` (which asks the
+The picture comes whole from :func:`starkiln.engine.plotdata.sky.sky_image` (which asks the
 render path for every star's colour and intensity); this widget shows it at
 one device pixel per picture pixel and turns clicks into "audition this star".
 """
@@ -11,7 +11,7 @@ import numpy as np
 from PySide6 import QtCore, QtGui, QtWidgets
 
 from starkiln.engine.errors import StarkilnError
-from starkiln.engine.plotdata.plots import Cluster, load_demo_cluster, sky_image
+from starkiln.engine.plotdata.sky import Cluster, load_demo_cluster, sky_image
 from starkiln.gui.theme import DIM, Theme
 
 
@@ -56,7 +56,7 @@ class SkyPreview(QtWidgets.QWidget):
 
     @property
     def sky(self):
-        """The last :class:`starkiln.engine.plotdata.plots.SkyImage`, or None."""
+        """The last :class:`starkiln.engine.plotdata.sky.SkyImage`, or None."""
         return self._sky
 
     def set_theme(self, theme: Theme) -> None:

@@ -11,8 +11,9 @@ from PySide6 import QtCore, QtGui, QtWidgets
 
 from starkiln.engine.pipeline.render import render, to_8bit
 from starkiln.engine.pipeline.settings import Settings
-from starkiln.engine.plotdata.plots import (efficiency_overlays, magnitude_ladder, sky_image,
-                          spectral_band_colours)
+from starkiln.engine.plotdata.plots import efficiency_overlays, magnitude_ladder
+from starkiln.engine.plotdata.plots import spectral_band_colours
+from starkiln.engine.plotdata.sky import sky_image
 from test_gui_support import (centre_pixel, escaped, pytestmark, rendered_8bit,  # noqa: F401
                               shared_window, store, window)
 
