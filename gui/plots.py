@@ -8,11 +8,12 @@ from __future__ import annotations
 
 import numpy as np
 import pyqtgraph as pg
-from PySide6 import QtCore, QtGui, QtWidgets
+from PySide6 import QtCore, QtGui
 
 from starkiln.engine.plotdata.plots import (SPECTRUM_PLOT_RANGE_NM, VISIBLE_BAND_NM, chromaticity_diagram,
                           efficiency_overlays, planck_curve, spectral_band_colours,
                           spectrum_plot_wavelengths_nm)
+from starkiln.gui.compat import cache_static, steady_plot
 from starkiln.gui.theme import DIM, Theme
 
 OVERLAYS = {  # key -> (legend text, engine curve keys)
@@ -99,11 +100,8 @@ class SpectrumView(pg.PlotWidget):
     def __init__(self, parent=None):
         super().__init__(parent)
         self.setObjectName("spectrum-plot")
-        # the view fills its background itself: repainting it need not repaint the panels below
-        self.viewport().setAttribute(QtCore.Qt.WidgetAttribute.WA_OpaquePaintEvent)
-        self.setMenuEnabled(False)
+        steady_plot(self)
         self.setMouseEnabled(x=False, y=False)
-        self.hideButtons()
         self._theme = DIM
         plot = self.getPlotItem()
         plot.setLabel("bottom", "wavelength (nm)")
@@ -116,8 +114,6 @@ class SpectrumView(pg.PlotWidget):
         plot.getAxis("bottom").setTicks([[(v, f"{v:g}") for v in
                                           (a, b, 1000.0, 1500.0, 2000.0, 2500.0)],
                                          [(v, "") for v in np.arange(200.0, hi + 1, 100.0)]])
-        for name in ("left", "bottom"):
-            plot.getAxis(name).enableAutoSIPrefix(False)
         self.legend = plot.addLegend(offset=(-8, 36), labelTextSize="8pt")
         self._wl = spectrum_plot_wavelengths_nm(step_outside_nm=10.0, step_band_nm=2.0)
         a, b = VISIBLE_BAND_NM
@@ -128,7 +124,6 @@ class SpectrumView(pg.PlotWidget):
         self.edges = [pg.InfiniteLine(pos=v, angle=90, movable=False) for v in (a, b)]
         for line in self.edges:
             plot.addItem(line)
-            line.setCacheMode(QtWidgets.QGraphicsItem.CacheMode.DeviceCoordinateCache)
         self.edge_labels: list[pg.TextItem] = []  # the band edges are ticks of the x axis
         self.region_labels = [pg.TextItem("UV", anchor=(0.5, 0.0)),
                               pg.TextItem("visible", anchor=(0.5, 0.0)),
@@ -136,7 +131,7 @@ class SpectrumView(pg.PlotWidget):
         for item, x in zip(self.region_labels, (0.5 * (lo + a), 0.5 * (a + b), 2150.0)):
             item.setPos(x, 1.35)
             plot.addItem(item)
-            item.setCacheMode(QtWidgets.QGraphicsItem.CacheMode.DeviceCoordinateCache)
+        cache_static(*self.edges, *self.region_labels)
         self.overlays: dict[str, list[pg.PlotDataItem]] = {}
         for key, (label, parts) in OVERLAYS.items():
             items = []
@@ -154,7 +149,6 @@ class SpectrumView(pg.PlotWidget):
         self.peak_label = pg.TextItem("", anchor=(0.0, 0.0))
         plot.addItem(self.peak_label)
         self._overlay_on = {k: False for k in OVERLAYS}
-        plot.getViewBox().disableAutoRange()
         self._peak_nm = float("nan")
         self.set_theme(DIM)
 
@@ -263,15 +257,11 @@ class ChromaticityView(pg.PlotWidget):
     def __init__(self, parent=None):
         super().__init__(parent)
         self.setObjectName("chromaticity-plot")
-        self.viewport().setAttribute(QtCore.Qt.WidgetAttribute.WA_OpaquePaintEvent)
-        self.setMenuEnabled(False)
-        self.hideButtons()
+        steady_plot(self)
         plot = self.getPlotItem()
         plot.setAspectLocked(True)
         plot.setLabel("bottom", "x")
         plot.setLabel("left", "y")
-        for name in ("left", "bottom"):
-            plot.getAxis(name).enableAutoSIPrefix(False)
         self.locus = pg.PlotDataItem(antialias=True)
         self.planckian = pg.PlotDataItem(antialias=True)
         self.ticks = pg.ScatterPlotItem(size=5, symbol="o")
@@ -285,9 +275,8 @@ class ChromaticityView(pg.PlotWidget):
                      self.display_white, self.star):
             plot.addItem(item)
         # the star moves at every step; everything else is drawn once into a device cache
-        for item in (self.locus, self.planckian, self.ticks, self.gamut, self.scene_white,
-                     self.display_white):
-            item.setCacheMode(QtWidgets.QGraphicsItem.CacheMode.DeviceCoordinateCache)
+        cache_static(self.locus, self.planckian, self.ticks, self.gamut, self.scene_white,
+                     self.display_white)
         self.tick_labels: list[tuple[float, pg.TextItem]] = []
         self.wavelength_labels: list[pg.TextItem] = []
         self._theme = DIM
@@ -297,7 +286,6 @@ class ChromaticityView(pg.PlotWidget):
         self._star_xy = (float("nan"), float("nan"))
         self.set_theme(DIM)
         self.set_zoom("whole")
-        plot.getViewBox().disableAutoRange()
 
     def set_theme(self, theme: Theme) -> None:
         """Interface colours of the diagram."""
