@@ -53,10 +53,10 @@ def bench_steps(steps: int, table: bool = True) -> list[float]:
     window = create_window(store=None)
     window.resize(1280, 800)
     window.show()
-    window.session.use_slider_table(table)
+    window.model.use_slider_table(table)
     for _ in range(5):
         app.processEvents()
-    if window.session.table_ready != table:
+    if window.model.table_ready != table:
         raise RuntimeError("the slider table is not in the state asked for")
 
     class PaintCounter(QtCore.QObject):
@@ -119,9 +119,9 @@ def bench_table_build(repeats: int = 5) -> float:
     window = create_window(store=None)
     out = []
     for i in range(repeats):
-        window.session.set_settings(Settings(luminance_Y=0.5 - 0.01 * i))  # a new object each time
+        window.model.set_settings(Settings(luminance_Y=0.49 - 0.01 * i))  # new settings each time
         t0 = time.perf_counter()
-        window.session.build_table()
+        window.model.build_table()
         out.append((time.perf_counter() - t0) * 1e3)
     window.close()
     return statistics.median(out)

@@ -1,9 +1,11 @@
 """Starkiln window (PySide6): views and controls over the engine's settings and render path.
 
-This package draws; it computes no colour. Every colour comes from
-:func:`starkiln.engine.pipeline.render.render` or from :mod:`starkiln.engine.plotdata.plots` (which uses the same
-chain). Start it with ``starkiln`` (no subcommand), or build it with
-:func:`create_window`.
+This package draws; it computes no colour. The widgets bind to one Qt-free
+:class:`starkiln.gui.model.WindowModel`, which holds the settings, the current
+temperature and magnitude, and gets every colour from
+:func:`starkiln.engine.pipeline.render.render` and every plot from
+:mod:`starkiln.engine.plotdata` (which uses the same chain). Start it with
+``starkiln`` (no subcommand), or build it with :func:`create_window`.
 """
 
 _USER_STORE = object()

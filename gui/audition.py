@@ -1,40 +1,34 @@
 """Temperature audition: the mired slider, the kelvin entry, B-V and spectral class, the strip.
 
-The slider's integer positions are the engine's :class:`starkiln.engine.plotdata.plots.MiredScale`
-(equal mired steps); arrow keys step 1 mired, page keys 10 mired, the mouse
-wheel 1 mired per notch. The strip under the slider shows the render path's
-colours for equal-mired cells across the same range; clicking a cell jumps there.
+The slider's integer positions are the window model's slider scale
+(:attr:`starkiln.gui.model.WindowModel.slider_scale`, equal mired steps); arrow
+keys step 1 mired, page keys 10 mired, the mouse wheel 1 mired per notch. The
+slider hands its position to the model, which owns the one conversion to a
+temperature. The strip under the slider shows the render path's colours for
+equal-mired cells across the same range; clicking a cell jumps there.
 """
 
 from __future__ import annotations
 
-import numpy as np
 from PySide6 import QtCore, QtWidgets
 
-from starkiln.engine.pipeline.render import to_8bit
-from starkiln.engine.stars.temperature import SPECTRAL_CLASS_TEFF_K, temperature_from_bv
-from starkiln.engine.stars.temperature import temperature_from_spectral_class
-from starkiln.engine.plotdata.plots import MiredScale, temperature_to_mired
+from starkiln.engine.stars.temperature import SPECTRAL_CLASS_TEFF_K
 from starkiln.gui.fields import INPUT_ERRORS, ErrorLine, Field, parse_number, set_role
 from starkiln.gui.swatches import SwatchStrip
 from starkiln.gui.theme import Theme
 
-#: Slider resolution and key steps (in positions of the mired scale).
-POSITIONS_PER_MIRED = 4
-STRIP_CELLS = 48
-STRIP_TICKS_K = (1000, 1500, 2000, 3000, 4000, 5000, 6500, 10000, 40000)
-
 
 class TemperatureSlider(QtWidgets.QSlider):
-    """A horizontal QSlider on the mired scale; one wheel notch is one single step."""
+    """A horizontal QSlider on a mired scale; one wheel notch is one single step."""
 
-    def __init__(self, scale: MiredScale, parent=None):
+    def __init__(self, scale, parent=None):
         super().__init__(QtCore.Qt.Orientation.Horizontal, parent)
         self.setObjectName("temperature")
         self.scale = scale
+        per_mired = int(round(1.0 / scale.mired_per_step))
         self.setRange(0, scale.steps)
-        self.setSingleStep(POSITIONS_PER_MIRED)
-        self.setPageStep(10 * POSITIONS_PER_MIRED)
+        self.setSingleStep(per_mired)
+        self.setPageStep(10 * per_mired)
         self.setFocusPolicy(QtCore.Qt.FocusPolicy.WheelFocus)
         self.setToolTip("Temperature on an even mired scale: arrows 1 mired, Page Up/Down "
                         "10 mired, wheel 1 mired a notch")
@@ -54,12 +48,12 @@ class TemperatureSlider(QtWidgets.QSlider):
 
 
 class AuditionPanel(QtWidgets.QWidget):
-    """Slider, number entries and the temperature strip, bound to a :class:`starkiln.gui.session.Session`."""
+    """Slider, number entries and the temperature strip, bound to a :class:`starkiln.gui.model.WindowModel`."""
 
-    def __init__(self, session, parent=None):
+    def __init__(self, model, parent=None):
         super().__init__(parent)
-        self.session = session
-        self.scale = MiredScale(mired_per_step=1.0 / POSITIONS_PER_MIRED)
+        self.model = model
+        self.scale = model.slider_scale
         self.slider = TemperatureSlider(self.scale, self)
         self.strip = SwatchStrip("temperature-strip", height=52, parent=self)
         self.strip.setToolTip("Equal-mired steps across the range: click a swatch to jump to it")
@@ -128,15 +122,11 @@ class AuditionPanel(QtWidgets.QWidget):
 
         self.slider.valueChanged.connect(self._slider_moved)
         self.strip.picked.connect(self._strip_picked)
-        session.colour_changed.connect(self._on_colour)
-        session.settings_changed.connect(self.refresh_strip)
-        self._cell_temperatures = self.scale.cell_temperatures(STRIP_CELLS)
-        self._positions = self.scale.temperature_at(np.arange(self.scale.steps + 1))
-        session.set_slider_temperatures(self._positions)
-        self.strip.set_ticks([(float(self.scale.fraction_of(t)), f"{t:g} K")
-                              for t in STRIP_TICKS_K])
+        model.events.temperature.connect(lambda change: self._sync(change.origin))
+        model.events.plots.connect(lambda _change: self.refresh_strip())
+        self.strip.set_ticks([(fraction, f"{t:g} K") for fraction, t in model.strip_ticks])
         self.refresh_strip()
-        self._sync(session.temperature_K, "")
+        self._sync("")
 
     # -- theme / strip -----------------------------------------------------------------
     def set_theme(self, theme: Theme) -> None:
@@ -146,42 +136,39 @@ class AuditionPanel(QtWidgets.QWidget):
     @property
     def cell_temperatures(self):
         """Temperatures of the strip's cells (K)."""
-        return self._cell_temperatures
+        return self.model.plots.strip_temperature_K
 
     def refresh_strip(self) -> None:
-        """Render the strip's cells with the current settings."""
-        from starkiln.engine.pipeline.render import render
-
-        r = render(self.session.settings, self._cell_temperatures)
+        """Show the strip's cells for the current settings (the model's plot data)."""
+        plots = self.model.plots
         tips = [f"{t:.0f} K  {h}" + ("" if ok else "  (outside gamut, mapped)")
-                for t, h, ok in zip(self._cell_temperatures, r.hex(), r.in_gamut)]
-        self.strip.set_cells(to_8bit(r.rgb_encoded), tooltips=tips)
-        self._mark(self.session.temperature_K)
+                for t, h, ok in zip(plots.strip_temperature_K, plots.strip_hex,
+                                    plots.strip.in_gamut)]
+        self.strip.set_cells(plots.strip_rgb_8bit, tooltips=tips)
+        self._mark()
 
     # -- user input ----------------------------------------------------------------------
     def _slider_moved(self, position: int) -> None:
-        t = float(self._positions[position])
         try:
-            self.session.set_temperature(t, source="slider", position=position)
+            self.model.set_slider_position(position, origin="slider")
         except INPUT_ERRORS as exc:  # cannot happen inside the scale; shown if it does
             self.kelvin.show_error(str(exc))
 
     def _strip_picked(self, index: int) -> None:
-        self.session.set_temperature(float(self._cell_temperatures[index]), source="strip")
+        self.model.set_temperature(float(self.cell_temperatures[index]), origin="strip")
 
     def _apply_kelvin(self, value: float) -> None:
-        self.session.set_temperature(value, source="kelvin")
+        self.model.set_temperature(value, origin="kelvin")
 
     def _apply_bv(self, value: float) -> None:
-        self.session.set_temperature(float(temperature_from_bv(value)), source="bv")
+        self.model.set_temperature_from_bv(value, origin="bv")
 
     def _apply_class(self) -> None:
         text = self.spectral.currentText().strip()
         if not text:
             return
         try:
-            t = temperature_from_spectral_class(text)
-            self.session.set_temperature(t, source="class")
+            self.model.set_temperature_from_class(text, origin="class")
         except INPUT_ERRORS as exc:
             self.class_error.show_error(str(exc))
             set_role(self.spectral.lineEdit(), "invalid", True)
@@ -198,30 +185,23 @@ class AuditionPanel(QtWidgets.QWidget):
         self.spectral.setEditText(text)
         self._apply_class()
 
-    # -- session -> controls -----------------------------------------------------------
-    def _on_colour(self, what: str) -> None:
-        if what == "temperature":
-            self._sync(self.session.temperature_K, self.session.source)
-
-    def _sync(self, t: float, source: str) -> None:
-        if source != "slider":
-            self.slider.blockSignals(True)
-            self.slider.setValue(int(self.scale.position_of(t)))
-            self.slider.blockSignals(False)
-        if source != "kelvin":
-            self.kelvin.set_text(f"{t:.0f}")
-        if source != "bv":
+    # -- model -> controls -------------------------------------------------------------
+    def _sync(self, origin: str) -> None:
+        """Show the model's temperature in every control but the one it came from."""
+        m = self.model
+        if origin != "slider":
+            # the model is at this position already: the slider's echo changes nothing
+            self.slider.setValue(m.slider_position)
+        if origin != "kelvin":
+            self.kelvin.set_text(f"{m.temperature_K:.0f}")
+        if origin != "bv":
             self.bv.set_text("")
-        if source != "class":
-            self.spectral.blockSignals(True)
-            self.spectral.setCurrentIndex(-1)
-            self.spectral.setEditText("")
-            self.spectral.blockSignals(False)
+        if origin != "class":
+            self.spectral.setCurrentIndex(-1)  # user edits only are connected (activated,
+            self.spectral.setEditText("")      # editingFinished): nothing to block here
             self._clear_class_error()
-        self.mired_label.setText(f"{float(temperature_to_mired(t)):.1f} mired")
-        self._mark(t)
+        self.mired_label.setText(f"{m.mired:.1f} mired")
+        self._mark()
 
-    def _mark(self, t: float) -> None:
-        frac = float(self.scale.fraction_of(t))
-        index = min(int(frac * STRIP_CELLS), STRIP_CELLS - 1)
-        self.strip.set_marker(index, frac)
+    def _mark(self) -> None:
+        self.strip.set_marker(self.model.strip_cell, self.model.slider_fraction)

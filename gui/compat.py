@@ -1,17 +1,29 @@
-"""A guard against a Qt-binding defect that crashes long sessions.
+"""Workarounds for the libraries under the window, each in one place.
 
-PySide6-Essentials 6.12.0 on CPython 3.11 (seen here; 6.11.3 is clean) drops one
-reference to ``None`` on every call of a C++ method that returns ``void``
-(``QWidget.update()``, ``QPainterPath.moveTo()``...). On Python 3.11 ``None``
-is an ordinary refcounted object, so after some tens of thousands of calls the
-interpreter aborts with "Fatal Python error: none_dealloc". (From Python 3.12
-``None`` is immortal and the defect is harmless.)
+1. The plotting library (pyqtgraph) repaints more than a slider step needs:
+   a plot widget's viewport is transparent (so every repaint also repaints
+   the panels behind it), it adds a context menu and an auto-scale button,
+   re-scales its axes on every new curve, and shows SI prefixes on
+   wavelength and chromaticity axes. :func:`steady_plot` switches these off;
+   :func:`cache_static` draws items that do not move once into a device
+   cache. Both plots of the window use them (a slider step stays within
+   a few milliseconds; ``bench/bench_gui.py``).
 
-:func:`guard_none_refcount` measures the leak once at start-up. If it is
-present it warns on stderr, naming the fix (install a PySide6 without the
-defect), and raises ``None``'s reference count by 2**40 so that the session
-cannot reach zero: ``None`` is a static object that is never freed, so its
-count only has to stay positive.
+2. A guard against a Qt-binding defect that crashes long sessions.
+   PySide6-Essentials 6.12.0 on CPython 3.11 (seen here; 6.11.3 is clean) drops one
+   reference to ``None`` on every call of a C++ method that returns ``void``
+   (``QWidget.update()``, ``QPainterPath.moveTo()``...). On Python 3.11 ``None``
+   is an ordinary refcounted object, so after some tens of thousands of calls the
+   interpreter aborts with "Fatal Python error: none_dealloc". (From Python 3.12
+   ``None`` is immortal and the defect is harmless.)
+
+   :func:`guard_none_refcount` measures the leak once at start-up. If it is
+   present it warns on stderr, naming the fix (install a PySide6 without the
+   defect), and raises ``None``'s reference count by 2**40 so that the session
+   cannot reach zero: ``None`` is a static object that is never freed, so its
+   count only has to stay positive.
+
+Qt is imported inside the functions: importing this module costs nothing.
 """
 
 from __future__ import annotations
@@ -21,6 +33,32 @@ import sys
 
 _BUMP = 2 ** 40
 _applied = False
+
+
+def steady_plot(widget) -> None:
+    """Make a pyqtgraph ``PlotWidget`` repaint only itself, with fixed axes and no extras.
+
+    Opaque viewport (a repaint does not reach the panels behind it), no context
+    menu or auto-scale button, no automatic range (the caller sets it), no SI
+    prefix on the left and bottom axes.
+    """
+    from PySide6 import QtCore
+
+    widget.viewport().setAttribute(QtCore.Qt.WidgetAttribute.WA_OpaquePaintEvent)
+    widget.setMenuEnabled(False)
+    widget.hideButtons()
+    plot = widget.getPlotItem()
+    for name in ("left", "bottom"):
+        plot.getAxis(name).enableAutoSIPrefix(False)
+    plot.getViewBox().disableAutoRange()
+
+
+def cache_static(*items) -> None:
+    """Draw plot items that do not move at a slider step once, into a device-coordinate cache."""
+    from PySide6 import QtWidgets
+
+    for item in items:
+        item.setCacheMode(QtWidgets.QGraphicsItem.CacheMode.DeviceCoordinateCache)
 
 
 def none_leak_per_call() -> int:

@@ -1,27 +1,23 @@
 """The look controls: white, display, gamut and output, night sky (brightness and vision).
 
 Every option list is read from the engine (presets, methods, curves); every
-value goes to :meth:`starkiln.gui.session.Session.change`, which asks
+value goes to :meth:`starkiln.gui.model.WindowModel.change`, which asks
 :meth:`starkiln.engine.pipeline.settings.Settings.replace` to validate. A rejected value is
 shown under its control and the settings stay as they were.
 """
 
 from __future__ import annotations
 
-import dataclasses
-from functools import lru_cache
-from pathlib import Path
-
 from PySide6 import QtCore, QtWidgets
 
 from starkiln.engine.colour import displays as engine_displays
 from starkiln.engine.pipeline import settings as engine_settings
-from starkiln.engine.errors import StarkilnError
 from starkiln.engine.colour.gamut import GAMUT_METHODS
 from starkiln.engine.colour.observers import OBSERVERS
-from starkiln.engine.colour.whites import ADAPTATIONS, WHITE_PRESETS, resolve_white
+from starkiln.engine.colour.whites import ADAPTATIONS, WHITE_PRESETS
 from starkiln.gui.fields import INPUT_ERRORS, Choice, ErrorLine, Field, parse_number
 from starkiln.gui.fields import parse_optional_number
+from starkiln.gui.model import demo_display, demo_display_path
 
 WHITE_KINDS = ("daylight", "blackbody", "xy")
 DEMO_DISPLAY = "demo-dome"
@@ -47,22 +43,6 @@ VISION_LABELS = {"none": "Off: camera look"}
 CAUTION = ("Night vision here is an appearance model for rendering, not a basis for "
            "lighting-design compliance: follow local codes and licensed practice for that. "
            "For a dark-adapted dome audience avoid sudden bright flashes.")
-
-
-def demo_display_path() -> Path:
-    """Path of the invented dome projector profile in ``assets``."""
-    from starkiln.assets import asset_path
-
-    return Path(str(asset_path("dome_projector.json")))
-
-
-@lru_cache(maxsize=1)
-def demo_display():
-    """The invented dome projector's Display (read once), or None if the file is unreadable."""
-    try:
-        return engine_displays.load_display_profile(demo_display_path())
-    except StarkilnError:
-        return None
 
 
 def _fmt(v) -> str:
@@ -107,9 +87,9 @@ class _Form(QtWidgets.QWidget):
 class WhiteTab(_Form):
     """Scene white (preset, daylight or blackbody by temperature, or x, y); adaptation; observer."""
 
-    def __init__(self, session, parent=None):
+    def __init__(self, model, parent=None):
         super().__init__(parent)
-        self.session = session
+        self.model = model
         kinds = tuple(WHITE_PRESETS) + WHITE_KINDS
         self.kind = self.row("Scene white", Choice("white", kinds, self._kind_changed, LABELS),
                              "What should look neutral on the display")
@@ -140,17 +120,17 @@ class WhiteTab(_Form):
         self.form.addRow(self.white_error)
         self.resolved = self.note("")
         self.adaptation = self.row("Adaptation", Choice(
-            "adaptation", ADAPTATIONS, lambda v: session.change("adaptation", adaptation=v),
+            "adaptation", ADAPTATIONS, lambda v: model.change("adaptation", adaptation=v),
             LABELS), "Chromatic adaptation from the scene white to the display white")
         self.observer = self.row("Observer", Choice(
-            "observer", OBSERVERS, lambda v: session.change("observer", observer=v), LABELS),
+            "observer", OBSERVERS, lambda v: model.change("observer", observer=v), LABELS),
             "Standard colorimetric observer (CIE 15:2004)")
         self._pending_temperature = 6500.0
         self.refresh(force=True)
 
     def _kind_changed(self, kind: str) -> None:
         if kind in WHITE_PRESETS:
-            self.session.change("white", scene_white=kind)
+            self.model.change("white", scene_white=kind)
         else:
             self._apply_white()
         self._show_inputs(kind)
@@ -173,34 +153,34 @@ class WhiteTab(_Form):
             spec = f"xy:{xv:g},{yv:g}"
         else:
             spec = kind
-        self.session.change("white", scene_white=spec)
+        self.model.change("white", scene_white=spec)
 
     def _white_from_star(self) -> None:
-        t = self.session.temperature_K
+        t = self.model.temperature_K
         try:
-            self.session.change("white", scene_white=f"blackbody:{t:.0f}")
+            self.model.change("white", scene_white=f"blackbody:{t:.0f}")
         except INPUT_ERRORS as exc:
             self.white_error.show_error(str(exc))
             return
         self.white_error.clear_error()
 
     def refresh(self, force: bool = False) -> None:
-        """Show the session's settings in the controls (fields showing an error keep it)."""
-        s = self.session.settings
+        """Show the model's settings in the controls (fields showing an error keep it)."""
+        s = self.model.settings
         spec = s.scene_white
         head, _, rest = spec.partition(":")
         kind = head if rest else spec
         self.kind.set_value(kind)
         self._show_inputs(kind)
-        white = resolve_white(spec, s.observer)
-        texts = [(self.white_x, f"{white.xy[0]:.4f}"), (self.white_y, f"{white.xy[1]:.4f}")]
+        white_xy = self.model.plots.diagram.scene_white_xy
+        texts = [(self.white_x, f"{white_xy[0]:.4f}"), (self.white_y, f"{white_xy[1]:.4f}")]
         if kind in ("daylight", "blackbody"):
             texts.append((self.white_temperature, rest))
         for field, text in texts:
             if force or not field.has_error:
                 field.set_text(text)
         d = s.display
-        self.resolved.setText(f"Scene white x {white.xy[0]:.4f}, y {white.xy[1]:.4f} \u2192 "
+        self.resolved.setText(f"Scene white x {white_xy[0]:.4f}, y {white_xy[1]:.4f} \u2192 "
                               f"display white x {d.white_xy[0]:.4f}, y {d.white_xy[1]:.4f}")
         self.adaptation.set_value(s.adaptation)
         self.observer.set_value(s.observer)
@@ -211,9 +191,9 @@ class DisplayTab(_Form):
 
     message = QtCore.Signal(str, str)  # title, text: for a message box
 
-    def __init__(self, session, parent=None):
+    def __init__(self, model, parent=None):
         super().__init__(parent)
-        self.session = session
+        self.model = model
         options = tuple(engine_displays.PRESETS) + (DEMO_DISPLAY, CUSTOM_DISPLAY)
         self.display = self.row("Display", Choice("display", options, self._choose, LABELS),
                                 "Primaries, white, transfer function and peak luminance")
@@ -249,13 +229,12 @@ class DisplayTab(_Form):
         if key == DEMO_DISPLAY:
             self.open_profile(demo_display_path())
             return
-        self.session.change("display", display=engine_displays.PRESETS[key])
+        self.model.change("display", display=engine_displays.PRESETS[key])
 
     def open_profile(self, path) -> bool:
         """Load a JSON display profile; a bad file gives a message box and changes nothing."""
         try:
-            display = engine_displays.load_display_profile(path)
-            self.session.change("display", display=display)
+            self.model.open_display_profile(path, origin="display")
         except INPUT_ERRORS as exc:
             self.error.show_error(str(exc))
             self.message.emit("Display profile not loaded", str(exc))
@@ -269,7 +248,7 @@ class DisplayTab(_Form):
         from starkiln.engine.plotdata.plots import save_display_profile
 
         try:
-            save_display_profile(self.session.settings.display, path)
+            save_display_profile(self.model.settings.display, path)
         except (INPUT_ERRORS + (OSError,)) as exc:
             self.message.emit("Display profile not saved", str(exc))
             return False
@@ -291,15 +270,15 @@ class DisplayTab(_Form):
     def edit(self) -> "DisplayEditor":
         """Open the profile editor (non-modal) on the current display."""
         if self.editor is None:
-            self.editor = DisplayEditor(self.session, self)
-        self.editor.load(self.session.settings.display)
+            self.editor = DisplayEditor(self.model, self)
+        self.editor.load(self.model.settings.display)
         self.editor.show()
         self.editor.raise_()
         return self.editor
 
     def refresh(self, force: bool = False) -> None:
-        """Show the session's display."""
-        d = self.session.settings.display
+        """Show the model's display."""
+        d = self.model.settings.display
         key = next((k for k, v in engine_displays.PRESETS.items() if v == d), None)
         if key is None:
             key = DEMO_DISPLAY if d == demo_display() else CUSTOM_DISPLAY
@@ -317,11 +296,11 @@ class DisplayTab(_Form):
 class DisplayEditor(QtWidgets.QDialog):
     """Edit a display profile: primaries, white, transfer, gamma, peak; apply, open, save."""
 
-    def __init__(self, session, parent=None):
+    def __init__(self, model, parent=None):
         super().__init__(parent)
         self.setObjectName("display-editor")
         self.setWindowTitle("Display profile")
-        self.session = session
+        self.model = model
         form = QtWidgets.QFormLayout(self)
         self.name = QtWidgets.QLineEdit(self)
         self.name.setObjectName("field-display-name")
@@ -377,21 +356,22 @@ class DisplayEditor(QtWidgets.QDialog):
         self.fields["peak"].setText(f"{d.peak_luminance_cd_m2:g}")
         self.error.clear_error()
 
-    def build(self):
-        """A validated engine Display from the fields (raises StarkilnError)."""
+    def fields_values(self) -> dict:
+        """The display fields as typed (``name``, ``red_xy``... ``peak_luminance_cd_m2``);
+        raises StarkilnError for a field that is not a number."""
         labels = {"gamma": "gamma", "peak": "peak luminance"}
         v = {k: parse_number(e.text(), labels.get(k, k.replace("_", " ")))
              for k, e in self.fields.items()}
-        name = self.name.text().strip() or "custom"
-        return engine_displays.Display(
-            name, (v["red_x"], v["red_y"]), (v["green_x"], v["green_y"]),
-            (v["blue_x"], v["blue_y"]), (v["white_x"], v["white_y"]),
-            self.transfer.currentData(), v["gamma"], v["peak"])
+        return {"name": self.name.text().strip() or "custom",
+                "red_xy": (v["red_x"], v["red_y"]), "green_xy": (v["green_x"], v["green_y"]),
+                "blue_xy": (v["blue_x"], v["blue_y"]), "white_xy": (v["white_x"], v["white_y"]),
+                "transfer": self.transfer.currentData(), "gamma": v["gamma"],
+                "peak_luminance_cd_m2": v["peak"]}
 
     def apply(self) -> bool:
-        """Validate and use the edited display; errors stay in the dialog."""
+        """Validate (the engine does) and use the edited display; errors stay in the dialog."""
         try:
-            self.session.change("display", display=self.build())
+            self.model.change_display("display", **self.fields_values())
         except INPUT_ERRORS as exc:
             self.error.show_error(str(exc))
             return False
@@ -402,28 +382,28 @@ class DisplayEditor(QtWidgets.QDialog):
 class OutputTab(_Form):
     """Gamut mapping and normalisation."""
 
-    def __init__(self, session, parent=None):
+    def __init__(self, model, parent=None):
         super().__init__(parent)
-        self.session = session
+        self.model = model
         self.gamut = self.row("Gamut mapping", Choice(
-            "gamut", GAMUT_METHODS, lambda v: session.change("gamut", gamut=v), LABELS),
+            "gamut", GAMUT_METHODS, lambda v: model.change("gamut", gamut=v), LABELS),
             "How colours outside the display's triangle are brought inside")
         self.normalisation = self.row("Normalisation", Choice(
             "normalisation", engine_settings.NORMALISATIONS,
-            lambda v: session.change("normalisation", normalisation=v), LABELS),
+            lambda v: model.change("normalisation", normalisation=v), LABELS),
             "Brightest channel = 1 keeps every star at full brightness; fixed luminance "
             "keeps every star at the same relative luminance Y")
         self.luminance = self.row("Luminance Y", Field(
             "luminance_Y", lambda s: parse_number(s, "luminance_Y"),
-            lambda v: session.change("output", luminance_Y=v), width=70, placeholder="0.5"),
+            lambda v: model.change("output", luminance_Y=v), width=70, placeholder="0.5"),
             "Relative luminance for fixed-luminance normalisation, 0 < Y <= 1")
         self.note("A swatch outside the display's gamut is marked \u26a0 and mapped by the "
                   "method above; the readouts say which.")
         self.refresh(force=True)
 
     def refresh(self, force: bool = False) -> None:
-        """Show the session's settings."""
-        s = self.session.settings
+        """Show the model's settings."""
+        s = self.model.settings
         self.gamut.set_value(s.gamut)
         self.normalisation.set_value(s.normalisation)
         if force or not self.luminance.has_error:
@@ -445,30 +425,30 @@ class NightTab(_Form):
          "Cool tint of colourless faint stars: a rendering convention, not physics"),
     )
 
-    def __init__(self, session, parent=None):
+    def __init__(self, model, parent=None):
         super().__init__(parent)
-        self.session = session
+        self.model = model
         self.magnitude = self.row("Star magnitude", Field(
             "magnitude", lambda s: parse_number(s, "magnitude"),
-            lambda v: session.set_magnitude(v, "night"), width=70, unit="mag"),
+            lambda v: model.set_magnitude(v, "night"), width=70, unit="mag"),
             "Apparent visual magnitude of the auditioned star, -30 to +30")
         self.aperture = self.row("Aperture", Field(
             "aperture_mm", lambda s: parse_optional_number(s, "aperture_mm"),
-            lambda v: session.change("night", aperture_mm=v), width=84, unit="mm",
+            lambda v: model.change("night", aperture_mm=v), width=84, unit="mm",
             placeholder="naked eye"),
             "Instrument aperture in mm; leave empty for the naked eye")
         self.numbers: dict[str, Field] = {}
         for key, label, unit, tip in self.NUMBER_FIELDS:
             f = Field(key, lambda s, k=key: parse_number(s, k),
-                      lambda v, k=key: session.change("night", **{k: v}), width=70, unit=unit)
+                      lambda v, k=key: model.change("night", **{k: v}), width=70, unit=unit)
             self.numbers[key] = self.row(label, f, tip)
         self.vision = self.row("Vision model", Choice(
-            "vision", engine_settings.VISIONS, lambda v: session.change("night", vision=v),
+            "vision", engine_settings.VISIONS, lambda v: model.change("night", vision=v),
             {**LABELS, **VISION_LABELS}), "Mesopic: faint stars lose colour as cone vision "
             "fades (CIE 191:2010); off: full colour at every magnitude")
         self.curve = self.row("Intensity curve", Choice(
             "intensity_curve", engine_settings.INTENSITY_CURVES,
-            lambda v: session.change("night", intensity_curve=v), LABELS),
+            lambda v: model.change("night", intensity_curve=v), LABELS),
             "Tone curve from magnitude to display intensity")
         self.compensate = QtWidgets.QCheckBox("Compensate for a dark dome", self)
         self.compensate.setObjectName("check-compensate")
@@ -487,21 +467,20 @@ class NightTab(_Form):
 
     def _compensate(self, on: bool) -> None:
         try:
-            self.session.change("night", compensate=bool(on))
+            self.model.change("night", compensate=bool(on))
         except INPUT_ERRORS as exc:
             self.compensate_error.show_error(str(exc))
             return
         self.compensate_error.clear_error()
 
     def _apply_peak(self, value: float) -> None:
-        d = self.session.settings.display
-        self.session.change("night", display=dataclasses.replace(d, peak_luminance_cd_m2=value))
+        self.model.change_display("night", peak_luminance_cd_m2=value)
 
     def refresh(self, force: bool = False) -> None:
-        """Show the session's settings."""
-        s = self.session.settings
+        """Show the model's settings and magnitude."""
+        s = self.model.settings
         if force or not self.magnitude.has_error:
-            self.magnitude.set_text(_fmt(self.session.magnitude))
+            self.magnitude.set_text(_fmt(self.model.magnitude))
         if force or not self.peak.has_error:
             self.peak.set_text(_fmt(s.display.peak_luminance_cd_m2))
         if force or not self.aperture.has_error:
@@ -512,22 +491,20 @@ class NightTab(_Form):
         self.numbers["transmission"].setEnabled(s.aperture_mm is not None)
         self.vision.set_value(s.vision)
         self.curve.set_value(s.intensity_curve)
-        self.compensate.blockSignals(True)
-        self.compensate.setChecked(bool(s.compensate))
-        self.compensate.blockSignals(False)
+        self.compensate.setChecked(bool(s.compensate))  # equal settings: the model ignores it
 
 
 class LookPanel(QtWidgets.QTabWidget):
-    """The tabs of look controls, kept in step with the session."""
+    """The tabs of look controls, kept in step with the model."""
 
-    def __init__(self, session, parent=None):
+    def __init__(self, model, parent=None):
         super().__init__(parent)
         self.setObjectName("look-panel")
-        self.session = session
-        self.white = WhiteTab(session, self)
-        self.display = DisplayTab(session, self)
-        self.output = OutputTab(session, self)
-        self.night = NightTab(session, self)
+        self.model = model
+        self.white = WhiteTab(model, self)
+        self.display = DisplayTab(model, self)
+        self.output = OutputTab(model, self)
+        self.night = NightTab(model, self)
         for tab, title in ((self.white, "White"), (self.display, "Display"),
                            (self.output, "Gamut"), (self.night, "Night sky")):
             scroll = QtWidgets.QScrollArea(self)
@@ -536,14 +513,12 @@ class LookPanel(QtWidgets.QTabWidget):
             scroll.setHorizontalScrollBarPolicy(QtCore.Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
             tab.setMinimumWidth(300)
             self.addTab(scroll, title)
-        session.settings_changed.connect(self.refresh)
-        session.colour_changed.connect(self._colour)
-
-    def _colour(self, what: str) -> None:
-        if what == "magnitude" and self.session.source != "night":
-            self.night.refresh()
+        model.events.settings.connect(lambda _change: self.refresh())
+        # the magnitude field shows the magnitude; its own entries need no echo
+        model.events.magnitude.connect(
+            lambda change: change.origin != "night" and self.night.refresh())
 
     def refresh(self, force: bool = False) -> None:
-        """Show the session's settings in every tab."""
+        """Show the model's settings in every tab."""
         for tab in (self.white, self.display, self.output, self.night):
             tab.refresh(force=force)

@@ -1,11 +1,13 @@
-"""The current colour: the large swatch, its readouts, the night inset, the magnitude strip."""
+"""The current colour: the large swatch, its readouts, the night inset, the magnitude strip.
+
+Everything shown is the window model's :attr:`starkiln.gui.model.WindowModel.colour`.
+"""
 
 from __future__ import annotations
 
 import numpy as np
 from PySide6 import QtCore, QtGui, QtWidgets
 
-from starkiln.engine.pipeline.render import to_8bit, to_hex
 from starkiln.gui.swatches import ColourSwatch, Readouts, SwatchStrip
 from starkiln.gui.theme import Theme
 
@@ -35,13 +37,13 @@ def _floats(v) -> str:
 
 
 class CurrentColourPanel(QtWidgets.QWidget):
-    """Swatch and readouts of the session's current colour, plus the magnitude strip."""
+    """Swatch and readouts of the model's current colour, plus the magnitude strip."""
 
     status = QtCore.Signal(str)
 
-    def __init__(self, session, parent=None):
+    def __init__(self, model, parent=None):
         super().__init__(parent)
-        self.session = session
+        self.model = model
         self.swatch = ColourSwatch("current-swatch", minimum=(220, 150), parent=self)
         self.swatch.setToolTip("The render path's colour for this temperature, full intensity")
         self.readouts = Readouts(ROWS + NIGHT_ROWS, self, tips=TIPS)
@@ -74,8 +76,9 @@ class CurrentColourPanel(QtWidgets.QWidget):
         layout.addLayout(row)
         layout.addWidget(ladder_title)
         layout.addWidget(self.magnitude_strip)
-        session.colour_changed.connect(self._on_colour)
-        self._on_colour("settings")
+        for event in (model.events.temperature, model.events.magnitude, model.events.settings):
+            event.connect(lambda _change: self._show())
+        self._show()
 
     def set_theme(self, theme: Theme) -> None:
         """Interface colours of the swatches and strip."""
@@ -87,42 +90,42 @@ class CurrentColourPanel(QtWidgets.QWidget):
         self.status.emit("All readouts copied")
 
     def _magnitude_picked(self, index: int) -> None:
-        mags, _ = self.session.ladder
-        self.session.set_magnitude(float(mags[index]), source="magnitude-strip")
+        mags = self.model.colour.ladder_magnitudes
+        self.model.set_magnitude(float(mags[index]), origin="magnitude-strip")
 
-    def _on_colour(self, what: str) -> None:
-        s = self.session
-        r = s.current
-        rgb8 = to_8bit(r.rgb_encoded)
+    def _show(self) -> None:
+        c = self.model.colour
+        r = c.plain
+        rgb8 = c.rgb_8bit
         ok = bool(r.in_gamut)
-        gamut = s.settings.gamut
+        gamut = self.model.settings.gamut
         self.swatch.set_colour(rgb8, not ok, badge=f"outside gamut, mapped by {gamut}",
-                               caption=f"{s.temperature_K:.0f} K")
+                               caption=f"{c.temperature_K:.0f} K")
         ro = self.readouts
-        ro.set_value("hex", str(r.hex()))
+        ro.set_value("hex", c.hex)
         ro.set_value("8bit", " ".join(f"{int(v):3d}" for v in rgb8))
         ro.set_value("linear", _floats(r.rgb_linear))
         ro.set_value("encoded", _floats(r.rgb_encoded))
         ro.set_value("xy", f"{float(r.xy[0]):.5f}, {float(r.xy[1]):.5f}")
         ro.set_value("gamut", "yes" if ok else f"\u26a0 no: mapped ({gamut})", alert=not ok)
-        m = s.at_magnitude
-        ro.set_value("night-hex", f"{s.magnitude:g}: {to_hex(m.rgb_dimmed_encoded)}")
+        m = c.at_magnitude
+        ro.set_value("night-hex", f"{c.magnitude:g}: {c.dimmed_hex}")
         ro.set_value("night", f"{float(m.cone_weight):.3f}  sat {float(m.saturation):.3f}")
         reached = m.compensation_reached
         dome = "" if reached is None else (
             "  dome ok" if bool(reached) else "  dome short")
         ro.set_value("intensity", f"{float(m.intensity):.3f}{dome}",
                      alert=reached is not None and not bool(reached))
-        self.night_swatch.set_colour(to_8bit(m.rgb_dimmed_encoded))
-        self._update_ladder(what)
+        self.night_swatch.set_colour(c.dimmed_rgb_8bit)
+        self._show_ladder(c)
 
-    def _update_ladder(self, what: str) -> None:
-        mags, lr = self.session.ladder
+    def _show_ladder(self, c) -> None:
+        mags, lr = c.ladder_magnitudes, c.ladder
         strip = self.magnitude_strip
         labels = [f"{m:g}" for m in mags]
         tips = [f"magnitude {m:g}: intensity {i:.3f}, cone weight {c:.3f}, "
                 f"saturation {sa:.3f}" for m, i, c, sa in
                 zip(mags, lr.intensity, lr.cone_weight, lr.saturation)]
-        strip.set_cells(to_8bit(lr.rgb_dimmed_encoded), labels=labels, tooltips=tips)
-        index = int(np.argmin(np.abs(mags - self.session.magnitude)))
+        strip.set_cells(c.ladder_rgb_8bit, labels=labels, tooltips=tips)
+        index = int(np.argmin(np.abs(mags - c.magnitude)))
         strip.set_marker(index)

@@ -5,7 +5,7 @@ with :func:`starkiln.engine.atomic.check_writable`, builds with
 :func:`starkiln.engine.exports.textures.build_lut` and writes with :func:`starkiln.engine.exports.textures.write_lut`;
 ``starkiln palette`` (:func:`starkiln.cli.exports.cmd_palette`) uses
 :func:`starkiln.engine.exports.palettes.build_palette` and :func:`starkiln.engine.exports.palettes.write_palette`.
-The dialogs call the same functions in the same order with the session's
+The dialogs call the same functions in the same order with the window model's
 settings, so a file written here is byte-identical to the command line's with
 the same settings and options. The preview is built by the same functions (at
 a reduced size for large textures).
@@ -42,9 +42,9 @@ class _ExportDialog(QtWidgets.QDialog):
     default_name = "out"
     filters = ""
 
-    def __init__(self, session, parent=None):
+    def __init__(self, model, parent=None):
         super().__init__(parent)
-        self.session = session
+        self.model = model
         self.form = QtWidgets.QFormLayout()
         self.path = QtWidgets.QLineEdit(self)
         self.path.setObjectName("export-path")
@@ -94,6 +94,11 @@ class _ExportDialog(QtWidgets.QDialog):
         self.layout_.addWidget(buttons)
         self.path.setText(str(Path.home() / self.default_name))
         self.path.editingFinished.connect(self.refresh_preview)
+
+    @property
+    def session(self):
+        """The window model (the name the build and write calls below read it by)."""
+        return self.model
 
     def _browse(self) -> None:
         path, _ = QtWidgets.QFileDialog.getSaveFileName(self, self.windowTitle(),
@@ -151,8 +156,8 @@ class LutDialog(_ExportDialog):
     default_name = "star-lut.png"
     filters = "Lookup textures (*.png *.exr)"
 
-    def __init__(self, session, parent=None):
-        super().__init__(session, parent)
+    def __init__(self, model, parent=None):
+        super().__init__(model, parent)
         from starkiln.engine.exports.textures import AXIS_MAPPINGS, DEFAULT_TEMPERATURE_RANGE_K, DEPTHS
 
         self.setObjectName("lut-dialog")
@@ -167,7 +172,7 @@ class LutDialog(_ExportDialog):
         self.form.addRow("Temperature axis", self.axis)
         self.with_mags = QtWidgets.QCheckBox("Magnitudes down the texture", self)
         self.with_mags.setObjectName("lut-magnitudes")
-        s = session.settings
+        s = model.settings
         self.m_bright = self._edit("lut-mbright", f"{s.magnitude_bright:g}")
         self.m_faint = self._edit("lut-mfaint", f"{s.magnitude_faint:g}")
         self.form.addRow(self.with_mags, self._pair(self.m_bright, self.m_faint, "to"))
@@ -294,8 +299,8 @@ class PaletteDialog(_ExportDialog):
     default_name = "star-palette.json"
     filters = "Palettes (*.json *.csv *.gpl *.png)"
 
-    def __init__(self, session, parent=None):
-        super().__init__(session, parent)
+    def __init__(self, model, parent=None):
+        super().__init__(model, parent)
         from starkiln.engine.exports.textures import AXIS_MAPPINGS, DEFAULT_TEMPERATURE_RANGE_K
 
         self.setObjectName("palette-dialog")

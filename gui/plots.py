@@ -1,18 +1,18 @@
-"""The spectrum plot and the chromaticity diagram (pyqtgraph), drawn from engine data.
+"""The spectrum plot and the chromaticity diagram (pyqtgraph), drawn from the window model.
 
-Every curve, point and fill colour comes from :mod:`starkiln.engine.plotdata.plots` or from
-:func:`starkiln.engine.pipeline.render.render`; this module only places them.
+Every curve, point and fill colour comes from the :class:`starkiln.gui.model.WindowModel`
+(which has them from :mod:`starkiln.engine.plotdata.plots` and
+:func:`starkiln.engine.pipeline.render.render`); this module only places them.
 """
 
 from __future__ import annotations
 
 import numpy as np
 import pyqtgraph as pg
-from PySide6 import QtCore, QtGui, QtWidgets
+from PySide6 import QtCore, QtGui
 
-from starkiln.engine.plotdata.plots import (SPECTRUM_PLOT_RANGE_NM, VISIBLE_BAND_NM, chromaticity_diagram,
-                          efficiency_overlays, planck_curve, spectral_band_colours,
-                          spectrum_plot_wavelengths_nm)
+from starkiln.engine.plotdata.plots import SPECTRUM_PLOT_RANGE_NM, VISIBLE_BAND_NM
+from starkiln.gui.compat import cache_static, steady_plot
 from starkiln.gui.theme import DIM, Theme
 
 OVERLAYS = {  # key -> (legend text, engine curve keys)
@@ -96,14 +96,12 @@ class SpectrumCurve(pg.GraphicsObject):
 class SpectrumView(pg.PlotWidget):
     """Planck curve of the current temperature, the visible band filled with spectral colours."""
 
-    def __init__(self, parent=None):
+    def __init__(self, model, parent=None):
         super().__init__(parent)
         self.setObjectName("spectrum-plot")
-        # the view fills its background itself: repainting it need not repaint the panels below
-        self.viewport().setAttribute(QtCore.Qt.WidgetAttribute.WA_OpaquePaintEvent)
-        self.setMenuEnabled(False)
+        self.model = model
+        steady_plot(self)
         self.setMouseEnabled(x=False, y=False)
-        self.hideButtons()
         self._theme = DIM
         plot = self.getPlotItem()
         plot.setLabel("bottom", "wavelength (nm)")
@@ -116,10 +114,8 @@ class SpectrumView(pg.PlotWidget):
         plot.getAxis("bottom").setTicks([[(v, f"{v:g}") for v in
                                           (a, b, 1000.0, 1500.0, 2000.0, 2500.0)],
                                          [(v, "") for v in np.arange(200.0, hi + 1, 100.0)]])
-        for name in ("left", "bottom"):
-            plot.getAxis(name).enableAutoSIPrefix(False)
         self.legend = plot.addLegend(offset=(-8, 36), labelTextSize="8pt")
-        self._wl = spectrum_plot_wavelengths_nm(step_outside_nm=10.0, step_band_nm=2.0)
+        self._wl = model.spectrum_wavelength_nm
         a, b = VISIBLE_BAND_NM
         self._band = (self._wl >= a) & (self._wl <= b)
         # the whole curve is filled faintly (ultraviolet and infrared show so); the visible
@@ -128,7 +124,6 @@ class SpectrumView(pg.PlotWidget):
         self.edges = [pg.InfiniteLine(pos=v, angle=90, movable=False) for v in (a, b)]
         for line in self.edges:
             plot.addItem(line)
-            line.setCacheMode(QtWidgets.QGraphicsItem.CacheMode.DeviceCoordinateCache)
         self.edge_labels: list[pg.TextItem] = []  # the band edges are ticks of the x axis
         self.region_labels = [pg.TextItem("UV", anchor=(0.5, 0.0)),
                               pg.TextItem("visible", anchor=(0.5, 0.0)),
@@ -136,7 +131,7 @@ class SpectrumView(pg.PlotWidget):
         for item, x in zip(self.region_labels, (0.5 * (lo + a), 0.5 * (a + b), 2150.0)):
             item.setPos(x, 1.35)
             plot.addItem(item)
-            item.setCacheMode(QtWidgets.QGraphicsItem.CacheMode.DeviceCoordinateCache)
+        cache_static(*self.edges, *self.region_labels)
         self.overlays: dict[str, list[pg.PlotDataItem]] = {}
         for key, (label, parts) in OVERLAYS.items():
             items = []
@@ -154,9 +149,12 @@ class SpectrumView(pg.PlotWidget):
         self.peak_label = pg.TextItem("", anchor=(0.0, 0.0))
         plot.addItem(self.peak_label)
         self._overlay_on = {k: False for k in OVERLAYS}
-        plot.getViewBox().disableAutoRange()
         self._peak_nm = float("nan")
         self.set_theme(DIM)
+        model.events.plots.connect(lambda _change: self._show_plots())
+        model.events.temperature.connect(lambda _change: self._show_curve())
+        self._show_plots()
+        self._show_curve()
 
     # -- updates ------------------------------------------------------------------------
     def set_theme(self, theme: Theme) -> None:
@@ -189,9 +187,10 @@ class SpectrumView(pg.PlotWidget):
         self.legend.setPen(_pen(theme.border, 1))
         self._rebuild_legend()
 
-    def set_settings(self, settings) -> None:
+    def _show_plots(self) -> None:
         """New band colours (observer, whites, display, gamut) and overlays (observer)."""
-        band = spectral_band_colours(settings)
+        plots = self.model.plots
+        band = plots.band
         a, b = VISIBLE_BAND_NM
         grad = QtGui.QLinearGradient(a, 0.0, b, 0.0)
         for wl, rgb in zip(band.wavelength_nm, band.rgb_8bit):
@@ -199,15 +198,15 @@ class SpectrumView(pg.PlotWidget):
                                                              int(rgb[2])))
         self.curve.set_band_brush(QtGui.QBrush(grad))
         self.band_colours = band
-        curves = efficiency_overlays(settings.observer)
+        curves = plots.overlays
         for key, (_label, parts) in OVERLAYS.items():
             for item, part in zip(self.overlays[key], parts):
                 wl, values = curves[part]
                 item.setData(wl, values)
 
-    def set_temperature(self, temperature_K: float) -> None:
-        """Redraw the Planck curve and its peak for a temperature."""
-        c = planck_curve(temperature_K, self._wl)
+    def _show_curve(self) -> None:
+        """Redraw the Planck curve and its peak for the model's temperature."""
+        c = self.model.spectrum
         y = c.relative_radiance
         self.curve.set_curve(self._wl, y, self._band)
         self._peak_nm = c.peak_nm
@@ -260,18 +259,15 @@ class ChromaticityView(pg.PlotWidget):
     The key to the symbols is :meth:`key_html`, shown under the plot by the window.
     """
 
-    def __init__(self, parent=None):
+    def __init__(self, model, parent=None):
         super().__init__(parent)
         self.setObjectName("chromaticity-plot")
-        self.viewport().setAttribute(QtCore.Qt.WidgetAttribute.WA_OpaquePaintEvent)
-        self.setMenuEnabled(False)
-        self.hideButtons()
+        self.model = model
+        steady_plot(self)
         plot = self.getPlotItem()
         plot.setAspectLocked(True)
         plot.setLabel("bottom", "x")
         plot.setLabel("left", "y")
-        for name in ("left", "bottom"):
-            plot.getAxis(name).enableAutoSIPrefix(False)
         self.locus = pg.PlotDataItem(antialias=True)
         self.planckian = pg.PlotDataItem(antialias=True)
         self.ticks = pg.ScatterPlotItem(size=5, symbol="o")
@@ -285,19 +281,19 @@ class ChromaticityView(pg.PlotWidget):
                      self.display_white, self.star):
             plot.addItem(item)
         # the star moves at every step; everything else is drawn once into a device cache
-        for item in (self.locus, self.planckian, self.ticks, self.gamut, self.scene_white,
-                     self.display_white):
-            item.setCacheMode(QtWidgets.QGraphicsItem.CacheMode.DeviceCoordinateCache)
+        cache_static(self.locus, self.planckian, self.ticks, self.gamut, self.scene_white,
+                     self.display_white)
         self.tick_labels: list[tuple[float, pg.TextItem]] = []
         self.wavelength_labels: list[pg.TextItem] = []
         self._theme = DIM
         self._zoom = "whole"
         self.diagram = None
-        self.settings = None
         self._star_xy = (float("nan"), float("nan"))
         self.set_theme(DIM)
         self.set_zoom("whole")
-        plot.getViewBox().disableAutoRange()
+        model.events.plots.connect(lambda _change: self._show_plots())
+        model.events.temperature.connect(lambda _change: self._show_star())
+        self._show_plots()
 
     def set_theme(self, theme: Theme) -> None:
         """Interface colours of the diagram."""
@@ -322,9 +318,8 @@ class ChromaticityView(pg.PlotWidget):
     def key_html(self) -> str:
         """Rich-text key to the symbols, in the theme's colours."""
         t = self._theme
-        s = self.settings
-        white = s.scene_white if s is not None else ""
-        disp = s.display.name if s is not None else ""
+        s = self.model.settings
+        white, disp = s.scene_white, s.display.name
 
         def span(colour, text):
             return f'<span style="color:{colour}">{text}</span>'
@@ -337,11 +332,10 @@ class ChromaticityView(pg.PlotWidget):
             span(t.accent, "□ display white"),
             span(t.marker, "★ this star")]))
 
-    def set_settings(self, settings) -> None:
+    def _show_plots(self) -> None:
         """Redraw everything that depends on the settings (observer, whites, display)."""
-        d = chromaticity_diagram(settings)
+        d = self.model.plots.diagram
         self.diagram = d
-        self.settings = settings
         plot = self.getPlotItem()
         self.locus.setData(d.spectral_locus_xy[:, 0], d.spectral_locus_xy[:, 1])
         self.planckian.setData(d.planckian_xy[:, 0], d.planckian_xy[:, 1])
@@ -366,16 +360,19 @@ class ChromaticityView(pg.PlotWidget):
             item.setPos(x, y)
             plot.addItem(item)
             self.wavelength_labels.append(item)
-        obs = "CIE 1931 2\u00b0" if settings.observer == "cie1931" else "CIE 1964 10\u00b0"
+        obs = "CIE 1931 2\u00b0" if d.observer == "cie1931" else "CIE 1964 10\u00b0"
         plot.setLabel("bottom", f"x ({obs} observer)")
         self.set_theme(self._theme)
         self._label_visibility()
+        self._show_star()
 
-    def set_star(self, xy, rgb8) -> None:
+    def _show_star(self) -> None:
         """Move the current star's marker and fill it with its display colour."""
+        c = self.model.colour
+        xy = c.plain.xy
         self._star_xy = (float(xy[0]), float(xy[1]))
         self.star.setPos(self._star_xy[0], self._star_xy[1])
-        rgb = tuple(int(v) for v in rgb8)
+        rgb = tuple(int(v) for v in c.rgb_8bit)
         if rgb != self._star_rgb:  # a new fill re-renders the symbol; moving does not
             self._star_rgb = rgb
             self.star.setBrush(QtGui.QColor(*rgb))

@@ -1,6 +1,7 @@
 """The small sky preview: the invented demo cluster drawn with the current settings.
 
-The picture comes whole from :func:`starkiln.engine.plotdata.plots.sky_image` (which asks the
+The picture comes whole from the window model (:meth:`starkiln.gui.model.WindowModel.sky_image`,
+which has it from :func:`starkiln.engine.plotdata.sky.sky_image`, which asks the
 render path for every star's colour and intensity); this widget shows it at
 one device pixel per picture pixel and turns clicks into "audition this star".
 """
@@ -11,7 +12,6 @@ import numpy as np
 from PySide6 import QtCore, QtGui, QtWidgets
 
 from starkiln.engine.errors import StarkilnError
-from starkiln.engine.plotdata.plots import Cluster, load_demo_cluster, sky_image
 from starkiln.gui.theme import DIM, Theme
 
 
@@ -20,26 +20,22 @@ class SkyPreview(QtWidgets.QWidget):
 
     Signals
     -------
-    star_picked(int) : index of the star clicked.
+    star_picked(int) : index of the star clicked (the model auditions it first).
     """
 
     star_picked = QtCore.Signal(int)
 
-    def __init__(self, cluster: Cluster | None = None, parent=None):
+    def __init__(self, model, parent=None):
         super().__init__(parent)
         self.setObjectName("sky-preview")
         self.setMinimumSize(220, 150)
         self.setAttribute(QtCore.Qt.WidgetAttribute.WA_OpaquePaintEvent)
         self.setCursor(QtCore.Qt.CursorShape.CrossCursor)
         self.setMouseTracking(True)
-        self._cluster = cluster
-        self._error = ""
-        if cluster is None:
-            try:
-                self._cluster = load_demo_cluster()
-            except StarkilnError as exc:
-                self._error = str(exc)
-        self._settings = None
+        self.model = model
+        self._cluster = model.cluster
+        self._error = model.cluster_error
+        self.settings = None  # the settings of the picture shown
         self._image: QtGui.QImage | None = None
         self._sky = None
         self._selected = -1
@@ -48,26 +44,25 @@ class SkyPreview(QtWidgets.QWidget):
         self._timer.setSingleShot(True)
         self._timer.setInterval(0)
         self._timer.timeout.connect(self.redraw)
+        model.events.plots.connect(lambda _change: self._timer.start())
+        # a star picked here stays ringed; any other new temperature drops the ring
+        model.events.temperature.connect(
+            lambda change: change.origin != "sky" and self.select(-1))
 
     @property
-    def cluster(self) -> Cluster | None:
-        """The star list shown."""
+    def cluster(self):
+        """The star list shown (:class:`starkiln.engine.plotdata.sky.Cluster`), or None."""
         return self._cluster
 
     @property
     def sky(self):
-        """The last :class:`starkiln.engine.plotdata.plots.SkyImage`, or None."""
+        """The last :class:`starkiln.engine.plotdata.sky.SkyImage`, or None."""
         return self._sky
 
     def set_theme(self, theme: Theme) -> None:
         """Interface colours of the caption."""
         self._theme = theme
         self.update()
-
-    def set_settings(self, settings) -> None:
-        """Redraw with new settings (soon, once per event-loop turn)."""
-        self._settings = settings
-        self._timer.start()
 
     def select(self, index: int) -> None:
         """Ring star ``index`` (or none with -1)."""
@@ -76,28 +71,32 @@ class SkyPreview(QtWidgets.QWidget):
             self.update()
 
     def redraw(self) -> None:
-        """Render the picture now at the widget's size."""
-        if self._settings is None or self._cluster is None:
+        """Draw the picture now at the widget's size."""
+        if self._cluster is None:
             return
         w, h = max(self.width(), 16), max(self.height(), 16)
         try:
-            self._sky = sky_image(self._settings, self._cluster, w, h)
+            self._sky = self.model.sky_image(w, h)
         except StarkilnError as exc:
             self._error = str(exc)
             self._image = None
             self.update()
             return
         self._error = ""
+        self.settings = self.model.settings
         data = self._sky.rgb_8bit
         self._buffer = data  # keep the array alive while the QImage refers to it
         self._image = QtGui.QImage(data.data, data.shape[1], data.shape[0], data.strides[0],
                                    QtGui.QImage.Format.Format_RGB888)
         self.update()
 
+    def showEvent(self, event):  # noqa: N802 - Qt API
+        super().showEvent(event)
+        self._timer.start()
+
     def resizeEvent(self, event):  # noqa: N802 - Qt API
         super().resizeEvent(event)
-        if self._settings is not None:
-            self._timer.start()
+        self._timer.start()
 
     def star_at(self, x: float, y: float, radius_px: float = 7.0) -> int:
         """Index of the brightest star within ``radius_px`` of (x, y), or -1."""
@@ -113,6 +112,7 @@ class SkyPreview(QtWidgets.QWidget):
         i = self.star_at(event.position().x(), event.position().y())
         if i >= 0:
             self.select(i)
+            self.model.pick_star(i, origin="sky")
             self.star_picked.emit(i)
         event.accept()
 
@@ -144,8 +144,8 @@ class SkyPreview(QtWidgets.QWidget):
         if self._error:
             p.drawText(self.rect().adjusted(6, 6, -6, -6),
                        QtCore.Qt.TextFlag.TextWordWrap, "\u26a0 " + self._error)
-        elif self._cluster is not None and self._settings is not None:
-            s = self._settings
+        elif self._cluster is not None and self.settings is not None:
+            s = self.settings
             if s.aperture_mm:
                 note = f" \u00b7 through {s.aperture_mm:g} mm"
             else:

@@ -1,4 +1,4 @@
-"""The main window: assembles the views over one :class:`starkiln.gui.session.Session`.
+"""The main window: assembles the views over one :class:`starkiln.gui.model.WindowModel`.
 
 Layout (names are this project's own)::
 
@@ -14,27 +14,31 @@ Layout (names are this project's own)::
 
 Persistence (QSettings): window geometry and splitters, theme, overlays,
 recent settings files, and the last session (settings as TOML, temperature,
-magnitude). Files are read and written by the engine (TOML settings, JSON
-display profiles); problems come back as one-line messages in a message box.
+magnitude). Files are read and written by the engine through the model (TOML
+settings, JSON display profiles); problems come back as one-line messages in a
+message box.
 """
 
 from __future__ import annotations
 
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 from PySide6 import QtCore, QtGui, QtWidgets
 
 from starkiln.engine.errors import StarkilnError
-from starkiln.engine.pipeline.render import to_8bit
-from starkiln.engine.pipeline.settings import Settings, load_settings, save_settings, settings_to_toml
 from starkiln.gui.audition import AuditionPanel
 from starkiln.gui.controls import CAUTION, LookPanel
 from starkiln.gui.current import CurrentColourPanel
 from starkiln.gui.fields import INPUT_ERRORS
 from starkiln.gui.plots import OVERLAYS, ChromaticityView, SpectrumView
-from starkiln.gui.session import DEFAULT_MAGNITUDE, DEFAULT_TEMPERATURE_K, Session
+from starkiln.gui.model import DEFAULT_MAGNITUDE, DEFAULT_TEMPERATURE_K, WindowModel
+from starkiln.gui.model import settings_from_toml
 from starkiln.gui.sky import SkyPreview
 from starkiln.gui.theme import DEFAULT_THEME, THEMES, apply_theme
+
+if TYPE_CHECKING:
+    from starkiln.engine.pipeline.settings import Settings
 
 APP_TITLE = "Starkiln \u2014 star colours"
 MAX_RECENT = 8
@@ -76,33 +80,36 @@ class MainWindow(QtWidgets.QMainWindow):
         self.settings_path: Path | None = None
         self.last_message: QtWidgets.QMessageBox | None = None
         restored, t_restored, m_restored = self._restored_session()
-        start = settings if settings is not None else (restored or Settings())
+        start = settings if settings is not None else restored
         t0 = temperature_K if temperature_K is not None else (t_restored or DEFAULT_TEMPERATURE_K)
+
+        def idle(fn):  # the model's slider table is built when the event loop is idle
+            QtCore.QTimer.singleShot(0, self, fn)
+
         try:
-            self.session = Session(start, t0, m_restored or DEFAULT_MAGNITUDE, self)
+            self.model = WindowModel(start, t0, m_restored or DEFAULT_MAGNITUDE, idle=idle)
         except StarkilnError:
             if temperature_K is not None:
                 raise
-            self.session = Session(start, DEFAULT_TEMPERATURE_K, DEFAULT_MAGNITUDE, self)
+            self.model = WindowModel(start, DEFAULT_TEMPERATURE_K, DEFAULT_MAGNITUDE, idle=idle)
         self._build()
         self._menus()
         self._connect()
         self.theme = THEMES[DEFAULT_THEME]
         self._restore_view_state()
         self._on_settings()
-        self._on_colour("settings")
         self.setWindowTitle(APP_TITLE)
         self.audition.slider.setFocus()
 
     # -- construction ----------------------------------------------------------------------
     def _build(self) -> None:
-        s = self.session
-        self.audition = AuditionPanel(s, self)
-        self.current = CurrentColourPanel(s, self)
-        self.spectrum = SpectrumView(self)
-        self.chromaticity = ChromaticityView(self)
-        self.sky = SkyPreview(parent=self)
-        self.look = LookPanel(s, self)
+        m = self.model
+        self.audition = AuditionPanel(m, self)
+        self.current = CurrentColourPanel(m, self)
+        self.spectrum = SpectrumView(m, self)
+        self.chromaticity = ChromaticityView(m, self)
+        self.sky = SkyPreview(m, self)
+        self.look = LookPanel(m, self)
 
         overlay_bar = QtWidgets.QWidget(self)
         ob = QtWidgets.QHBoxLayout(overlay_bar)
@@ -221,40 +228,26 @@ class MainWindow(QtWidgets.QMainWindow):
         self._rebuild_recent()
 
     def _connect(self) -> None:
-        s = self.session
-        s.settings_changed.connect(self._on_settings)
-        s.colour_changed.connect(self._on_colour)
+        events = self.model.events
+        events.settings.connect(lambda _change: self._on_settings())
+        events.plots.connect(lambda _change: self.chroma_key.setText(
+            self.chromaticity.key_html()))
+        events.rejected.connect(lambda change: self.statusBar().showMessage(
+            f"\u26a0 {change.value}", 6000))
         self.sky.star_picked.connect(self._star_picked)
         self.current.status.connect(lambda text: self.statusBar().showMessage(text, 4000))
         self.look.display.message.connect(
             lambda title, text: self.show_message(title, text))
 
-    # -- session -> views --------------------------------------------------------------------
+    # -- model -> window ---------------------------------------------------------------------
     def _on_settings(self) -> None:
-        s = self.session.settings
-        self.spectrum.set_settings(s)
-        self.chromaticity.set_settings(s)
+        s = self.model.settings
         self.chroma_key.setText(self.chromaticity.key_html())
-        self.sky.set_settings(s)
         self.summary.setText(f"white {s.scene_white} \u2192 {s.display.name} \u00b7 "
                              f"{s.adaptation} \u00b7 gamut {s.gamut} \u00b7 vision {s.vision}")
 
-    def _on_colour(self, what: str) -> None:
-        s = self.session
-        r = s.current
-        if what in ("temperature", "settings"):
-            self.spectrum.set_temperature(s.temperature_K)
-            self.chromaticity.set_star(r.xy, to_8bit(r.rgb_encoded))
-            if what == "temperature" and s.source != "sky":
-                self.sky.select(-1)
-
     def _star_picked(self, index: int) -> None:
-        c = self.sky.cluster
-        self.session.set_temperature(float(c.temperature_K[index]), source="sky")
-        try:
-            self.session.set_magnitude(float(c.magnitude[index]), source="sky")
-        except StarkilnError:
-            pass
+        c = self.sky.cluster  # the model has auditioned the star already
         self.statusBar().showMessage(f"{c.name[index]}: {c.temperature_K[index]:.0f} K, "
                                      f"magnitude {c.magnitude[index]:.2f}", 5000)
 
@@ -303,8 +296,7 @@ class MainWindow(QtWidgets.QMainWindow):
         """Read a TOML settings file; a bad file gives a message box and changes nothing."""
         path = Path(path)
         try:
-            settings = load_settings(path)
-            self.session.set_settings(settings, source="file")
+            self.model.load_settings_file(path, origin="file")
         except INPUT_ERRORS as exc:
             self.show_message("Settings not loaded", str(exc))
             return False
@@ -319,7 +311,7 @@ class MainWindow(QtWidgets.QMainWindow):
         """Write the current settings as TOML (atomically)."""
         path = Path(path)
         try:
-            save_settings(self.session.settings, path)
+            self.model.save_settings_file(path)
         except (INPUT_ERRORS + (OSError,)) as exc:
             self.show_message("Settings not saved", str(exc))
             return False
@@ -331,7 +323,7 @@ class MainWindow(QtWidgets.QMainWindow):
 
     def reset_settings(self) -> None:
         """Back to the engine's default settings."""
-        self.session.set_settings(Settings(), source="file")
+        self.model.reset_settings(origin="file")
         self.look.refresh(force=True)
 
     def _open_dialog(self) -> None:
@@ -402,7 +394,7 @@ class MainWindow(QtWidgets.QMainWindow):
         cls = LutDialog if kind == "lut" else PaletteDialog
         dialog = getattr(self, f"_{kind}_dialog", None)
         if dialog is None:
-            dialog = cls(self.session, self)
+            dialog = cls(self.model, self)
             dialog.written.connect(lambda m: self.statusBar().showMessage(m, 5000))
             setattr(self, f"_{kind}_dialog", dialog)
         dialog.show()
@@ -413,15 +405,8 @@ class MainWindow(QtWidgets.QMainWindow):
     def _restored_session(self):
         if self.store is None:
             return None, None, None
-        settings = None
         text = self.store.value("session/settings_toml", "")
-        if text:
-            try:
-                import tomllib
-
-                settings = Settings.from_dict(tomllib.loads(str(text)), "last session")
-            except (tomllib.TOMLDecodeError, StarkilnError, TypeError):
-                settings = None
+        settings = settings_from_toml(text) if text else None
         try:
             t = float(self.store.value("session/temperature_K", DEFAULT_TEMPERATURE_K))
             m = float(self.store.value("session/magnitude", DEFAULT_MAGNITUDE))
@@ -463,9 +448,9 @@ class MainWindow(QtWidgets.QMainWindow):
         for key, check in self.overlay_checks.items():
             st.setValue(f"view/overlay/{key}", "true" if check.isChecked() else "false")
         st.setValue("view/chromaticity_zoom", self.zoom.currentData())
-        st.setValue("session/settings_toml", settings_to_toml(self.session.settings))
-        st.setValue("session/temperature_K", self.session.temperature_K)
-        st.setValue("session/magnitude", self.session.magnitude)
+        st.setValue("session/settings_toml", self.model.settings_toml())
+        st.setValue("session/temperature_K", self.model.temperature_K)
+        st.setValue("session/magnitude", self.model.magnitude)
         st.sync()
 
     def showEvent(self, event):  # noqa: N802 - Qt API

@@ -16,8 +16,8 @@ def _choose(choice, value):
 
 
 def _unchanged(window, settings, temperature):
-    assert window.session.settings is settings
-    assert window.session.temperature_K == temperature
+    assert window.model.settings is settings
+    assert window.model.temperature_K == temperature
     swatch = window.findChild(QtWidgets.QWidget, "current-swatch")
     assert centre_pixel(swatch) == rendered_8bit(settings, temperature)
 
@@ -30,7 +30,7 @@ def _unchanged(window, settings, temperature):
     ("1e9", "outside the supported range"),
 ])
 def test_bad_kelvin_entry(window, text, message):
-    s, t = window.session.settings, window.session.temperature_K
+    s, t = window.model.settings, window.model.temperature_K
     field = window.audition.kelvin
     position = window.audition.slider.value()
     assert not field.commit_text(text)
@@ -39,11 +39,11 @@ def test_bad_kelvin_entry(window, text, message):
     assert window.audition.slider.value() == position
     _unchanged(window, s, t)
     assert field.commit_text("4000")  # a good value clears the error
-    assert not field.has_error and window.session.temperature_K == 4000.0
+    assert not field.has_error and window.model.temperature_K == 4000.0
 
 
 def test_bad_bv_and_class(window):
-    s, t = window.session.settings, window.session.temperature_K
+    s, t = window.model.settings, window.model.temperature_K
     a = window.audition
     assert not a.bv.commit_text("3")
     assert "B-V 3 is outside the accepted range" in a.bv.error.text()
@@ -54,13 +54,13 @@ def test_bad_bv_and_class(window):
     assert "luminosity class III is not supported" in a.class_error.text()
     _unchanged(window, s, t)
     a.commit_class("A0V")
-    assert a.class_error.isHidden() and window.session.temperature_K == 9700.0
+    assert a.class_error.isHidden() and window.model.temperature_K == 9700.0
 
 
 def test_white_xy_errors_inline(window):
     white = window.look.white
     _choose(white.kind, "xy")
-    s, t = window.session.settings, window.session.temperature_K
+    s, t = window.model.settings, window.model.temperature_K
     assert not white.white_x.commit_text("0.8")
     # CIE 15:2004 section 7.3: (0.8, 0.329) lies outside the spectral locus and purple line
     assert "outside the spectral locus" in white.white_x.error.text()
@@ -68,10 +68,10 @@ def test_white_xy_errors_inline(window):
     assert not white.white_y.commit_text("zero")
     assert "white y: 'zero' is not a number" in white.white_y.error.text()
     _choose(white.kind, "daylight")
-    s = window.session.settings
+    s = window.model.settings
     assert not white.white_temperature.commit_text("3000")
     assert "outside 4000-25000 K" in white.white_temperature.error.text()
-    assert window.session.settings is s
+    assert window.model.settings is s
 
 
 @pytest.mark.parametrize("key, text, message", [
@@ -87,21 +87,21 @@ def test_white_xy_errors_inline(window):
 def test_bad_night_fields(window, key, text, message):
     night = window.look.night
     field = night.aperture if key == "aperture_mm" else night.numbers[key]
-    s, t = window.session.settings, window.session.temperature_K
+    s, t = window.model.settings, window.model.temperature_K
     assert not field.commit_text(text)
     assert message in field.error.text(), field.error.text()
     _unchanged(window, s, t)
     # a later change elsewhere keeps the error shown (and the bad text) for the user to fix
-    window.session.set_temperature(4500.0)
+    window.model.set_temperature(4500.0)
     assert field.has_error and field.text() == text
 
 
 def test_bad_magnitude_luminance_and_peak(window):
-    s, t = window.session.settings, window.session.temperature_K
+    s, t = window.model.settings, window.model.temperature_K
     night = window.look.night
     assert not night.magnitude.commit_text("40")
     assert "magnitude 40 is outside the accepted range" in night.magnitude.error.text()
-    assert window.session.magnitude == 1.0
+    assert window.model.magnitude == 1.0
     assert not night.peak.commit_text("0")
     assert "peak_luminance_cd_m2 0 is outside 0.01-10000" in night.peak.error.text()
     out = window.look.output
@@ -112,7 +112,7 @@ def test_bad_magnitude_luminance_and_peak(window):
 
 def test_display_editor_rejects_bad_profiles(window):
     editor = window.look.display.edit()
-    s = window.session.settings
+    s = window.model.settings
     editor.fields["gamma"].setText("9")
     editor.transfer.setCurrentIndex(editor.transfer.findData("gamma"))
     assert not editor.apply()
@@ -125,30 +125,30 @@ def test_display_editor_rejects_bad_profiles(window):
     editor.fields["white_x"].setText("x")
     assert not editor.apply()
     assert "white x: 'x' is not a number" in editor.error.text()
-    assert window.session.settings is s
+    assert window.model.settings is s
     editor.close()
 
 
 def test_corrupt_profile_gives_a_message_box(window, tmp_path):
-    s = window.session.settings
+    s = window.model.settings
     bad = tmp_path / "broken.json"
     bad.write_text("{ not json")
     assert not window.look.display.open_profile(bad)
     box = window.last_message
     assert isinstance(box, QtWidgets.QMessageBox) and box.isVisible()
     assert "broken.json" in box.text() and "not valid JSON" in box.text()
-    assert window.session.settings is s
+    assert window.model.settings is s
     odd = tmp_path / "odd.json"
     odd.write_text('{"starkiln_display": 1, "primaries_xy": {}, "white_xy": [0.3, 0.3], '
                    '"colour": 1}')
     assert not window.look.display.open_profile(odd)
     assert "unknown key 'colour'" in window.last_message.text()
-    assert window.session.settings is s
+    assert window.model.settings is s
     assert window.look.display.display.value() == "srgb"
 
 
 def test_corrupt_settings_file_gives_a_message_box(window, tmp_path):
-    s = window.session.settings
+    s = window.model.settings
     bad = tmp_path / "look.toml"
     bad.write_text("gamut = [\n")
     assert not window.load_settings_file(bad)
@@ -162,7 +162,7 @@ def test_corrupt_settings_file_gives_a_message_box(window, tmp_path):
     assert "aperture_mm" in window.last_message.text()
     assert not window.load_settings_file(tmp_path / "missing.toml")
     assert "cannot read settings file" in window.last_message.text()
-    assert window.session.settings is s
+    assert window.model.settings is s
     assert window.recent_files() == []
 
 

@@ -23,7 +23,7 @@ ROOT = Path(__file__).resolve().parent.parent
 
 def _look(window):
     """A non-default look, so that the settings really travel through the TOML file."""
-    window.session.change("test", scene_white="D50", display="display-p3", gamut="scale",
+    window.model.change("test", scene_white="D50", display="display-p3", gamut="scale",
                           aperture_mm=80.0)
 
 
@@ -65,7 +65,7 @@ def test_lut_dialog_matches_the_command_line(window, tmp_path, capsys):
     from starkiln.engine.exports.textures import lut_axes
 
     t, m = lut_axes(d.spec_for(gui_out))
-    r = render(window.session.settings, t[0], m[0])
+    r = render(window.model.settings, t[0], m[0])
     img = d.preview_image
     assert (img.width(), img.height()) == (64, 8)
     c = img.pixelColor(0, 0)
@@ -115,7 +115,7 @@ def test_palette_dialog_matches_the_command_line(window, tmp_path, capsys, suffi
     # the preview strip shows the palette's own 8-bit colours
     from starkiln.engine.exports.palettes import build_palette
 
-    p = build_palette(window.session.settings, range_K=(2500.0, 12000.0), steps=7, axis="mired")
+    p = build_palette(window.model.settings, range_K=(2500.0, 12000.0), steps=7, axis="mired")
     assert d.strip.cell_count == 7
     assert all(d.strip.cell_colour(i) == tuple(int(v) for v in p.rgb_8bit[i]) for i in range(7))
 
@@ -168,7 +168,7 @@ def test_screenshot_in_process(window, tmp_path, capsys):
     img = QtGui.QImage(str(out))
     assert (img.width(), img.height()) == (1280, 800)
     # the large swatch shows the render path's colour of 4000 K with those settings
-    rgb = tuple(int(v) for v in to_8bit(render(window.session.settings, 4000.0).rgb_encoded))
+    rgb = tuple(int(v) for v in to_8bit(render(window.model.settings, 4000.0).rgb_encoded))
     rgb_img = img.convertToFormat(QtGui.QImage.Format.Format_RGB888)  # keep it alive
     a = np.array(rgb_img.constBits(), dtype=np.uint8, copy=True)
     a = a.reshape(800, rgb_img.bytesPerLine())[:, :1280 * 3].reshape(800, 1280, 3)
@@ -205,7 +205,7 @@ def test_no_command_opens_the_window(qapp, monkeypatch, tmp_path):
     def close_soon():
         for w in QtWidgets.QApplication.topLevelWidgets():
             if w not in before and w.objectName() == "starkiln-window" and w.isVisible():
-                opened.append((w.session.temperature_K, w.session.settings.gamut))
+                opened.append((w.model.temperature_K, w.model.settings.gamut))
                 w.close()
         qapp.quit()
 

@@ -78,10 +78,10 @@ def reset_window(w):
             dialog.close()
             dialog.deleteLater()
             setattr(w, name, None)
-    s = w.session
-    s.set_settings(Settings(), source="file")
-    s.set_magnitude(1.0)
-    s.set_temperature(5772.0)
+    m = w.model
+    m.set_settings(Settings(), origin="file")
+    m.set_magnitude(1.0)
+    m.set_temperature(5772.0)
     w.look.refresh(force=True)
     for line in w.findChildren(ErrorLine):
         line.clear_error()

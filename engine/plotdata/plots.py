@@ -13,30 +13,29 @@ through the same chain as :func:`starkiln.engine.pipeline.render.render`:
 - :func:`planckian_locus_xy`, :func:`chromaticity_diagram`: the lines and
   points of the chromaticity diagram (CIE 15:2004 section 7.3).
 - :func:`planck_curve`, :func:`efficiency_overlays`: the spectrum plot.
-- :func:`magnitude_ladder`, :func:`load_demo_cluster`, :func:`sky_image`: the
-  magnitude strip and the small sky preview of the invented demo cluster.
+- :func:`magnitude_ladder`: the magnitudes of the brightness strip.
+
+The sky preview (demo cluster and its picture) is :mod:`starkiln.engine.plotdata.sky`.
 
 References
 ----------
 CIE 15:2004 Colorimetry, 3rd ed. (locus, Planckian radiators, summation);
 Planck (1901); G. Wyszecki & W. S. Stiles (1982), *Color Science*, 2nd ed.,
-Wiley, section 3.11 (mired); ITU-R BT.709 / common practice for drawing a
-point source as a small Gaussian spot.
+Wiley, section 3.11 (mired).
 """
 
 from __future__ import annotations
 
-import csv
 from dataclasses import dataclass
-from pathlib import Path
 
 import numpy as np
 
-from starkiln.engine.errors import InputRangeError, SettingsError
-from starkiln.engine.colour.temperature_axis import mired_to_temperature, temperature_to_mired  # noqa: F401
+from starkiln.engine.errors import InputRangeError
+from starkiln.engine.colour.temperature_axis import temperature_from_u, temperature_to_mired
+from starkiln.engine.colour.temperature_axis import u_from_temperature
 from starkiln.engine.colour.observers import XYZ_to_xy, check_observer, cmfs, spectral_locus_xy, v_photopic
 from starkiln.engine.colour.observers import v_scotopic
-from starkiln.engine.pipeline.render import blackbody_XYZ, display_rgb_from_XYZ, render, to_8bit
+from starkiln.engine.pipeline.render import blackbody_XYZ, display_rgb_from_XYZ, to_8bit
 from starkiln.engine.pipeline.settings import Settings
 from starkiln.engine.stars.temperature import check_temperature
 from starkiln.engine.colour.spectrum import peak_wavelength_nm, planck_radiance
@@ -63,8 +62,10 @@ SPECTRAL_TICKS_NM = (460.0, 480.0, 490.0, 500.0, 520.0, 540.0, 560.0, 580.0, 600
 class MiredScale:
     """Integer positions 0..``steps`` evenly spaced in mired between two temperatures.
 
-    Position 0 is the coolest end (``temperature_min_K``), ``steps`` the
-    hottest, so that the temperature rises to the right of a slider.
+    The one place that turns slider positions into temperatures and back; the
+    arithmetic is the ``mired`` mapping of :mod:`starkiln.engine.colour.temperature_axis`
+    (position = u * ``steps``). Position 0 is the coolest end (``temperature_min_K``),
+    ``steps`` the hottest, so that the temperature rises to the right of a slider.
 
     Parameters
     ----------
@@ -98,40 +99,34 @@ class MiredScale:
             raise InputRangeError(f"mired_per_step {self.mired_per_step:g} must be positive")
 
     @property
-    def mired_cool(self) -> float:
-        """Mired of the cool end (the largest mired)."""
-        return 1e6 / self.temperature_min_K
-
-    @property
-    def mired_hot(self) -> float:
-        """Mired of the hot end (the smallest mired)."""
-        return 1e6 / self.temperature_max_K
+    def range_K(self) -> tuple[float, float]:
+        """The ends ``(temperature_min_K, temperature_max_K)``, the axis range of
+        :mod:`starkiln.engine.colour.temperature_axis`."""
+        return (float(self.temperature_min_K), float(self.temperature_max_K))
 
     @property
     def steps(self) -> int:
         """Number of steps between the ends (the last position)."""
-        return int(round((self.mired_cool - self.mired_hot) / self.mired_per_step))
-
-    def mired_at(self, position) -> np.ndarray:
-        """Mired of a (possibly fractional) position; the ends are exact."""
-        p = np.asarray(position, dtype=np.float64)
-        frac = p / self.steps
-        return self.mired_cool + frac * (self.mired_hot - self.mired_cool)
+        span = temperature_to_mired(self.temperature_min_K) - temperature_to_mired(
+            self.temperature_max_K)
+        return int(round(float(span) / self.mired_per_step))
 
     def temperature_at(self, position) -> np.ndarray:
-        """Temperature in kelvin at a (possibly fractional) position."""
-        return mired_to_temperature(self.mired_at(position))
-
-    def position_of(self, temperature_K) -> np.ndarray:
-        """Nearest integer position of a temperature (clipped to the ends)."""
-        m = temperature_to_mired(temperature_K)
-        p = (m - self.mired_cool) / (self.mired_hot - self.mired_cool) * self.steps
-        return np.clip(np.rint(p), 0, self.steps).astype(int)
+        """Temperature in kelvin at a (possibly fractional) position; the ends are exact."""
+        u = np.asarray(position, dtype=np.float64) / self.steps
+        return temperature_from_u(u, self.range_K, "mired")
 
     def fraction_of(self, temperature_K) -> np.ndarray:
         """Position of a temperature as a fraction 0..1 of the scale (clipped)."""
-        m = temperature_to_mired(temperature_K)
-        return np.clip((m - self.mired_cool) / (self.mired_hot - self.mired_cool), 0.0, 1.0)
+        return np.clip(u_from_temperature(temperature_K, self.range_K, "mired"), 0.0, 1.0)
+
+    def position_of(self, temperature_K) -> np.ndarray:
+        """Nearest integer position of a temperature (clipped to the ends)."""
+        return np.rint(self.fraction_of(temperature_K) * self.steps).astype(int)
+
+    def temperatures_K(self) -> np.ndarray:
+        """Temperatures of every position 0..``steps`` (the slider's table of positions)."""
+        return self.temperature_at(np.arange(self.steps + 1))
 
     def cell_temperatures(self, cells: int) -> np.ndarray:
         """Temperatures at the centres of ``cells`` equal-mired cells spanning the scale."""
@@ -430,150 +425,3 @@ def magnitude_ladder(settings: Settings, step: float = 1.0) -> np.ndarray:
     if faint - mags[-1] > 1e-9:
         mags = np.append(mags, faint)
     return mags
-
-
-@dataclass(frozen=True)
-class Cluster:
-    """A small star list: names, positions (degrees), temperatures and magnitudes."""
-
-    name: np.ndarray
-    ra_deg: np.ndarray
-    dec_deg: np.ndarray
-    temperature_K: np.ndarray
-    magnitude: np.ndarray
-
-    def __len__(self) -> int:
-        return int(self.name.size)
-
-
-DEMO_CLUSTER_COLUMNS = ("name", "ra_deg", "dec_deg", "temperature_K", "magnitude")
-
-
-def load_demo_cluster(path=None) -> Cluster:
-    """Read a star list in the demo-cluster CSV layout (default: the invented ``assets`` cluster).
-
-    The CSV has a header row with the columns ``name, ra_deg, dec_deg,
-    temperature_K, magnitude`` (extra columns are ignored).
-
-    Raises
-    ------
-    SettingsError
-        Unreadable file, missing column or a value that is not a number.
-
-    References
-    ----------
-    RFC 4180 (CSV); the data are invented (``assets/make_demo_cluster.py``).
-    """
-    if path is None:
-        from starkiln.assets import asset_path
-
-        path = asset_path("demo_cluster.csv")
-    path = Path(str(path))
-    try:
-        with open(path, newline="", encoding="utf-8") as fh:
-            rows = list(csv.DictReader(line for line in fh if not line.startswith("#")))
-    except OSError as exc:
-        raise SettingsError(f"{path}: cannot read star list ({exc.strerror})") from None
-    if not rows:
-        raise SettingsError(f"{path}: star list is empty")
-    missing = [c for c in DEMO_CLUSTER_COLUMNS if c not in rows[0]]
-    if missing:
-        raise SettingsError(f"{path}: missing column {missing[0]!r}; needed: "
-                            f"{', '.join(DEMO_CLUSTER_COLUMNS)}")
-    cols = {}
-    for c in DEMO_CLUSTER_COLUMNS[1:]:
-        try:
-            cols[c] = np.array([float(r[c]) for r in rows])
-        except (TypeError, ValueError):
-            raise SettingsError(f"{path}: column {c!r} holds a value that is not a number") \
-                from None
-    check_temperature(cols["temperature_K"], f"{path}: temperature")
-    return Cluster(np.array([r["name"] for r in rows]), cols["ra_deg"], cols["dec_deg"],
-                   cols["temperature_K"], cols["magnitude"])
-
-
-@dataclass(frozen=True)
-class SkyImage:
-    """A rendered preview of a star list: 8-bit pixels and where each star landed."""
-
-    rgb_8bit: np.ndarray  # (H, W, 3) uint8, C-contiguous
-    x_px: np.ndarray
-    y_px: np.ndarray
-    radius_px: np.ndarray
-    in_gamut: np.ndarray
-
-
-def sky_image(settings: Settings, cluster: Cluster, width_px: int, height_px: int,
-              radius_px=(0.7, 2.6)) -> SkyImage:
-    """Draw a star list as it would appear on the display, with the current settings.
-
-    Each star's colour and intensity come from :func:`starkiln.engine.pipeline.render.render`
-    with its temperature and magnitude (night vision, tone curve). It is drawn
-    as a small Gaussian spot in display-linear light; spots add; where a sum
-    exceeds 1 the pixel is scaled down to keep its hue; then the display's
-    transfer function encodes the picture. Brighter stars get wider spots
-    (between ``radius_px`` ends, linear in magnitude over the settings' bright
-    and faint magnitudes), a drawing convention of star projectors and sky
-    charts (common practice), which does not change any star's colour.
-
-    Parameters
-    ----------
-    settings : Settings
-    cluster : Cluster
-        Positions are projected onto a tangent plane at the list's centre
-        (gnomonic projection, common practice) and fitted into the picture.
-    width_px, height_px : int
-        Picture size, 16-4096 each.
-    radius_px : (float, float)
-        Gaussian sigma of the spot, pixels, at the faint and at the bright end.
-
-    Returns
-    -------
-    SkyImage
-
-    References
-    ----------
-    Snyder (1987), *Map Projections: A Working Manual*, USGS PP 1395, p. 164
-    (gnomonic projection); :func:`starkiln.engine.pipeline.render.render` for the colours.
-    """
-    w, h = int(width_px), int(height_px)
-    if not (16 <= w <= 4096 and 16 <= h <= 4096):
-        raise InputRangeError(f"picture size {w} x {h} is outside 16-4096 pixels")
-    ra = np.radians(cluster.ra_deg)
-    dec = np.radians(cluster.dec_deg)
-    ra0 = np.arctan2(np.mean(np.sin(ra)), np.mean(np.cos(ra)))
-    dec0 = 0.5 * (dec.max() + dec.min())
-    cos_c = np.sin(dec0) * np.sin(dec) + np.cos(dec0) * np.cos(dec) * np.cos(ra - ra0)
-    xi = np.cos(dec) * np.sin(ra - ra0) / cos_c
-    eta = (np.cos(dec0) * np.sin(dec) - np.sin(dec0) * np.cos(dec) * np.cos(ra - ra0)) / cos_c
-    xi = -xi  # east to the left, as on the sky seen from inside a dome
-    margin = 0.06
-    span = max(np.ptp(xi) / (w * (1 - 2 * margin)), np.ptp(eta) / (h * (1 - 2 * margin)), 1e-12)
-    cx, cy = 0.5 * (xi.max() + xi.min()), 0.5 * (eta.max() + eta.min())
-    x = np.rint(w / 2 + (xi - cx) / span).astype(int)
-    y = np.rint(h / 2 - (eta - cy) / span).astype(int)
-
-    r = render(settings, cluster.temperature_K, cluster.magnitude)
-    bright = settings.magnitude_bright
-    faint = settings.magnitude_faint
-    frac = np.clip((faint - cluster.magnitude) / max(faint - bright, 1e-9), 0.0, 1.0)
-    sigma = radius_px[0] + frac * (radius_px[1] - radius_px[0])
-    colour = r.rgb_linear * np.asarray(r.intensity)[..., None]
-
-    half = int(np.ceil(3.0 * radius_px[1]))
-    offs = np.arange(-half, half + 1)
-    dx, dy = np.meshgrid(offs, offs)  # (S, S)
-    px = x[:, None, None] + dx[None]
-    py = y[:, None, None] + dy[None]
-    weight = np.exp(-0.5 * (dx[None] ** 2 + dy[None] ** 2) / sigma[:, None, None] ** 2)
-    keep = (px >= 0) & (px < w) & (py >= 0) & (py < h) & (weight > 1e-4)
-    index = (py * w + px)[keep]
-    img = np.empty((h * w, 3))
-    for c in range(3):
-        contrib = (weight * colour[:, c][:, None, None])[keep]
-        img[:, c] = np.bincount(index, weights=contrib, minlength=h * w)
-    top = img.max(axis=-1, keepdims=True)
-    img = np.where(top > 1.0, img / np.maximum(top, 1e-300), img)
-    enc = settings.display.encode(img)
-    pixels = np.ascontiguousarray(to_8bit(enc).reshape(h, w, 3))
-    return SkyImage(pixels, x, y, sigma, np.asarray(r.in_gamut))

@@ -1,0 +1,593 @@
+"""The window's model: settings, current temperature and magnitude, their renders and plot data.
+
+No Qt here (a test imports this module in a fresh interpreter and checks that
+PySide6 is not loaded), so the whole state of the window is tested without a
+display. The widgets bind to a :class:`WindowModel`: they read it, call its
+setters, and listen to its events; they never ask the engine for data
+themselves.
+
+Events. ``model.events.temperature.connect(callback)``; every callback gets one
+:class:`Change` carrying the event's name, its ``origin`` (who asked:
+``"slider"``, ``"kelvin"``, ``"sky"``, ``"file"``...) and the new value. A widget
+that caused a change ignores its own echo by its origin. Events are emitted
+only after the whole state is consistent, and a setter that changes nothing
+emits nothing (so a view showing the model's value can set it back harmlessly).
+A change the engine rejects (:class:`starkiln.engine.errors.StarkilnError`)
+leaves the last good state, is reported on ``events.rejected`` and is raised
+again for the control that asked (to show it inline).
+
+The temperature slider. Its positions are one
+:class:`starkiln.engine.plotdata.plots.MiredScale`, the only place that turns a
+position into a temperature and back. Soon after the settings (or the
+magnitude) change, the model asks the render path once for every position (one
+vectorised call, tens of milliseconds, run when the window is idle through the
+``idle`` hook); a slider step then only looks its colours up. The numbers are
+the render path's own (``render`` works element by element; an 8-bit check is
+in the tests). Temperatures typed in, and steps before the table is ready, are
+rendered directly.
+
+References
+----------
+Mired scale: G. Wyszecki & W. S. Stiles (1982), *Color Science*, 2nd ed.,
+section 3.11. Colours: :func:`starkiln.engine.pipeline.render.render`; plot data:
+:mod:`starkiln.engine.plotdata.plots` and :mod:`starkiln.engine.plotdata.sky`.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import sys
+import tomllib
+from functools import lru_cache
+from pathlib import Path
+from typing import Callable
+
+import numpy as np
+
+from starkiln.engine.colour.displays import load_display_profile
+from starkiln.engine.colour.temperature_axis import temperature_to_mired
+from starkiln.engine.errors import InputRangeError, StarkilnError
+from starkiln.engine.eye.vision import check_magnitude
+from starkiln.engine.pipeline.render import Rendered, render, to_8bit, to_hex
+from starkiln.engine.pipeline.settings import Settings, load_settings, save_settings
+from starkiln.engine.pipeline.settings import settings_to_toml
+from starkiln.engine.plotdata.plots import (BandColours, ChromaticityDiagram, MiredScale,
+                                            PlanckCurve, chromaticity_diagram,
+                                            efficiency_overlays, magnitude_ladder, planck_curve,
+                                            spectral_band_colours,
+                                            spectrum_plot_wavelengths_nm)
+from starkiln.engine.plotdata.sky import Cluster, SkyImage, load_demo_cluster, sky_image
+from starkiln.engine.stars.temperature import check_temperature, temperature_from_bv
+from starkiln.engine.stars.temperature import temperature_from_spectral_class
+
+DEFAULT_TEMPERATURE_K = 5772.0  # the Sun's nominal effective temperature (IAU 2015 Resolution B3)
+DEFAULT_MAGNITUDE = 1.0
+#: Slider resolution: positions per mired (arrow keys step 1 mired, page keys 10).
+POSITIONS_PER_MIRED = 4
+#: Cells of the temperature strip under the slider, and its labelled temperatures.
+STRIP_CELLS = 48
+STRIP_TICKS_K = (1000, 1500, 2000, 3000, 4000, 5000, 6500, 10000, 40000)
+#: Wavelengths of the spectrum plot's curve: 2 nm in the visible band, 10 nm outside.
+SPECTRUM_STEP_BAND_NM = 2.0
+SPECTRUM_STEP_OUTSIDE_NM = 10.0
+
+
+# -- events ------------------------------------------------------------------------------------
+@dataclasses.dataclass(frozen=True)
+class Change:
+    """One change: which event, who asked for it, and the new value."""
+
+    event: str
+    origin: str
+    value: object
+
+
+class Event:
+    """Callbacks for one kind of change; each gets a :class:`Change`."""
+
+    def __init__(self, name: str):
+        self.name = name
+        self._callbacks: list[Callable[[Change], object]] = []
+
+    def connect(self, callback: Callable[[Change], object]) -> Callable[[Change], object]:
+        """Call ``callback(change)`` on every change from now on; returns the callback."""
+        self._callbacks.append(callback)
+        return callback
+
+    def disconnect(self, callback: Callable[[Change], object]) -> None:
+        """Stop calling ``callback``."""
+        self._callbacks.remove(callback)
+
+    def emit(self, origin: str, value) -> Change:
+        """Tell every callback, in the order they connected.
+
+        A callback that raises does not stop the others (nor undo the change):
+        its exception goes to ``sys.excepthook``, as a slot's does in Qt.
+        """
+        change = Change(self.name, origin, value)
+        for callback in tuple(self._callbacks):
+            try:
+                callback(change)
+            except Exception:  # noqa: BLE001 - as a toolkit does: report, call the others
+                sys.excepthook(*sys.exc_info())
+        return change
+
+
+class ModelEvents:
+    """The model's events.
+
+    Attributes
+    ----------
+    temperature : value the new temperature, K (the colour, spectrum and slider
+        position are already updated).
+    magnitude : value the new apparent magnitude.
+    settings : value the new :class:`~starkiln.engine.pipeline.settings.Settings`.
+    plots : value the new :class:`PlotData` (emitted after ``settings``).
+    rejected : value the :class:`~starkiln.engine.errors.StarkilnError`; nothing changed.
+    """
+
+    def __init__(self):
+        self.temperature = Event("temperature")
+        self.magnitude = Event("magnitude")
+        self.settings = Event("settings")
+        self.plots = Event("plots")
+        self.rejected = Event("rejected")
+
+
+# -- derived state -----------------------------------------------------------------------------
+@dataclasses.dataclass(frozen=True)
+class CurrentColour:
+    """Renders of the current temperature and what the swatches show of them.
+
+    ``plain`` is the render without a magnitude (the swatch), ``at_magnitude``
+    at the current magnitude (night vision, tone curve), ``ladder`` at each of
+    ``ladder_magnitudes`` (the brightness strip). The 8-bit values are
+    :func:`starkiln.engine.pipeline.render.to_8bit` of the display-encoded colours.
+    """
+
+    temperature_K: float
+    magnitude: float
+    plain: Rendered
+    at_magnitude: Rendered
+    ladder_magnitudes: np.ndarray
+    ladder: Rendered
+    rgb_8bit: np.ndarray
+    hex: str
+    dimmed_rgb_8bit: np.ndarray
+    dimmed_hex: str
+    ladder_rgb_8bit: np.ndarray
+
+
+@dataclasses.dataclass(frozen=True)
+class PlotData:
+    """What the plots and the strip draw for one settings object.
+
+    Attributes
+    ----------
+    settings : the settings these were computed with.
+    band : display colours of the visible band (spectrum plot fill).
+    overlays : V, V' and the colour-matching functions (spectrum plot overlays).
+    diagram : the chromaticity diagram's lines and points.
+    strip_temperature_K, strip, strip_rgb_8bit, strip_hex : the temperature strip's cells.
+    """
+
+    settings: Settings
+    band: BandColours
+    overlays: dict
+    diagram: ChromaticityDiagram
+    strip_temperature_K: np.ndarray
+    strip: Rendered
+    strip_rgb_8bit: np.ndarray
+    strip_hex: np.ndarray
+
+
+@dataclasses.dataclass(frozen=True)
+class SliderTable:
+    """Renders of every slider position for one settings object and magnitude.
+
+    ``night`` has shape (positions, 1 + ladder): the current magnitude, then the
+    brightness strip's magnitudes.
+    """
+
+    settings: Settings
+    magnitude: float
+    temperature_K: np.ndarray
+    plain: Rendered
+    night: Rendered
+
+
+def demo_display_path() -> Path:
+    """Path of the invented dome projector profile in ``assets``."""
+    from starkiln.assets import asset_path
+
+    return Path(str(asset_path("dome_projector.json")))
+
+
+@lru_cache(maxsize=1)
+def demo_display():
+    """The invented dome projector's Display (read once), or None if the file is unreadable."""
+    try:
+        return load_display_profile(demo_display_path())
+    except StarkilnError:
+        return None
+
+
+def settings_from_toml(text: str, source: str = "last session") -> Settings | None:
+    """Settings from TOML text (the window's saved session), or None if it is not valid."""
+    try:
+        return Settings.from_dict(tomllib.loads(str(text)), source)
+    except (tomllib.TOMLDecodeError, StarkilnError, TypeError):
+        return None
+
+
+# -- the model ---------------------------------------------------------------------------------
+class WindowModel:
+    """Current settings, temperature and magnitude, their renders, and the plot data.
+
+    Parameters
+    ----------
+    settings : Settings, optional
+        Default: the engine's defaults.
+    temperature_K, magnitude : float
+        Start values (validated by the engine).
+    idle : callable, optional
+        ``idle(fn)`` runs ``fn()`` later, when the caller's event loop is idle
+        (the window passes a zero-delay timer). Without it the slider table is
+        built only when :meth:`build_table` is called.
+    scale : MiredScale, optional
+        The slider's positions; default 1000-40000 K at
+        :data:`POSITIONS_PER_MIRED` positions per mired.
+
+    Raises
+    ------
+    StarkilnError
+        A start value the engine does not accept.
+    """
+
+    def __init__(self, settings: Settings | None = None,
+                 temperature_K: float = DEFAULT_TEMPERATURE_K,
+                 magnitude: float = DEFAULT_MAGNITUDE, idle: Callable | None = None,
+                 scale: MiredScale | None = None):
+        self.events = ModelEvents()
+        self.slider_scale = scale if scale is not None else MiredScale(
+            mired_per_step=1.0 / POSITIONS_PER_MIRED)
+        self._slider_temperature_K = self.slider_scale.temperatures_K()
+        self.spectrum_wavelength_nm = spectrum_plot_wavelengths_nm(
+            step_outside_nm=SPECTRUM_STEP_OUTSIDE_NM, step_band_nm=SPECTRUM_STEP_BAND_NM)
+        self._strip_temperature_K = self.slider_scale.cell_temperatures(STRIP_CELLS)
+        self.strip_ticks = tuple((float(self.slider_scale.fraction_of(t)), float(t))
+                                 for t in STRIP_TICKS_K)
+        self._idle = idle
+        self._table: SliderTable | None = None
+        self._table_on = True
+        self._cluster: Cluster | None = None
+        self._cluster_error: str | None = None
+        self._sky: tuple | None = None
+        settings = settings if settings is not None else Settings()
+        if not isinstance(settings, Settings):
+            raise StarkilnError(f"not a settings object: {settings!r}")
+        self._settings = settings
+        self._magnitude = float(check_magnitude(magnitude))
+        t = float(check_temperature(temperature_K))
+        self._plots = self._plots_for(settings)
+        self._place(t, None, self._colour_for(settings, t, self._magnitude))
+        self._schedule_table()
+
+    # -- read ----------------------------------------------------------------------------------
+    @property
+    def settings(self) -> Settings:
+        """The current, validated settings."""
+        return self._settings
+
+    @property
+    def temperature_K(self) -> float:
+        """The current temperature, K."""
+        return self._temperature_K
+
+    @property
+    def magnitude(self) -> float:
+        """The current apparent magnitude (for the night-vision readouts)."""
+        return self._magnitude
+
+    @property
+    def mired(self) -> float:
+        """The current temperature in mired (1e6 / T)."""
+        return float(temperature_to_mired(self._temperature_K))
+
+    @property
+    def colour(self) -> CurrentColour:
+        """Renders of the current temperature (plain, at the magnitude, the brightness strip)."""
+        return self._colour
+
+    @property
+    def plots(self) -> PlotData:
+        """Plot and strip data for the current settings."""
+        return self._plots
+
+    @property
+    def spectrum(self) -> PlanckCurve:
+        """Planck curve of the current temperature over :attr:`spectrum_wavelength_nm`."""
+        return self._spectrum
+
+    @property
+    def slider_position(self) -> int:
+        """The slider position of the current temperature (clipped to the slider's ends)."""
+        return self._position
+
+    @property
+    def slider_fraction(self) -> float:
+        """Where the current temperature lies along the slider, 0..1 (clipped)."""
+        return self._fraction
+
+    @property
+    def strip_cell(self) -> int:
+        """Index of the temperature strip's cell holding the current temperature."""
+        return min(int(self._fraction * STRIP_CELLS), STRIP_CELLS - 1)
+
+    # -- change --------------------------------------------------------------------------------
+    def set_temperature(self, temperature_K, origin: str = "") -> None:
+        """Make ``temperature_K`` current (StarkilnError if the engine rejects it)."""
+        try:
+            t = float(check_temperature(temperature_K))
+            if t == self._temperature_K:
+                return
+            colour = self._colour_for(self._settings, t, self._magnitude)
+        except StarkilnError as exc:
+            self._report(origin, exc)
+            raise
+        self._place(t, None, colour)
+        self.events.temperature.emit(origin, t)
+
+    def set_slider_position(self, position: int, origin: str = "slider") -> None:
+        """Make the temperature of slider ``position`` current (looked up when the table is ready).
+
+        Nothing happens when the model is at that position already (a slider
+        that was just moved to show the model's temperature sets it back).
+        """
+        p = int(position)
+        if p == self._position:
+            return
+        if not 0 <= p <= self.slider_scale.steps:
+            exc = InputRangeError(f"slider position {p} is outside 0-{self.slider_scale.steps}")
+            self._report(origin, exc)
+            raise exc
+        t = float(self._slider_temperature_K[p])
+        if self.table_ready:
+            colour = self._colour_from_table(p)
+        else:
+            try:
+                colour = self._colour_for(self._settings, t, self._magnitude)
+            except StarkilnError as exc:
+                self._report(origin, exc)
+                raise
+        self._place(t, p, colour)
+        self.events.temperature.emit(origin, t)
+
+    def set_temperature_from_bv(self, bv, origin: str = "bv") -> None:
+        """Temperature from a Johnson B-V colour index (Ballesteros 2012, via the engine)."""
+        try:
+            t = float(temperature_from_bv(bv))
+        except StarkilnError as exc:
+            self._report(origin, exc)
+            raise
+        self.set_temperature(t, origin)
+
+    def set_temperature_from_class(self, spectral_class: str, origin: str = "class") -> None:
+        """Temperature of a main-sequence spectral class (the engine's published table)."""
+        try:
+            t = float(temperature_from_spectral_class(spectral_class))
+        except StarkilnError as exc:
+            self._report(origin, exc)
+            raise
+        self.set_temperature(t, origin)
+
+    def set_magnitude(self, magnitude, origin: str = "") -> None:
+        """Make ``magnitude`` current (StarkilnError when outside the engine's range)."""
+        try:
+            m = float(check_magnitude(magnitude))
+            if m == self._magnitude:
+                return
+            colour = self._colour_for(self._settings, self._temperature_K, m)
+        except StarkilnError as exc:
+            self._report(origin, exc)
+            raise
+        self._magnitude = m
+        self._colour = colour
+        self._schedule_table()
+        self.events.magnitude.emit(origin, m)
+
+    def set_settings(self, settings: Settings, origin: str = "") -> None:
+        """Replace the settings object; every view redraws (nothing happens if it is equal)."""
+        try:
+            if not isinstance(settings, Settings):
+                raise StarkilnError(f"not a settings object: {settings!r}")
+            if settings == self._settings:
+                return
+            colour = self._colour_for(settings, self._temperature_K, self._magnitude)
+            plots = self._plots_for(settings)
+        except StarkilnError as exc:
+            self._report(origin, exc)
+            raise
+        self._settings, self._colour, self._plots = settings, colour, plots
+        self._schedule_table()
+        self.events.settings.emit(origin, settings)
+        self.events.plots.emit(origin, plots)
+
+    def change(self, origin: str = "", **fields) -> None:
+        """Change some settings fields (validated by :meth:`Settings.replace`)."""
+        try:
+            settings = self._settings.replace(**fields)
+        except StarkilnError as exc:
+            self._report(origin, exc)
+            raise
+        self.set_settings(settings, origin)
+
+    def change_display(self, origin: str = "", **fields) -> None:
+        """Change some fields of the current display (name, primaries, transfer, peak...)."""
+        try:
+            display = dataclasses.replace(self._settings.display, **fields)
+        except StarkilnError as exc:
+            self._report(origin, exc)
+            raise
+        self.change(origin, display=display)
+
+    def open_display_profile(self, path, origin: str = "display") -> None:
+        """Use the display of a JSON display profile (StarkilnError naming the file)."""
+        try:
+            display = load_display_profile(path)
+        except StarkilnError as exc:
+            self._report(origin, exc)
+            raise
+        self.change(origin, display=display)
+
+    def load_settings_file(self, path, origin: str = "file") -> None:
+        """Use the settings of a TOML settings file (StarkilnError naming the file and key)."""
+        try:
+            settings = load_settings(path)
+        except StarkilnError as exc:
+            self._report(origin, exc)
+            raise
+        self.set_settings(settings, origin)
+
+    def save_settings_file(self, path) -> None:
+        """Write the current settings as TOML, atomically (StarkilnError or OSError)."""
+        save_settings(self._settings, path)
+
+    def settings_toml(self) -> str:
+        """The current settings as TOML text."""
+        return settings_to_toml(self._settings)
+
+    def reset_settings(self, origin: str = "file") -> None:
+        """Back to the engine's default settings."""
+        self.set_settings(Settings(), origin)
+
+    # -- demo sky ------------------------------------------------------------------------------
+    @property
+    def cluster(self) -> Cluster | None:
+        """The invented demo cluster (read once), or None if it cannot be read."""
+        if self._cluster is None and self._cluster_error is None:
+            try:
+                self._cluster = load_demo_cluster()
+            except StarkilnError as exc:
+                self._cluster_error = str(exc)
+        return self._cluster
+
+    @property
+    def cluster_error(self) -> str:
+        """Why the demo cluster could not be read ("" if it could)."""
+        return "" if self.cluster is not None else (self._cluster_error or "")
+
+    def sky_image(self, width_px: int, height_px: int) -> SkyImage:
+        """The demo cluster drawn with the current settings (the last picture is kept).
+
+        Raises StarkilnError when there is no cluster or the size is not accepted.
+        """
+        cluster = self.cluster
+        if cluster is None:
+            raise StarkilnError(self._cluster_error)
+        key = (self._settings, int(width_px), int(height_px))
+        if self._sky is None or self._sky[0] != key:
+            self._sky = (key, sky_image(self._settings, cluster, width_px, height_px))
+        return self._sky[1]
+
+    def pick_star(self, index: int, origin: str = "sky") -> None:
+        """Audition star ``index`` of the demo cluster: its temperature and magnitude.
+
+        A magnitude the engine does not accept is reported on ``events.rejected``
+        and the star's temperature stands.
+        """
+        c = self.cluster
+        self.set_temperature(float(c.temperature_K[index]), origin)
+        try:
+            self.set_magnitude(float(c.magnitude[index]), origin)
+        except StarkilnError:
+            pass
+
+    # -- slider table --------------------------------------------------------------------------
+    @property
+    def slider_temperature_K(self) -> np.ndarray:
+        """Temperatures of the slider's positions, K (read-only view)."""
+        view = self._slider_temperature_K.view()
+        view.flags.writeable = False
+        return view
+
+    @property
+    def slider_table(self) -> SliderTable | None:
+        """The renders of every slider position, if built."""
+        return self._table
+
+    @property
+    def table_ready(self) -> bool:
+        """Whether slider steps are looked up (the table matches the settings and magnitude)."""
+        t = self._table
+        return t is not None and t.settings is self._settings and t.magnitude == self._magnitude
+
+    def use_slider_table(self, on: bool) -> None:
+        """Turn the slider table on (default) or off (each step rendered directly; benchmarks)."""
+        self._table_on = bool(on)
+        self._table = None
+        self._schedule_table()
+
+    def build_table(self) -> None:
+        """Render every slider position now (normally run through the ``idle`` hook)."""
+        if self.table_ready or not self._table_on:
+            return
+        s, t = self._settings, self._slider_temperature_K
+        plain = render(s, t)
+        mags = np.concatenate([[self._magnitude], magnitude_ladder(s)])
+        night = render(s, t[:, None], mags[None, :])
+        self._table = SliderTable(s, self._magnitude, t, plain, night)
+
+    # -- inside --------------------------------------------------------------------------------
+    def _schedule_table(self) -> None:
+        if self._idle is not None and self._table_on and not self.table_ready:
+            self._idle(self.build_table)
+
+    def _report(self, origin: str, exc: StarkilnError) -> None:
+        self.events.rejected.emit(origin, exc)
+
+    def _place(self, t: float, position: int | None, colour: CurrentColour) -> None:
+        """Commit a new temperature: its colour, spectrum and slider position."""
+        spectrum = planck_curve(t, self.spectrum_wavelength_nm)
+        if position is None:
+            self._fraction = float(self.slider_scale.fraction_of(t))
+            self._position = int(round(self._fraction * self.slider_scale.steps))
+        else:
+            self._position = position
+            self._fraction = position / self.slider_scale.steps
+        self._temperature_K, self._colour, self._spectrum = t, colour, spectrum
+
+    def _colour_from_table(self, position: int) -> CurrentColour:
+        table = self._table
+        return _current_colour(float(table.temperature_K[position]), table.magnitude,
+                               table.plain.take(position), table.night.take(position),
+                               magnitude_ladder(table.settings))
+
+    @staticmethod
+    def _colour_for(settings: Settings, t: float, magnitude: float) -> CurrentColour:
+        mags = magnitude_ladder(settings)
+        plain = render(settings, t)
+        # one call: the current magnitude first, then the strip's magnitudes
+        both = render(settings, np.full(mags.size + 1, t), np.concatenate([[magnitude], mags]))
+        return _current_colour(t, magnitude, plain, both, mags)
+
+    def _plots_for(self, settings: Settings) -> PlotData:
+        strip = render(settings, self._strip_temperature_K)
+        return PlotData(settings=settings, band=spectral_band_colours(settings),
+                        overlays=efficiency_overlays(settings.observer),
+                        diagram=chromaticity_diagram(settings),
+                        strip_temperature_K=self._strip_temperature_K, strip=strip,
+                        strip_rgb_8bit=to_8bit(strip.rgb_encoded), strip_hex=strip.hex())
+
+
+def _current_colour(t: float, magnitude: float, plain: Rendered, both: Rendered,
+                    mags: np.ndarray) -> CurrentColour:
+    """``both`` holds the render at ``magnitude`` first, then at each of ``mags``."""
+    at = both.take(0)
+    ladder = both.take(slice(1, None))
+    return CurrentColour(
+        temperature_K=t, magnitude=magnitude, plain=plain, at_magnitude=at,
+        ladder_magnitudes=mags, ladder=ladder, rgb_8bit=to_8bit(plain.rgb_encoded),
+        hex=str(plain.hex()), dimmed_rgb_8bit=to_8bit(at.rgb_dimmed_encoded),
+        dimmed_hex=str(to_hex(at.rgb_dimmed_encoded)),
+        ladder_rgb_8bit=to_8bit(ladder.rgb_dimmed_encoded))
