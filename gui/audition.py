@@ -11,7 +11,7 @@ from __future__ import annotations
 import numpy as np
 from PySide6 import QtCore, QtWidgets
 
-from starkiln.engine.pipeline.render import to_8bit
+from starkiln.engine.colour.quantisation import to_8bit
 from starkiln.engine.stars.temperature import SPECTRAL_CLASS_TEFF_K, temperature_from_bv
 from starkiln.engine.stars.temperature import temperature_from_spectral_class
 from starkiln.engine.plotdata.plots import MiredScale, temperature_to_mired

@@ -5,7 +5,7 @@ from __future__ import annotations
 import numpy as np
 from PySide6 import QtCore, QtGui, QtWidgets
 
-from starkiln.engine.pipeline.render import to_8bit, to_hex
+from starkiln.engine.colour.quantisation import to_8bit, to_hex
 from starkiln.gui.swatches import ColourSwatch, Readouts, SwatchStrip
 from starkiln.gui.theme import Theme
 

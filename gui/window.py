@@ -25,7 +25,7 @@ from pathlib import Path
 from PySide6 import QtCore, QtGui, QtWidgets
 
 from starkiln.engine.errors import StarkilnError
-from starkiln.engine.pipeline.render import to_8bit
+from starkiln.engine.colour.quantisation import to_8bit
 from starkiln.engine.pipeline.settings import Settings, load_settings, save_settings, settings_to_toml
 from starkiln.gui.audition import AuditionPanel
 from starkiln.gui.controls import CAUTION, LookPanel

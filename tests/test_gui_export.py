@@ -15,7 +15,8 @@ import pytest
 from PySide6 import QtGui
 
 from starkiln.cli.main import main as cli_main
-from starkiln.engine.pipeline.render import render, to_8bit
+from starkiln.engine.pipeline.render import render
+from starkiln.engine.colour.quantisation import to_8bit
 from test_gui_support import escaped, pytestmark, shared_window, window  # noqa: F401
 
 ROOT = Path(__file__).resolve().parent.parent

@@ -21,8 +21,9 @@ import numpy as np
 import pytest
 
 from starkiln.engine.errors import StarkilnError
+from starkiln.engine.exports.contact_sheets import sheet_swatch_boxes
 from starkiln.engine.exports.palettes import (build_palette, class_temperatures, palette_csv, palette_dict,
-                            palette_gpl, sheet_swatch_boxes, step_temperatures, write_palette)
+                            palette_gpl, step_temperatures, write_palette)
 from starkiln.engine.pipeline.render import render
 from starkiln.engine.pipeline.settings import Settings
 

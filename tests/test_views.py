@@ -12,7 +12,8 @@ import pytest
 
 from starkiln.engine.colour.displays import PRESETS, load_display_profile
 from starkiln.engine.errors import InputRangeError, SettingsError
-from starkiln.engine.pipeline.render import render, to_8bit
+from starkiln.engine.pipeline.render import render
+from starkiln.engine.colour.quantisation import to_8bit
 from starkiln.engine.pipeline.settings import Settings
 from starkiln.engine.plotdata.plots import (VISIBLE_BAND_NM, MiredScale, chromaticity_diagram, efficiency_overlays,
                           load_demo_cluster, magnitude_ladder, mired_to_temperature,

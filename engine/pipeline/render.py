@@ -30,6 +30,7 @@ from starkiln.engine.colour.gamut import Oklab_to_XYZ, XYZ_to_Oklab, channel_max
 from starkiln.engine.colour.observers import (KM_PHOTOPIC_LM_W, KM_SCOTOPIC_LM_W, XYZ_to_xy, cmfs, v_photopic,
                               v_scotopic, xy_to_XYZ)
 from starkiln.engine.colour.displays import D65_4DIGIT, Display
+from starkiln.engine.colour.quantisation import to_hex
 from starkiln.engine.pipeline.settings import Settings
 from starkiln.engine.stars.temperature import check_temperature
 from starkiln.engine.colour.spectrum import planck_weighted_sums
@@ -111,19 +112,6 @@ class Rendered:
         return to_hex(self.rgb_encoded)
 
 
-def to_hex(rgb_encoded) -> np.ndarray:
-    """``#rrggbb`` strings from encoded RGB in 0-1 (value * 255, rounded; common practice)."""
-    q = to_8bit(rgb_encoded)
-    flat = q.reshape(-1, 3)
-    out = np.array([f"#{r:02x}{g:02x}{b:02x}" for r, g, b in flat.tolist()], dtype="<U7")
-    return out.reshape(q.shape[:-1])
-
-
-def to_8bit(rgb_encoded) -> np.ndarray:
-    """Encoded 0-1 -> uint8 by ``floor(v * 255 + 0.5)`` (common practice)."""
-    return np.floor(np.clip(np.asarray(rgb_encoded), 0.0, 1.0) * 255.0 + 0.5).astype(np.uint8)
-
-
 def blackbody_XYZ(temperature_K, observer: str = "cie1931") -> np.ndarray:
     """Tristimulus values (Y = 1) of Planckian radiators, vectorised and chunked.
 
@@ -188,8 +176,7 @@ def render(settings: Settings, temperature_K, magnitude=None) -> Rendered:
 
     Examples
     --------
-    >>> from starkiln.engine.colour.displays import Display
-from starkiln.engine.pipeline.settings import Settings
+    >>> from starkiln.engine.pipeline.settings import Settings
     >>> str(render(Settings(), 6504.0).hex())
     '#fff9fe'
     """

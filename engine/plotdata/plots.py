@@ -36,7 +36,8 @@ from starkiln.engine.errors import InputRangeError, SettingsError
 from starkiln.engine.colour.temperature_axis import mired_to_temperature, temperature_to_mired  # noqa: F401
 from starkiln.engine.colour.observers import XYZ_to_xy, check_observer, cmfs, spectral_locus_xy, v_photopic
 from starkiln.engine.colour.observers import v_scotopic
-from starkiln.engine.pipeline.render import blackbody_XYZ, display_rgb_from_XYZ, render, to_8bit
+from starkiln.engine.pipeline.render import blackbody_XYZ, display_rgb_from_XYZ, render
+from starkiln.engine.colour.quantisation import to_8bit
 from starkiln.engine.pipeline.settings import Settings
 from starkiln.engine.stars.temperature import check_temperature
 from starkiln.engine.colour.spectrum import peak_wavelength_nm, planck_radiance
