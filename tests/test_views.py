@@ -15,9 +15,10 @@ from starkiln.engine.errors import InputRangeError, SettingsError
 from starkiln.engine.pipeline.render import render
 from starkiln.engine.colour.quantisation import to_8bit
 from starkiln.engine.pipeline.settings import Settings
+from starkiln.engine.colour.displays import save_display_profile
 from starkiln.engine.plotdata.plots import (VISIBLE_BAND_NM, MiredScale, chromaticity_diagram, efficiency_overlays,
                           load_demo_cluster, magnitude_ladder, mired_to_temperature,
-                          planck_curve, planckian_locus_xy, save_display_profile, sky_image,
+                          planck_curve, planckian_locus_xy, sky_image,
                           spectral_band_colours, spectrum_plot_wavelengths_nm,
                           temperature_to_mired, Cluster)
 

@@ -231,6 +231,31 @@ def load_display_profile(path) -> Display:
     return display_from_profile(data, str(path))
 
 
+def save_display_profile(display, path, overwrite: bool = True) -> None:
+    """Write a display as a JSON display profile (format in the module docstring), atomically.
+
+    The text is ``json.dumps(display.to_profile(), indent=2)`` plus a newline;
+    :func:`load_display_profile` reads it back to an equal display.
+
+    Parameters
+    ----------
+    display : Display or str
+        A display, preset name or profile path (:func:`get_display`).
+    path : path-like
+        Destination ``.json``.
+    overwrite : bool
+        Replace an existing file.
+
+    References
+    ----------
+    RFC 8259 (JSON); :mod:`starkiln.engine.atomic` for the write.
+    """
+    from starkiln.engine.atomic import write_atomic
+
+    text = json.dumps(get_display(display).to_profile(), indent=2) + "\n"
+    write_atomic(path, text.encode("utf-8"), overwrite=overwrite)
+
+
 def get_display(spec) -> Display:
     """A display from a preset name, a path to a ``.json`` profile, or a :class:`Display`."""
     if isinstance(spec, Display):

@@ -396,25 +396,6 @@ def efficiency_overlays(observer: str = "cie1931") -> dict[str, tuple[np.ndarray
             "z": (wl, table[:, 2] / scale)}
 
 
-def save_display_profile(display, path, overwrite: bool = True) -> None:
-    """Write a display as a JSON display profile (format: :mod:`starkiln.engine.colour.displays`), atomically.
-
-    The text is ``json.dumps(display.to_profile(), indent=2)`` plus a newline;
-    :func:`starkiln.engine.colour.displays.load_display_profile` reads it back to an equal display.
-
-    References
-    ----------
-    RFC 8259 (JSON); :mod:`starkiln.engine.atomic` for the write.
-    """
-    import json
-
-    from starkiln.engine.atomic import write_atomic
-    from starkiln.engine.colour.displays import get_display
-
-    text = json.dumps(get_display(display).to_profile(), indent=2) + "\n"
-    write_atomic(path, text.encode("utf-8"), overwrite=overwrite)
-
-
 def magnitude_ladder(settings: Settings, step: float = 1.0) -> np.ndarray:
     """Magnitudes for the brightness strip: from ``magnitude_bright`` to ``magnitude_faint``.
 
