@@ -11,7 +11,7 @@ import math
 import numpy as np
 import pytest
 
-from starkiln.engine.colour.quantisation import quantise, to_8bit, to_16bit, to_hex
+from starkiln.engine.colour.quantisation import quantise, to_8bit, to_hex
 from starkiln.engine.errors import StarkilnError
 
 VALUES = [0.0, 1.0, 0.5, 0.498, 1.2, -0.1, 1.0 / 255.0, 0.5 / 255.0, 0.4999 / 255.0,
@@ -30,11 +30,11 @@ def test_quantise_matches_the_common_practice_formula(bits):
     assert got.tolist() == [common_practice(v, bits) for v in VALUES]
 
 
-def test_named_widths_are_the_same_quantisation():
+def test_to_8bit_and_16_bits_on_arrays_match_the_formula():
     rng = np.random.default_rng(7)
     v = rng.uniform(-0.1, 1.1, size=(50, 3))
     assert to_8bit(v).tolist() == [[common_practice(x, 8) for x in row] for row in v.tolist()]
-    assert to_16bit(v).tolist() == [[common_practice(x, 16) for x in row] for row in v.tolist()]
+    assert quantise(v, 16).tolist() == [[common_practice(x, 16) for x in row] for row in v.tolist()]
 
 
 def test_half_code_values_round_up():

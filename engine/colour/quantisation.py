@@ -57,11 +57,6 @@ def to_8bit(rgb_encoded) -> np.ndarray:
     return quantise(rgb_encoded, 8)
 
 
-def to_16bit(rgb_encoded) -> np.ndarray:
-    """Encoded 0-1 -> uint16 by ``floor(v * 65535 + 0.5)`` (:func:`quantise`; common practice)."""
-    return quantise(rgb_encoded, 16)
-
-
 def to_hex(rgb_encoded) -> np.ndarray:
     """``#rrggbb`` strings of encoded RGB in 0-1, from the 8-bit code values (common practice).
 
