@@ -38,8 +38,9 @@ _PUBLIC = {
                                         "temperature_from_spectral_class"),
     "temperature_from_bp_rp": ("starkiln.engine.stars.gaia", "temperature_from_bp_rp"),
     # exports
-    "TextureSpec": ("starkiln.engine.exports.textures", "LutSpec"),
-    "export_texture": ("starkiln.engine.exports.textures", "export_lut"),
+    "TextureSpec": ("starkiln.engine.exports.texture_spec", "TextureSpec"),
+    "export_texture": ("starkiln.engine.exports.textures", "export_texture"),
+    "export_palette": ("starkiln.engine.exports.palettes", "export_palette"),
     "build_palette": ("starkiln.engine.exports.palettes", "build_palette"),
     "write_palette": ("starkiln.engine.exports.palettes", "write_palette"),
     "CataloguePlan": ("starkiln.engine.catalogue.plan", "CataloguePlan"),

@@ -78,9 +78,9 @@ def main() -> int:
         big_total = _best(["lut", big, "--size", "4096x1024", "--force", *mags])
         size_mb = os.path.getsize(big) / 1e6
 
-    from starkiln.engine.exports.textures import LutSpec, lut_axes
+    from starkiln.engine.exports.texture_spec import TextureSpec, lut_axes
 
-    t, _ = lut_axes(LutSpec(width=1024, height=256))
+    t, _ = lut_axes(TextureSpec(width=1024, height=256))
     rng = np.random.default_rng(2024)
     sample = t[rng.integers(0, t.size, SAMPLE)]
     per_texel = colour_route_per_texel_s(sample)
@@ -111,14 +111,15 @@ def main() -> int:
 
 def _in_process_split(width: int, height: int) -> dict:
     """Where the time of a large texture goes: the render call, the whole build, the write."""
-    from starkiln.engine.exports.textures import LutSpec, build_lut, lut_axes, write_lut
+    from starkiln.engine.exports.texture_spec import TextureSpec, lut_axes
+    from starkiln.engine.exports.textures import build_lut, write_lut
     from starkiln.engine.pipeline.render import render
     from starkiln.engine.pipeline.settings import Settings
 
     s = Settings()
-    spec = LutSpec(width=width, height=height, file_format="exr", depth=32,
+    spec = TextureSpec(width=width, height=height, file_format="exr", depth=32,
                    magnitude_range=(-1.0, 7.0))
-    build_lut(s, LutSpec(width=8, height=2))  # warm caches
+    build_lut(s, TextureSpec(width=8, height=2))  # warm caches
     t, m = lut_axes(spec)
     t0 = time.perf_counter()
     render(s, t[None, :], None if m is None else m[:, None])

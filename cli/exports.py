@@ -1,6 +1,7 @@
 """Command line exports: ``starkiln lut`` (lookup textures) and ``starkiln palette``.
 
-Both are thin layers over :mod:`starkiln.engine.exports.textures` and :mod:`starkiln.engine.exports.palettes`: parse,
+Both are thin layers over :func:`starkiln.engine.exports.textures.export_texture` and
+:func:`starkiln.engine.exports.palettes.export_palette` (which the window calls too): parse,
 build one :class:`starkiln.engine.pipeline.settings.Settings`, check the destination
 (:func:`starkiln.engine.atomic.check_writable`) before computing, write atomically.
 Ranges are ``A:B`` and may start with a minus sign as typed
@@ -13,7 +14,7 @@ import argparse
 import re
 
 from starkiln.cli.options import add_colour_options, settings_from_args
-from starkiln.engine.errors import StarkilnError
+from starkiln.engine.errors import StarkilnError, finite_number
 
 #: A value that starts like a negative number range, "-1:7", "-1.5:-0.5", "-2e1:3".
 _RANGE_VALUE = re.compile(r"^-\d*\.?\d+([eE][-+]?\d+)?\s*:")
@@ -37,15 +38,15 @@ def parse_range(text: str, what: str) -> tuple[float, float]:
     if len(parts) != 2:
         raise StarkilnError(f"{what} {text!r} must be two numbers A:B (e.g. 1000:40000)")
     try:
-        a, b = float(parts[0]), float(parts[1])
-    except ValueError:
+        a, b = (finite_number(v, what) for v in parts)
+    except StarkilnError:
         raise StarkilnError(f"{what} {text!r} must be two numbers A:B (e.g. 1000:40000)") from None
     return a, b
 
 
 def parse_size(text: str) -> tuple[int, int]:
     """``"WxH"`` -> ``(W, H)``; each side 1-16384."""
-    from starkiln.engine.exports.textures import MAX_SIDE
+    from starkiln.engine.exports.texture_spec import MAX_SIDE
 
     m = re.fullmatch(r"\s*(-?\d+)\s*[xX]\s*(-?\d+)\s*", str(text))
     if not m:
@@ -127,7 +128,8 @@ def _settings_overriding(base, args):
 
 
 def _lut_spec_and_settings(args):
-    from starkiln.engine.exports.textures import DEFAULT_TEMPERATURE_RANGE_K, LutSpec, format_for_path, spec_from_metadata
+    from starkiln.engine.exports.texture_metadata import spec_from_metadata
+    from starkiln.engine.exports.texture_spec import DEFAULT_TEMPERATURE_RANGE_K, TextureSpec, format_for_path
 
     fmt = format_for_path(args.out)
     if args.settings_from:
@@ -171,23 +173,15 @@ def _lut_spec_and_settings(args):
                                 "float")
     if depth is None:
         depth = 32 if fmt == "exr" else 8
-    return LutSpec(file_format=fmt, depth=depth, **base), settings
+    return TextureSpec(file_format=fmt, depth=depth, **base), settings
 
 
 def cmd_lut(args, out) -> int:
     """``starkiln lut``: write a lookup texture (see :mod:`starkiln.engine.exports.textures`)."""
-    from starkiln.engine.atomic import check_writable
-    from starkiln.engine.exports.textures import build_lut, write_lut
+    from starkiln.engine.exports.textures import export_texture
 
     spec, settings = _lut_spec_and_settings(args)
-    check_writable(args.out, args.force)
-    try:
-        array, metadata = build_lut(settings, spec)
-    except MemoryError:
-        raise StarkilnError(f"not enough memory for a {spec.width} x {spec.height} texture"
-                            f"{' with magnitudes' if spec.magnitude_range else ''}; try a "
-                            "smaller --size") from None
-    write_lut(args.out, array, metadata, spec, overwrite=args.force)
+    export_texture(settings, spec, args.out, overwrite=args.force)
     a, b = spec.temperature_range_K
     rows = ("a full-colour strip" if spec.magnitude_range is None
             else "magnitudes {:g} (top) to {:g}".format(*spec.magnitude_range))
@@ -201,8 +195,7 @@ def cmd_lut(args, out) -> int:
 
 def cmd_palette(args, out) -> int:
     """``starkiln palette``: write swatches (see :mod:`starkiln.engine.exports.palettes`)."""
-    from starkiln.engine.atomic import check_writable
-    from starkiln.engine.exports.palettes import build_palette, palette_format_for_path, write_palette
+    from starkiln.engine.exports.palettes import export_palette, palette_format_for_path
 
     palette_format_for_path(args.out)
     settings = settings_from_args(args)
@@ -219,9 +212,8 @@ def cmd_palette(args, out) -> int:
                   "axis": args.axis or "mired"}
     if args.columns is not None and not 1 <= args.columns <= 256:
         raise StarkilnError(f"--columns {args.columns} is outside the accepted range 1-256")
-    check_writable(args.out, args.force)
-    palette = build_palette(settings, **kwargs)
-    write_palette(palette, args.out, overwrite=args.force, name=args.name, columns=args.columns)
+    palette = export_palette(settings, args.out, **kwargs, name=args.name, columns=args.columns,
+                             overwrite=args.force)
     out.write(f"wrote {args.out}: {len(palette.names)} swatches, display "
               f"{settings.display.name}, white {settings.scene_white}\n")
     return 0

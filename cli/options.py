@@ -26,10 +26,13 @@ class Parser(argparse.ArgumentParser):
 
 
 def number(text: str) -> float:
+    """argparse type: a finite number (:func:`starkiln.engine.errors.finite_number`)."""
+    from starkiln.engine.errors import StarkilnError, finite_number
+
     try:
-        return float(text)
-    except ValueError:
-        raise argparse.ArgumentTypeError(f"{text!r} is not a number") from None
+        return finite_number(text, "")
+    except StarkilnError as exc:
+        raise argparse.ArgumentTypeError(str(exc)) from None
 
 
 def positive_int(text: str) -> int:

@@ -62,18 +62,45 @@ def new_file_mode() -> int:
     return 0o666 & ~mask
 
 
+def _flush_to_disk(path) -> None:
+    """fsync a finished file, so the rename never publishes a file whose data is still in flight."""
+    fd = os.open(path, os.O_RDONLY)
+    try:
+        os.fsync(fd)
+    finally:
+        os.close(fd)
+
+
 @contextmanager
-def atomic_path(path, overwrite: bool = True):
-    """Yield a temporary path beside ``path``; on success rename it over ``path``.
+def atomic_path(path, overwrite: bool = True, make_folder: bool = False):
+    """Yield a temporary path beside ``path``; on success flush it to disk and rename it over ``path``.
 
     The temporary name keeps the extension, so writers that pick a format by
-    extension still work. On any exception the temporary file is removed.
+    extension still work. On any exception the temporary file is removed. The
+    writer inside only writes; this function owns the flush, the mode
+    (:func:`new_file_mode`) and the rename.
+
+    Parameters
+    ----------
+    path : path-like
+        The destination.
+    overwrite : bool
+        Replace an existing file (otherwise :class:`OutputExistsError`, old file untouched).
+    make_folder : bool
+        Create the destination folder first (caches); exports never do.
+
+    References
+    ----------
+    POSIX ``rename(2)`` (atomic within a file system) and ``fsync(2)`` (common practice).
     """
+    if make_folder:
+        Path(path).parent.mkdir(parents=True, exist_ok=True)
     path = check_writable(path, overwrite)
     fd, tmp = tempfile.mkstemp(dir=path.parent, prefix=f".{path.stem}.", suffix=path.suffix)
     os.close(fd)
     try:
         yield Path(tmp)
+        _flush_to_disk(tmp)
         if path.exists() and not overwrite:
             raise OutputExistsError(f"{path} exists; pass --force to overwrite it")
         os.chmod(tmp, new_file_mode())
@@ -86,10 +113,31 @@ def atomic_path(path, overwrite: bool = True):
         raise
 
 
-def write_atomic(path, data: bytes, overwrite: bool = True) -> None:
-    """Write ``data`` to ``path`` atomically (see the module docstring)."""
-    with atomic_path(path, overwrite) as tmp:
+def write_atomic(path, data: bytes, overwrite: bool = True, make_folder: bool = False) -> None:
+    """Write ``data`` to ``path`` atomically (see the module docstring and :func:`atomic_path`)."""
+    with atomic_path(path, overwrite, make_folder) as tmp:
         with open(tmp, "wb") as fh:
             fh.write(data)
-            fh.flush()
-            os.fsync(fh.fileno())
+
+
+def write_npz_atomic(path, arrays: dict, make_folder: bool = True) -> None:
+    """Save numpy arrays as an uncompressed ``.npz`` archive atomically (:func:`atomic_path`).
+
+    For caches: the folder is created, an existing file is replaced, and a folder that cannot
+    be written raises :class:`OSError` (``PermissionError``) like any other I/O failure, so a
+    cache can fall back to memory with one ``except OSError``.
+
+    References
+    ----------
+    ``numpy.savez`` (a ZIP archive of ``.npy`` files; numpy NEP 1).
+    """
+    import numpy as np
+
+    folder = Path(path).parent
+    if make_folder:
+        folder.mkdir(parents=True, exist_ok=True)
+    if not os.access(folder, os.W_OK):
+        raise PermissionError(f"{path}: folder {str(folder)!r} is not writable")
+    with atomic_path(path, True) as tmp:
+        with open(tmp, "wb") as fh:
+            np.savez(fh, **arrays)

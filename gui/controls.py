@@ -245,7 +245,7 @@ class DisplayTab(_Form):
 
     def save_profile(self, path) -> bool:
         """Write the current display as a JSON profile (atomically)."""
-        from starkiln.engine.plotdata.plots import save_display_profile
+        from starkiln.engine.colour.displays import save_display_profile
 
         try:
             save_display_profile(self.model.settings.display, path)

@@ -158,7 +158,8 @@ class LutDialog(_ExportDialog):
 
     def __init__(self, model, parent=None):
         super().__init__(model, parent)
-        from starkiln.engine.exports.textures import AXIS_MAPPINGS, DEFAULT_TEMPERATURE_RANGE_K, DEPTHS
+        from starkiln.engine.colour.temperature_axis import AXIS_MAPPINGS
+        from starkiln.engine.exports.texture_spec import DEFAULT_TEMPERATURE_RANGE_K, DEPTHS
 
         self.setObjectName("lut-dialog")
         self.setWindowTitle("Export a lookup texture")
@@ -223,8 +224,8 @@ class LutDialog(_ExportDialog):
         self.refresh_preview()
 
     def spec_for(self, path: Path):
-        """The :class:`starkiln.engine.exports.textures.LutSpec` for the options and the output path's format."""
-        from starkiln.engine.exports.textures import LutSpec, format_for_path
+        """The :class:`starkiln.engine.exports.textures.TextureSpec` for the options and the output path's format."""
+        from starkiln.engine.exports.texture_spec import TextureSpec, format_for_path
 
         fmt = format_for_path(path)
         a = parse_number(self.t_min.text(), "lowest temperature")
@@ -235,7 +236,7 @@ class LutDialog(_ExportDialog):
                     parse_number(self.m_faint.text(), "faintest magnitude"))
         w = parse_number(self.width_edit.text(), "texture width")
         h = parse_number(self.height_edit.text(), "texture height")
-        return LutSpec(width=w, height=h, temperature_range_K=(a, b),
+        return TextureSpec(width=w, height=h, temperature_range_K=(a, b),
                        axis=self.axis.currentText(), magnitude_range=mags,
                        alpha=self.alpha.isChecked(), premultiply=self.premultiply.isChecked(),
                        file_format=fmt, depth=32 if fmt == "exr" else self.depth.currentData())
@@ -301,7 +302,8 @@ class PaletteDialog(_ExportDialog):
 
     def __init__(self, model, parent=None):
         super().__init__(model, parent)
-        from starkiln.engine.exports.textures import AXIS_MAPPINGS, DEFAULT_TEMPERATURE_RANGE_K
+        from starkiln.engine.colour.temperature_axis import AXIS_MAPPINGS
+        from starkiln.engine.exports.texture_spec import DEFAULT_TEMPERATURE_RANGE_K
 
         self.setObjectName("palette-dialog")
         self.setWindowTitle("Export a palette")
@@ -385,7 +387,8 @@ class PaletteDialog(_ExportDialog):
         return build_palette(self.session.settings, **self.palette_options())
 
     def _preview(self) -> None:
-        from starkiln.engine.exports.palettes import palette_format_for_path, sheet_image
+        from starkiln.engine.exports.contact_sheets import sheet_image
+        from starkiln.engine.exports.palettes import palette_format_for_path
 
         path = Path(self.path.text().strip() or self.default_name)
         fmt = palette_format_for_path(path)

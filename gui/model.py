@@ -48,7 +48,8 @@ from starkiln.engine.colour.displays import load_display_profile
 from starkiln.engine.colour.temperature_axis import temperature_to_mired
 from starkiln.engine.errors import InputRangeError, StarkilnError
 from starkiln.engine.eye.vision import check_magnitude
-from starkiln.engine.pipeline.render import Rendered, render, to_8bit, to_hex
+from starkiln.engine.colour.quantisation import to_8bit, to_hex
+from starkiln.engine.pipeline.render import Rendered, render
 from starkiln.engine.pipeline.settings import Settings, load_settings, save_settings
 from starkiln.engine.pipeline.settings import settings_to_toml
 from starkiln.engine.plotdata.plots import (BandColours, ChromaticityDiagram, MiredScale,

@@ -1,7 +1,7 @@
 """Swatches: the current colour, its readouts, and the strips across temperature and magnitude.
 
 Pixels are filled with the 8-bit values the engine gives
-(:func:`starkiln.engine.pipeline.render.to_8bit` of ``rgb_encoded``), unchanged.
+(:func:`starkiln.engine.colour.quantisation.to_8bit` of ``rgb_encoded``), unchanged.
 """
 
 from __future__ import annotations

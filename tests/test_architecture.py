@@ -44,7 +44,13 @@ def _imports(tree, module_name, is_package):
     """Every imported module name in ``tree`` (absolute), with the line and whether it is
     inside a function, and the names taken by ``from X import a, b``."""
     found = []
+    typing_only = set()
+    for node in ast.walk(tree):  # ``if TYPE_CHECKING:`` imports never run (PEP 484)
+        if isinstance(node, ast.If) and "TYPE_CHECKING" in ast.unparse(node.test):
+            typing_only.update(id(n) for b in node.body for n in ast.walk(b))
     for node in ast.walk(tree):
+        if id(node) in typing_only:
+            continue
         if isinstance(node, ast.Import):
             for alias in node.names:
                 found.append((alias.name, node.lineno, ()))
@@ -64,6 +70,8 @@ def _top_level_imports(tree):
     names = set()
     for node in tree.body:
         stmts = [node]
+        if isinstance(node, ast.If) and "TYPE_CHECKING" in ast.unparse(node.test):
+            continue  # typing-only imports never run (PEP 484)
         if isinstance(node, (ast.If, ast.Try)):
             stmts = list(ast.walk(node))
         for s in stmts:

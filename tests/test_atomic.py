@@ -49,3 +49,59 @@ def test_missing_folder_is_one_line(tmp_path):
     with pytest.raises(StarkilnError) as exc:
         write_atomic(tmp_path / "nope" / "x.bin", b"")
     assert "does not exist" in str(exc.value) and "\n" not in str(exc.value)
+
+
+# --- the one writer: flush, folder creation, npz caches ------------------------------------
+
+def test_atomic_path_flushes_the_file_before_renaming(tmp_path, monkeypatch):
+    # POSIX fsync(2) before rename(2): the published file's data is on disk (common practice).
+    import starkiln.engine.atomic as atomic
+
+    order = []
+    real_fsync, real_replace = os.fsync, os.replace
+    monkeypatch.setattr(atomic.os, "fsync", lambda fd: (order.append("fsync"), real_fsync(fd)))
+    monkeypatch.setattr(atomic.os, "replace",
+                        lambda a, b: (order.append("replace"), real_replace(a, b)))
+    write_atomic(tmp_path / "a.bin", b"payload")
+    assert order == ["fsync", "replace"]
+    assert (tmp_path / "a.bin").read_bytes() == b"payload"
+
+
+def test_make_folder_creates_the_destination_folder(tmp_path):
+    target = tmp_path / "cache" / "deeper" / "x.bin"
+    with pytest.raises(StarkilnError, match="does not exist"):
+        write_atomic(target, b"1")
+    write_atomic(target, b"1", make_folder=True)
+    assert target.read_bytes() == b"1"
+
+
+def test_write_npz_atomic_round_trips_through_numpy(tmp_path):
+    # numpy.load as the reference reader of the .npz archive (numpy.savez format).
+    import numpy as np
+
+    from starkiln.engine.atomic import write_npz_atomic
+
+    path = tmp_path / "c" / "t.npz"
+    arrays = {"a": np.arange(5.0), "b": np.eye(3, dtype=np.float32)}
+    write_npz_atomic(path, arrays)
+    with np.load(path) as data:
+        assert sorted(data.files) == ["a", "b"]
+        assert np.array_equal(data["a"], arrays["a"]) and data["b"].dtype == np.float32
+    assert [p.name for p in path.parent.iterdir()] == ["t.npz"]  # no temporary file left
+
+
+def test_write_npz_atomic_reports_an_unwritable_folder_as_os_error(tmp_path):
+    # Caches fall back to memory on OSError; a folder that is not there must say so that way.
+    import numpy as np
+
+    from starkiln.engine.atomic import write_npz_atomic
+
+    with pytest.raises(OSError):
+        write_npz_atomic(tmp_path / "missing" / "t.npz", {"a": np.zeros(1)}, make_folder=False)
+
+
+def test_cie_cache_uses_the_one_writer():
+    import starkiln.engine.atomic as atomic
+    import starkiln.engine.colour.cie_data as cie_data
+
+    assert cie_data.write_npz_atomic is atomic.write_npz_atomic

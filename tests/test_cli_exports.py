@@ -294,7 +294,8 @@ def test_exports_get_the_usual_file_mode(tmp_path, capsys, name):
 
 def test_writer_failing_midway_leaves_the_old_file(tmp_path, monkeypatch):
     import starkiln.engine.exports.image_files
-    from starkiln.engine.exports.textures import LutSpec, export_lut
+    from starkiln.engine.exports.texture_spec import TextureSpec
+    from starkiln.engine.exports.textures import export_texture
 
     out = tmp_path / "old.png"
     out.write_bytes(b"previous good texture")
@@ -306,7 +307,7 @@ def test_writer_failing_midway_leaves_the_old_file(tmp_path, monkeypatch):
 
     monkeypatch.setattr(starkiln.engine.exports.image_files, "write_png", failing)
     with pytest.raises(OSError):
-        export_lut(Settings(), LutSpec(width=8, height=2), out, overwrite=True)
+        export_texture(Settings(), TextureSpec(width=8, height=2), out, overwrite=True)
     assert out.read_bytes() == b"previous good texture"
     assert [p.name for p in tmp_path.iterdir()] == ["old.png"]  # temporary file removed
 

@@ -9,7 +9,8 @@ import numpy as np
 import pytest
 from PySide6 import QtCore, QtGui, QtWidgets
 
-from starkiln.engine.pipeline.render import render, to_8bit
+from starkiln.engine.pipeline.render import render
+from starkiln.engine.colour.quantisation import to_8bit
 from starkiln.engine.pipeline.settings import Settings
 from starkiln.engine.plotdata.plots import efficiency_overlays, magnitude_ladder
 from starkiln.engine.plotdata.plots import spectral_band_colours

@@ -15,7 +15,8 @@ import pytest
 from PySide6 import QtGui
 
 from starkiln.cli.main import main as cli_main
-from starkiln.engine.pipeline.render import render, to_8bit
+from starkiln.engine.pipeline.render import render
+from starkiln.engine.colour.quantisation import to_8bit
 from test_gui_support import escaped, pytestmark, shared_window, window  # noqa: F401
 
 ROOT = Path(__file__).resolve().parent.parent
@@ -62,7 +63,7 @@ def test_lut_dialog_matches_the_command_line(window, tmp_path, capsys):
     assert gui_out.read_bytes() == cli_out.read_bytes()
     assert "--magnitudes -1:7" in d.command.text()
     # the preview is the same texture at 8 bits: its first texel is the render path's colour
-    from starkiln.engine.exports.textures import lut_axes
+    from starkiln.engine.exports.texture_spec import lut_axes
 
     t, m = lut_axes(d.spec_for(gui_out))
     r = render(window.model.settings, t[0], m[0])

@@ -13,7 +13,8 @@ import numpy as np
 import pytest
 
 from starkiln.engine.errors import InputRangeError, StarkilnError
-from starkiln.engine.pipeline.render import render, to_8bit
+from starkiln.engine.colour.quantisation import to_8bit
+from starkiln.engine.pipeline.render import render
 from starkiln.engine.pipeline.settings import Settings
 from starkiln.gui.model import WindowModel
 

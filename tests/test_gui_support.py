@@ -111,7 +111,8 @@ def centre_pixel(widget):
 
 def rendered_8bit(settings, temperature_K, magnitude=None):
     """The render path's 8-bit colour (display-encoded) of one star."""
-    from starkiln.engine.pipeline.render import render, to_8bit
+    from starkiln.engine.pipeline.render import render
+    from starkiln.engine.colour.quantisation import to_8bit
 
     r = render(settings, temperature_K, magnitude)
     rgb = r.rgb_encoded if magnitude is None else r.rgb_dimmed_encoded

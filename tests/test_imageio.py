@@ -152,3 +152,48 @@ def test_writers_reject_bad_arrays(tmp_path):
         write_png(tmp_path / "a.png", np.zeros((2, 2, 3), np.float32))
     with pytest.raises(StarkilnError):
         write_exr(tmp_path / "a.exr", np.zeros((2, 2, 2), np.float32))
+
+
+# --- strip-by-strip PNG writing ---------------------------------------------------------------
+
+def test_png_from_strips_reads_back_equal_with_pillow_and_pypng(tmp_path):
+    # Pillow and pypng are independent PNG readers (ISO/IEC 15948:2004).
+    import png
+    from PIL import Image
+
+    from starkiln.engine.exports.image_files import write_png_strips
+
+    rng = np.random.default_rng(3)
+    strips = [rng.integers(0, 256, size=(h, 9, 3), dtype=np.uint8) for h in (1, 4, 2)]
+    p = tmp_path / "s.png"
+    write_png_strips(p, iter(strips), 9, 7, {"starkiln": '{"k": 3}'}, compression=1)
+    whole = np.concatenate(strips)
+    with Image.open(p) as img:
+        assert img.mode == "RGB" and img.size == (9, 7)
+        assert np.array_equal(np.asarray(img), whole)
+        assert img.text["starkiln"] == '{"k": 3}'
+    w, h, rows, info = png.Reader(filename=str(p)).read()
+    assert (w, h, info["bitdepth"]) == (9, 7, 8)
+    assert np.array_equal(np.vstack(list(rows)).reshape(7, 9, 3), whole)
+
+
+def test_png_16bit_rgba_from_strips_keeps_every_sample(tmp_path):
+    import png
+
+    from starkiln.engine.exports.image_files import write_png_strips
+
+    a = _ramp(5, 3, 4, np.uint16)
+    p = tmp_path / "s16.png"
+    write_png_strips(p, [a[:2], a[2:]], 3, 5)
+    w, h, rows, info = png.Reader(filename=str(p)).read()
+    assert info["bitdepth"] == 16 and info["alpha"]
+    assert np.array_equal(np.vstack(list(rows)).reshape(5, 3, 4), a)
+
+
+def test_png_strips_must_add_up_to_the_image(tmp_path):
+    from starkiln.engine.exports.image_files import write_png_strips
+
+    with pytest.raises(StarkilnError, match="3 rows; the image has 4"):
+        write_png_strips(tmp_path / "x.png", [np.zeros((3, 2, 3), np.uint8)], 2, 4)
+    with pytest.raises(StarkilnError, match="width"):
+        write_png_strips(tmp_path / "x.png", [np.zeros((4, 3, 3), np.uint8)], 2, 4)

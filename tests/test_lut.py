@@ -16,9 +16,10 @@ import pytest
 
 import starkiln.engine.pipeline.settings
 from starkiln.engine.errors import StarkilnError
-from starkiln.engine.exports.textures import (LutSpec, build_lut, lut_axes, lut_metadata, magnitude_from_v,
-                        render_lut, spec_from_metadata, temperature_from_u, texel_centres,
-                        u_from_temperature, v_from_magnitude, write_lut)
+from starkiln.engine.exports.texture_metadata import lut_metadata, spec_from_metadata
+from starkiln.engine.colour.temperature_axis import temperature_from_u, u_from_temperature
+from starkiln.engine.exports.texture_spec import TextureSpec, lut_axes, magnitude_from_v, texel_centres, v_from_magnitude
+from starkiln.engine.exports.textures import build_lut, render_lut, write_lut
 from starkiln.engine.pipeline.render import render
 from starkiln.engine.pipeline.settings import Settings
 
@@ -68,7 +69,7 @@ def test_log_and_linear_axes_written_out():
 def test_magnitude_axis_top_row_is_brightest():
     assert float(v_from_magnitude(-1.0, (-1.0, 7.0))) == 0.0
     assert float(v_from_magnitude(7.0, (-1.0, 7.0))) == 1.0
-    spec = LutSpec(width=4, height=8, magnitude_range=(-1.0, 7.0))
+    spec = TextureSpec(width=4, height=8, magnitude_range=(-1.0, 7.0))
     t, m = lut_axes(spec)
     # row j samples v = (j + 0.5) / H (issue 4), m = A + v (B - A)
     assert np.allclose(m, [-1.0 + (j + 0.5) / 8 * 8.0 for j in range(8)])
@@ -77,7 +78,7 @@ def test_magnitude_axis_top_row_is_brightest():
 
 
 def test_columns_sample_the_temperature_axis_at_texel_centres():
-    spec = LutSpec(width=5, height=1, temperature_range_K=(2000.0, 10000.0), axis="mired")
+    spec = TextureSpec(width=5, height=1, temperature_range_K=(2000.0, 10000.0), axis="mired")
     t, m = lut_axes(spec)
     assert m is None
     ma, mb = 1e6 / 2000.0, 1e6 / 10000.0
@@ -87,7 +88,7 @@ def test_columns_sample_the_temperature_axis_at_texel_centres():
 
 def test_strip_rows_all_hold_full_colour_from_the_render_path():
     s = Settings()
-    spec = LutSpec(width=64, height=6)
+    spec = TextureSpec(width=64, height=6)
     arr, meta = build_lut(s, spec)
     assert arr.shape == (6, 64, 3) and arr.dtype == np.uint8
     assert (arr == arr[:1]).all()
@@ -100,7 +101,7 @@ def test_strip_rows_all_hold_full_colour_from_the_render_path():
 
 def test_exr_strip_is_display_linear_float():
     s = Settings().replace(display="display-p3", scene_white="D50")
-    spec = LutSpec(width=32, height=2, file_format="exr", depth=32, alpha=True)
+    spec = TextureSpec(width=32, height=2, file_format="exr", depth=32, alpha=True)
     arr, meta = build_lut(s, spec)
     assert arr.dtype == np.float32 and arr.shape == (2, 32, 4)
     t, _ = lut_axes(spec)
@@ -115,7 +116,7 @@ def test_exr_texels_match_the_colour_science_spectral_route(colour):
     # 360-830 nm, sRGB primaries (IEC 61966-2-1) with the display's D65 white, max channel = 1.
     # c2 = h c / k with the exact SI 2019 constants (CODATA 2018: 1.438776877e-2 m K);
     # colour's default c2 is the rounded 1.4388e-2.
-    spec = LutSpec(width=24, height=1, temperature_range_K=(2500.0, 25000.0),
+    spec = TextureSpec(width=24, height=1, temperature_range_K=(2500.0, 25000.0),
                    file_format="exr", depth=32)
     # adaptation "none": the engine's scene D65 is computed from the CIE daylight spectrum
     # (x, y = 0.31273, 0.32902) and would be adapted to the display's 4-digit D65.
@@ -153,7 +154,7 @@ def test_build_lut_calls_the_render_path_exactly_once(monkeypatch):
         return original(settings, temperature_K, magnitude)
 
     monkeypatch.setattr(starkiln.engine.pipeline.render, "render", counting)
-    build_lut(Settings(), LutSpec(width=16, height=4))
+    build_lut(Settings(), TextureSpec(width=16, height=4))
     assert calls == [((1, 16), None)]
 
 
@@ -169,14 +170,14 @@ def test_magnitude_texture_is_one_broadcast_render_call(monkeypatch):
         return original(settings, temperature_K, magnitude)
 
     monkeypatch.setattr(starkiln.engine.pipeline.render, "render", counting)
-    build_lut(Settings(), LutSpec(width=16, height=8, magnitude_range=(-1.0, 7.0)))
+    build_lut(Settings(), TextureSpec(width=16, height=8, magnitude_range=(-1.0, 7.0)))
     assert calls == [((1, 16), (8, 1))]
 
 
 @needs_vision
 def test_magnitude_texture_layouts_match_render():
     s = Settings()
-    spec = LutSpec(width=20, height=10, magnitude_range=(-1.0, 7.0), alpha=True)
+    spec = TextureSpec(width=20, height=10, magnitude_range=(-1.0, 7.0), alpha=True)
     t, m = lut_axes(spec)
     ref = render(s, t[None, :], m[:, None])  # contract: (1, W) x (H, 1) -> (H, W)
     arr, meta = build_lut(s, spec)
@@ -204,18 +205,18 @@ def test_magnitude_texture_layouts_match_render():
 ])
 def test_spec_rejects_bad_input_with_one_line(kwargs):
     with pytest.raises(StarkilnError) as err:
-        LutSpec(**kwargs)
+        TextureSpec(**kwargs)
     assert "\n" not in str(err.value)
 
 
 def test_largest_side_is_accepted():
-    assert LutSpec(width=16384, height=1).width == 16384
+    assert TextureSpec(width=16384, height=1).width == 16384
 
 
 def test_metadata_round_trips_settings_and_spec():
     s = Settings().replace(display="display-p3", scene_white="daylight:5500", gamut="clip",
                            observer="cie1964")
-    spec = LutSpec(width=33, height=3, temperature_range_K=(1500.0, 30000.0), axis="log",
+    spec = TextureSpec(width=33, height=3, temperature_range_K=(1500.0, 30000.0), axis="log",
                    alpha=True, premultiply=True, depth=16)
     meta = lut_metadata(s, spec)
     assert Settings.from_dict(meta["settings"]) == s
@@ -233,7 +234,7 @@ def test_spec_from_metadata_rejects_foreign_json():
                                              ("exr", 32, "a.exr")])
 def test_writes_are_deterministic(tmp_path, fmt, depth, name):
     s = Settings()
-    spec = LutSpec(width=40, height=5, file_format=fmt, depth=depth, alpha=True)
+    spec = TextureSpec(width=40, height=5, file_format=fmt, depth=depth, alpha=True)
     arr, meta = build_lut(s, spec)
     (tmp_path / "1").mkdir()
     (tmp_path / "2").mkdir()
@@ -244,7 +245,7 @@ def test_writes_are_deterministic(tmp_path, fmt, depth, name):
 
 
 def test_spec_is_a_frozen_dataclass():
-    spec = LutSpec()
+    spec = TextureSpec()
     with pytest.raises(dataclasses.FrozenInstanceError):
         spec.width = 3
     assert spec.replace(width=3).width == 3

@@ -21,8 +21,9 @@ import numpy as np
 import pytest
 
 from starkiln.engine.errors import StarkilnError
+from starkiln.engine.exports.contact_sheets import sheet_swatch_boxes
 from starkiln.engine.exports.palettes import (build_palette, class_temperatures, palette_csv, palette_dict,
-                            palette_gpl, sheet_swatch_boxes, step_temperatures, write_palette)
+                            palette_gpl, step_temperatures, write_palette)
 from starkiln.engine.pipeline.render import render
 from starkiln.engine.pipeline.settings import Settings
 
@@ -195,3 +196,70 @@ def test_palette_files_are_deterministic(tmp_path, name):
     write_palette(build_palette(s, steps=5), tmp_path / "a" / name)
     write_palette(build_palette(s, steps=5), tmp_path / "b" / name)
     assert (tmp_path / "a" / name).read_bytes() == (tmp_path / "b" / name).read_bytes()
+
+
+# --- the one palette export, and the contact sheet's text -------------------------------------
+
+def test_export_palette_writes_what_build_and_write_give(tmp_path):
+    from starkiln.engine.exports.palettes import export_palette
+
+    s = Settings()
+    out = tmp_path / "p.gpl"
+    p = export_palette(s, out, range_K=(2500.0, 12000.0), steps=5, name="Fernhollow dome")
+    ref = tmp_path / "ref.gpl"
+    write_palette(build_palette(s, range_K=(2500.0, 12000.0), steps=5), ref, name="Fernhollow dome")
+    assert out.read_bytes() == ref.read_bytes()
+    assert p.names == ("2500 K",) + p.names[1:4] + ("12000 K",)
+
+
+def test_export_palette_checks_the_destination_before_rendering(tmp_path, monkeypatch):
+    import starkiln.engine.exports.palettes as palettes
+    from starkiln.engine.atomic import OutputExistsError
+    from starkiln.engine.errors import StarkilnError
+
+    def no_render(*args, **kwargs):
+        raise AssertionError("rendered although the file could not be written")
+
+    monkeypatch.setattr(palettes, "build_palette", no_render)
+    with pytest.raises(StarkilnError, match="does not exist"):
+        palettes.export_palette(Settings(), tmp_path / "nowhere" / "p.json")
+    (tmp_path / "old.json").write_text("{}")
+    with pytest.raises(OutputExistsError):
+        palettes.export_palette(Settings(), tmp_path / "old.json")
+    assert (tmp_path / "old.json").read_text() == "{}"
+    with pytest.raises(StarkilnError, match="extension"):
+        palettes.export_palette(Settings(), tmp_path / "p.txt")
+
+
+def test_public_api_names_the_two_exports():
+    import starkiln
+    from starkiln.engine.exports.palettes import export_palette
+    from starkiln.engine.exports.texture_spec import TextureSpec
+    from starkiln.engine.exports.textures import export_texture
+
+    assert starkiln.export_palette is export_palette
+    assert starkiln.export_texture is export_texture and starkiln.TextureSpec is TextureSpec
+
+
+def test_sheet_labels_match_pillow_drawing_the_same_text():
+    # Pillow's ImageDraw.text (bundled font) as the reference rendering of each label line.
+    from PIL import Image, ImageDraw
+
+    from starkiln.engine.exports.contact_sheets import (SHEET_BACKGROUND, SHEET_FAINT_TEXT,
+                                                        SHEET_TEXT, _fonts, sheet_pixels)
+
+    p = build_palette(Settings(), range_K=(2000.0, 25000.0), steps=10)
+    px = sheet_pixels(p)
+    _, font = _fonts()
+    for k, (x0, y0, x1, y1) in enumerate(sheet_swatch_boxes(10)):
+        for text, dy, colour in ((p.names[k], 4, SHEET_TEXT), (p.hex[k], 20, SHEET_FAINT_TEXT)):
+            ref = Image.new("RGB", (x1 - x0 + 1, 18), SHEET_BACKGROUND)
+            ImageDraw.Draw(ref).text((0, 0), text, fill=colour, font=font)
+            ref = np.asarray(ref).astype(int)
+            got = px[y1 + 1 + dy:y1 + 1 + dy + 18, x0:x1 + 1].astype(int)
+            ink = (ref != np.array(SHEET_BACKGROUND)).any(axis=-1)
+            assert ink.sum() > 50  # the reference has ink
+            close = np.abs(got - ref).max(axis=-1) <= 2
+            # Equal but where two glyphs' anti-aliased edges overlap ("ff"): Pillow composites
+            # them one after the other, the sheet keeps the larger coverage.
+            assert close[ink].mean() > 0.97 and close.mean() > 0.99, (text, close[ink].mean())

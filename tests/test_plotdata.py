@@ -16,9 +16,10 @@ from starkiln.engine.colour.displays import PRESETS, load_display_profile
 from starkiln.engine.errors import InputRangeError
 from starkiln.engine.pipeline.settings import Settings
 from starkiln.engine.colour.temperature_axis import mired_to_temperature, temperature_to_mired
+from starkiln.engine.colour.displays import save_display_profile
 from starkiln.engine.plotdata.plots import (VISIBLE_BAND_NM, MiredScale, chromaticity_diagram,
                                             efficiency_overlays, magnitude_ladder, planck_curve,
-                                            planckian_locus_xy, save_display_profile,
+                                            planckian_locus_xy,
                                             spectral_band_colours, spectrum_plot_wavelengths_nm)
 
 SRGB_PRIMARIES = np.array([[0.64, 0.33], [0.30, 0.60], [0.15, 0.06]])  # IEC 61966-2-1 Table 1

@@ -8,7 +8,8 @@ import numpy as np
 import pytest
 
 from starkiln.engine.errors import InputRangeError, SettingsError
-from starkiln.engine.pipeline.render import render, to_8bit
+from starkiln.engine.colour.quantisation import to_8bit
+from starkiln.engine.pipeline.render import render
 from starkiln.engine.pipeline.settings import Settings
 from starkiln.engine.plotdata.sky import Cluster, load_demo_cluster, sky_image
 

@@ -19,7 +19,8 @@ import pytest
 from starkiln.engine.colour.displays import PRESETS
 from starkiln.engine.errors import InputRangeError
 from starkiln.engine.colour.observers import XYZ_to_xy, xy_to_uv1976
-from starkiln.engine.pipeline.render import Rendered, blackbody_XYZ, render, to_8bit, to_hex
+from starkiln.engine.pipeline.render import Rendered, blackbody_XYZ, render
+from starkiln.engine.colour.quantisation import to_8bit, to_hex
 from starkiln.engine.pipeline.settings import Settings
 
 ENGINE_DIR = Path(__file__).resolve().parent.parent / "engine"

@@ -157,3 +157,42 @@ def test_save_is_atomic_and_refuses_to_clobber(tmp_path):
     save_settings(Settings(), path, overwrite=True)
     assert load_settings(path) == Settings()
     assert sorted(p.name for p in tmp_path.iterdir()) == ["keep.toml"]  # no temp files left
+
+
+# --- the one number check (starkiln.engine.errors.finite_number) -----------------------------
+
+@pytest.mark.parametrize("text,value", [("2.5", 2.5), ("-1e3", -1000.0), (7, 7.0), (" 3 ", 3.0)])
+def test_finite_number_accepts_what_python_float_reads(text, value):
+    # Python's float() grammar is the reference for what counts as a number.
+    from starkiln.engine.errors import finite_number
+
+    assert finite_number(text, "pupil_mm") == value
+
+
+@pytest.mark.parametrize("text,words", [("wide", "is not a number"), ("nan", "is not finite"),
+                                        ("inf", "is not finite"), ("-inf", "is not finite"),
+                                        (None, "is not a number")])
+def test_finite_number_refuses_in_one_line_naming_the_value(text, words):
+    # IEEE 754: NaN and the infinities are not finite numbers.
+    from starkiln.engine.errors import InputRangeError, SettingsError, finite_number
+
+    with pytest.raises(SettingsError) as exc:
+        finite_number(text, "pupil_mm")
+    msg = str(exc.value)
+    assert msg.startswith(f"pupil_mm {text!r} ") and words in msg and "\n" not in msg
+    with pytest.raises(InputRangeError):
+        finite_number(text, "x", InputRangeError)
+
+
+def test_every_number_in_the_area_goes_through_the_one_check():
+    # Settings, displays and whites name the same message shape for the same mistake.
+    from starkiln.engine.colour.displays import Display
+    from starkiln.engine.colour.whites import resolve_white
+    from starkiln.engine.errors import SettingsError
+
+    with pytest.raises(SettingsError, match=r"pupil_mm 'abc' is not a number"):
+        Settings(pupil_mm="abc")
+    with pytest.raises(SettingsError, match=r"gamma 'abc' is not a number"):
+        Display("d", (0.64, 0.33), (0.3, 0.6), (0.15, 0.06), (0.3127, 0.329), "gamma", "abc")
+    with pytest.raises(SettingsError, match=r"is not finite"):
+        resolve_white("xy:nan,0.33")

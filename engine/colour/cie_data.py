@@ -28,12 +28,12 @@ Sources of the tables (as published by CIE and shipped by colour-science):
 from __future__ import annotations
 
 import os
-import tempfile
 from functools import lru_cache
 from pathlib import Path
 
 import numpy as np
 
+from starkiln.engine.atomic import write_npz_atomic  # noqa: F401 (also imported from here by the catalogue)
 from starkiln.engine.errors import StarkilnError
 
 #: Default wavelength grid of the engine (CIE 15:2004 recommends 360-830 nm).
@@ -133,22 +133,6 @@ def build_tables() -> dict[str, np.ndarray]:
         s = SDS_BASIS_FUNCTIONS_CIE_ILLUMINANT_D_SERIES[f"S{i}"]
         out[f"daylight_s{i}"] = on_grid(s.wavelengths, s.values)
     return out
-
-
-def write_npz_atomic(path: Path, arrays: dict[str, np.ndarray]) -> None:
-    """Save arrays as ``.npz`` atomically (temporary file in the same folder, then rename)."""
-    path.parent.mkdir(parents=True, exist_ok=True)
-    fd, tmp = tempfile.mkstemp(dir=path.parent, prefix=".tables-", suffix=".npz")
-    try:
-        with os.fdopen(fd, "wb") as fh:
-            np.savez(fh, **arrays)
-        os.replace(tmp, path)
-    except BaseException:
-        try:
-            os.unlink(tmp)
-        except OSError:
-            pass
-        raise
 
 
 @lru_cache(maxsize=1)

@@ -43,7 +43,8 @@ from pathlib import Path
 
 import numpy as np
 
-from starkiln.engine.errors import SettingsError
+from starkiln.engine.colour.observers import xy_to_XYZ
+from starkiln.engine.errors import SettingsError, finite_number
 
 TRANSFERS = ("srgb", "gamma", "linear", "pq")
 PROFILE_FORMAT = 1
@@ -79,11 +80,11 @@ class Display:
         if self.transfer not in TRANSFERS:
             raise SettingsError(f"{where}: transfer {self.transfer!r} unknown; accepted: "
                                 f"{', '.join(TRANSFERS)}")
-        g = _finite(self.gamma, f"{where}: gamma")
+        g = finite_number(self.gamma, f"{where}: gamma")
         if not 1.0 <= g <= 4.0:
             raise SettingsError(f"{where}: gamma {g:g} is outside 1-4")
         object.__setattr__(self, "gamma", g)
-        peak = _finite(self.peak_luminance_cd_m2, f"{where}: peak_luminance_cd_m2")
+        peak = finite_number(self.peak_luminance_cd_m2, f"{where}: peak_luminance_cd_m2")
         if not 0.01 <= peak <= 10000.0:
             raise SettingsError(f"{where}: peak_luminance_cd_m2 {peak:g} is outside 0.01-10000")
         object.__setattr__(self, "peak_luminance_cd_m2", peak)
@@ -125,8 +126,7 @@ class Display:
     @property
     def white_XYZ(self) -> np.ndarray:
         """Display white tristimulus values, Y = 1."""
-        x, y = self.white_xy
-        return np.array([x / y, 1.0, (1.0 - x - y) / y])
+        return xy_to_XYZ(self.white_xy)
 
     def encode(self, rgb_linear) -> np.ndarray:
         """Display-linear 0-1 -> encoded signal 0-1 through this display's transfer function."""
@@ -137,16 +137,6 @@ class Display:
         return decode(rgb_encoded, self.transfer, self.gamma, self.peak_luminance_cd_m2)
 
 
-def _finite(value, what: str) -> float:
-    try:
-        v = float(value)
-    except (TypeError, ValueError):
-        raise SettingsError(f"{what} must be a number, got {value!r}") from None
-    if not np.isfinite(v):
-        raise SettingsError(f"{what} must be finite, got {value!r}")
-    return v
-
-
 def _in_triangle(p: np.ndarray, tri: np.ndarray) -> bool:
     def side(a, b):
         return (b[0] - a[0]) * (p[1] - a[1]) - (b[1] - a[1]) * (p[0] - a[0])
@@ -155,11 +145,9 @@ def _in_triangle(p: np.ndarray, tri: np.ndarray) -> bool:
 
 
 def _npm(r, g, b, w) -> np.ndarray:
-    def col(xy):
-        x, y = xy
-        return np.array([x / y, 1.0, (1.0 - x - y) / y])
-    p = np.column_stack([col(r), col(g), col(b)])
-    s = np.linalg.solve(p, col(w))
+    """Normalised primary matrix from xy of the primaries and white (SMPTE RP 177-1993 3.3)."""
+    p = xy_to_XYZ(np.array([r, g, b])).T
+    s = np.linalg.solve(p, xy_to_XYZ(w))
     return p * s
 
 
@@ -241,6 +229,31 @@ def load_display_profile(path) -> Display:
     except json.JSONDecodeError as exc:
         raise SettingsError(f"{path}: not valid JSON (line {exc.lineno}: {exc.msg})") from None
     return display_from_profile(data, str(path))
+
+
+def save_display_profile(display, path, overwrite: bool = True) -> None:
+    """Write a display as a JSON display profile (format in the module docstring), atomically.
+
+    The text is ``json.dumps(display.to_profile(), indent=2)`` plus a newline;
+    :func:`load_display_profile` reads it back to an equal display.
+
+    Parameters
+    ----------
+    display : Display or str
+        A display, preset name or profile path (:func:`get_display`).
+    path : path-like
+        Destination ``.json``.
+    overwrite : bool
+        Replace an existing file.
+
+    References
+    ----------
+    RFC 8259 (JSON); :mod:`starkiln.engine.atomic` for the write.
+    """
+    from starkiln.engine.atomic import write_atomic
+
+    text = json.dumps(get_display(display).to_profile(), indent=2) + "\n"
+    write_atomic(path, text.encode("utf-8"), overwrite=overwrite)
 
 
 def get_display(spec) -> Display:

@@ -80,7 +80,7 @@ def in_gamut(rgb, upper: bool) -> np.ndarray:
     return ok
 
 
-def map_to_gamut(rgb, method: str, rgb_to_oklab_xyz: np.ndarray, luminance_row: np.ndarray,
+def map_to_gamut(rgb, method: str, rgb_to_XYZ_D65: np.ndarray, luminance_row: np.ndarray,
                  upper: bool) -> np.ndarray:
     """Bring display-linear RGB inside the cube by the named method.
 
@@ -90,8 +90,9 @@ def map_to_gamut(rgb, method: str, rgb_to_oklab_xyz: np.ndarray, luminance_row: 
         (..., 3) display-linear RGB; the display white is (1, 1, 1).
     method : str
         ``clip``, ``scale`` or ``chroma`` (module docstring).
-    rgb_to_oklab_xyz : numpy.ndarray
-        (3, 3) display RGB -> XYZ adapted to D65, for the Oklab step.
+    rgb_to_XYZ_D65 : numpy.ndarray
+        (3, 3) display RGB -> XYZ adapted to D65 (the display's normalised primary matrix,
+        then Bradford to D65), for the Oklab step.
     luminance_row : numpy.ndarray
         (3,) the Y row of the display's RGB -> XYZ matrix (sums to 1).
     upper : bool
@@ -124,19 +125,18 @@ def map_to_gamut(rgb, method: str, rgb_to_oklab_xyz: np.ndarray, luminance_row: 
             out = np.where(top > 1.0, out / np.maximum(top, 1e-300), out)
         return out
     # chroma: bisection on the chroma factor s in [0, 1] at constant L and hue
-    xyz_from_rgb = rgb_to_oklab_xyz
-    rgb_from_xyz = np.linalg.inv(xyz_from_rgb)
-    lab = XYZ_to_Oklab(rgb @ xyz_from_rgb.T)
+    XYZ_D65_to_rgb = np.linalg.inv(rgb_to_XYZ_D65)
+    lab = XYZ_to_Oklab(rgb @ rgb_to_XYZ_D65.T)
     inside_now = in_gamut(rgb, upper)
     lo = np.zeros(rgb.shape[:-1])
     hi = np.ones(rgb.shape[:-1])
     for _ in range(_BISECTION_STEPS):
         mid = 0.5 * (lo + hi)
         trial = Oklab_to_XYZ(lab * np.stack([np.ones_like(mid), mid, mid], axis=-1))
-        ok = in_gamut(trial @ rgb_from_xyz.T, upper)
+        ok = in_gamut(trial @ XYZ_D65_to_rgb.T, upper)
         lo = np.where(ok, mid, lo)
         hi = np.where(ok, hi, mid)
     s = np.where(inside_now, 1.0, lo)
-    out = Oklab_to_XYZ(lab * np.stack([np.ones_like(s), s, s], axis=-1)) @ rgb_from_xyz.T
+    out = Oklab_to_XYZ(lab * np.stack([np.ones_like(s), s, s], axis=-1)) @ XYZ_D65_to_rgb.T
     out = np.where(inside_now[..., None], rgb, out)
     return np.clip(out, 0.0, 1.0 if upper else np.inf)

@@ -71,9 +71,23 @@ def planck_radiance(temperature_K, wavelength_nm=None) -> np.ndarray:
     t = np.asarray(temperature_K, dtype=np.float64)
     wl_m = (wavelengths_nm() if wavelength_nm is None
             else np.asarray(wavelength_nm, dtype=np.float64)) * 1e-9
-    x = C2_M_K / (wl_m * t[..., None]) if wl_m.ndim else C2_M_K / (wl_m * t)
+    return _planck_m(t[..., None] if wl_m.ndim else t, wl_m)
+
+
+def _planck_factors(wavelength_m):
+    """The two wavelength factors of Planck's law: ``2 h c^2 / lambda^5`` and ``h c / (k lambda)``.
+
+    Planck's law is ``L = first / expm1(second / T)``; :func:`_planck_m` and
+    :func:`planck_weighted_sums` both take these factors from here (Planck 1901).
+    """
+    return C1L_W_M2_SR / wavelength_m**5, C2_M_K / wavelength_m
+
+
+def _planck_m(temperature_K, wavelength_m) -> np.ndarray:
+    """Planck's law (Planck 1901) on broadcast arrays of temperatures and wavelengths in metres."""
+    first, second = _planck_factors(wavelength_m)
     with np.errstate(over="ignore"):
-        return C1L_W_M2_SR / wl_m**5 / np.expm1(x)
+        return first / np.expm1(second / temperature_K)
 
 
 def peak_wavelength_nm(temperature_K) -> np.ndarray:
@@ -135,9 +149,7 @@ def radiant_exitance_W_m2(temperature_K, samples: int = 20001) -> np.ndarray:
     """
     t = np.atleast_1d(np.asarray(temperature_K, dtype=np.float64))
     wl_m = _wide_grid_m(t, samples)
-    x = C2_M_K / (wl_m * t[:, None])
-    with np.errstate(over="ignore"):
-        radiance = C1L_W_M2_SR / wl_m**5 / np.expm1(x)
+    radiance = _planck_m(t[:, None], wl_m)
     exitance = math.pi * np.trapezoid(radiance, wl_m, axis=-1)
     return exitance.reshape(np.shape(temperature_K))
 
@@ -218,8 +230,8 @@ def planck_weighted_sums(temperature_K, weights, wavelength_nm=None) -> np.ndarr
     wl_m = wl_nm * 1e-9
     w = np.asarray(weights, dtype=np.float64)
     w2 = w if w.ndim == 2 else w[:, None]
-    folded = w2 * (C1L_W_M2_SR / wl_m**5 * step_m)[:, None]
-    a = C2_M_K / wl_m
+    first, a = _planck_factors(wl_m)  # L = first / expm1(a / T): fold first into the weights
+    folded = w2 * (first * step_m)[:, None]
     inv_t = 1.0 / t.reshape(-1)
     out = np.empty((inv_t.size, w2.shape[1]))
 

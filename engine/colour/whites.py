@@ -41,7 +41,7 @@ from functools import lru_cache
 
 import numpy as np
 
-from starkiln.engine.errors import SettingsError
+from starkiln.engine.errors import SettingsError, finite_number
 from starkiln.engine.colour.observers import XYZ_to_xy, check_observer, cmfs, inside_spectral_locus, xy_to_XYZ
 from starkiln.engine.colour.cie_data import tables
 
@@ -140,13 +140,8 @@ class White:
 
 
 def _number(text: str, what: str, spec: str) -> float:
-    try:
-        value = float(text)
-    except ValueError:
-        raise SettingsError(f"white {spec!r}: {what} {text!r} is not a number") from None
-    if not np.isfinite(value):
-        raise SettingsError(f"white {spec!r}: {what} must be finite")
-    return value
+    """A finite number in a white specification (:func:`starkiln.engine.errors.finite_number`)."""
+    return finite_number(text, f"white {spec!r}: {what}")
 
 
 def normalise_white_spec(spec: str) -> str:

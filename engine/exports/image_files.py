@@ -3,9 +3,9 @@
 Writers take arrays exactly as they are to be stored and never add
 timestamps, so equal inputs give byte-identical files.
 
-- 8-bit PNG through Pillow (``PIL.PngImagePlugin``), text in a ``tEXt`` chunk.
-- 16-bit PNG through pypng (Pillow cannot write 16-bit RGB or RGBA); the
-  ``tEXt`` chunk is placed right after ``IHDR``.
+- PNG, 8 or 16 bits, written here strip by strip (:func:`write_png_strips`: filter type
+  0, one zlib stream, ``tEXt`` chunks right after ``IHDR``; pypng frames the chunks).
+  Pillow cannot write 16-bit RGB/RGBA, nor an image it does not hold whole.
 - EXR through the OpenEXR Python bindings (``OpenEXR.File(header, channels)``,
   OpenEXR 3.x), 32-bit float channels R, G, B (, A), ZIP compression
   (lossless), the metadata as string header attributes and the display
@@ -21,7 +21,6 @@ characters, a null separator, Latin-1 text); OpenEXR technical introduction
 from __future__ import annotations
 
 import json
-import os
 from pathlib import Path
 
 import numpy as np
@@ -39,23 +38,8 @@ def _check_image(array: np.ndarray) -> np.ndarray:
     return np.ascontiguousarray(a)
 
 
-def _finish(path) -> None:
-    """Flush a finished temporary file to disk (starkiln.engine.atomic gives it its mode and name)."""
-    fd = os.open(path, os.O_RDONLY)
-    try:
-        os.fsync(fd)
-    finally:
-        os.close(fd)
-
-
-def write_bytes(path, data: bytes) -> None:
-    """Write ``data`` to ``path`` (a temporary file of :func:`starkiln.engine.atomic.atomic_path`)."""
-    with open(path, "wb") as fh:
-        fh.write(data)
-    _finish(path)
-
-
-def write_png(path, array: np.ndarray, text: dict[str, str] | None = None) -> None:
+def write_png(path, array: np.ndarray, text: dict[str, str] | None = None,
+              compression: int = 6) -> None:
     """Write an 8-bit (uint8) or 16-bit (uint16) RGB/RGBA PNG with ``tEXt`` chunks.
 
     Parameters
@@ -67,6 +51,8 @@ def write_png(path, array: np.ndarray, text: dict[str, str] | None = None) -> No
         ``(H, W, 3|4)`` uint8 or uint16; row 0 is the top of the image.
     text : dict, optional
         Keyword -> Latin-1 text, stored uncompressed (``tEXt``).
+    compression : int
+        zlib level 0-9.
 
     References
     ----------
@@ -74,49 +60,86 @@ def write_png(path, array: np.ndarray, text: dict[str, str] | None = None) -> No
     types 2 and 6) and 11.3.4.3 (tEXt).
     """
     a = _check_image(array)
+    write_png_strips(path, [a], a.shape[1], a.shape[0], text, compression)
+
+
+def write_png_strips(path, strips, width: int, height: int, text: dict[str, str] | None = None,
+                     compression: int = 6) -> None:
+    """Write a PNG from horizontal strips, top to bottom, without holding the whole image.
+
+    The strips (each ``(h, width, 3|4)``, all uint8 or all uint16, heights summing to
+    ``height``) are filtered with filter type 0 (None) and fed to one zlib stream, so an
+    image far larger than the cache is encoded strip by strip (a contact sheet of 4096
+    swatches is 217 MB of pixels). The file is signature, ``IHDR``, the ``tEXt`` chunks,
+    ``IDAT`` chunks of at most 1 MiB, ``IEND``; nothing varies between runs.
+
+    Parameters
+    ----------
+    path : path-like
+        Destination (callers wrap it in :func:`starkiln.engine.atomic.atomic_path`).
+    strips : iterable of numpy.ndarray
+    width, height : int
+        Image size in pixels.
+    text : dict, optional
+        Keyword (1-79 characters) -> Latin-1 text.
+    compression : int
+        zlib level 0-9.
+
+    References
+    ----------
+    ISO/IEC 15948:2004 sections 5.3 (chunk layout, CRC), 9.2 (filter type 0), 10 (zlib
+    stream split over consecutive IDAT chunks), 11.2.2 (IHDR), 11.3.4.3 (tEXt); RFC 1950.
+    """
+    import struct
+    import zlib
+
+    import png
+
     text = dict(text or {})
     for key, value in text.items():
         if not 1 <= len(key) <= 79:
             raise StarkilnError(f"PNG text keyword {key!r} must have 1-79 characters")
         value.encode("latin-1")
-    if a.dtype == np.uint8:
-        from PIL import Image, PngImagePlugin
-
-        info = PngImagePlugin.PngInfo()
-        for key, value in text.items():
-            info.add_text(key, value, zip=False)
-        img = Image.fromarray(a, "RGBA" if a.shape[2] == 4 else "RGB")
-        with open(path, "wb") as fh:
-            img.save(fh, format="PNG", pnginfo=info, compress_level=6)
-    elif a.dtype == np.uint16:
-        _write_png16(path, a, text)
-    else:
-        raise StarkilnError(f"PNG samples must be uint8 or uint16, got {a.dtype}")
-    _finish(path)
-
-
-def _write_png16(path, a: np.ndarray, text: dict[str, str]) -> None:
-    import io
-
-    import png
-
-    h, w, c = a.shape
-    writer = png.Writer(width=w, height=h, greyscale=False, alpha=(c == 4), bitdepth=16,
-                        compression=6)
-    # pypng writes the signature, IHDR, then IDAT chunks and has no text
-    # option: write in memory, then re-emit its chunks with tEXt after IHDR.
-    buf = io.BytesIO()
-    writer.write(buf, a.reshape(h, w * c))
-    chunks = list(png.Reader(bytes=buf.getvalue()).chunks())
-    del buf
-    out = []
-    for tag, data in chunks:
-        out.append((tag, data))
-        if tag == b"IHDR":
-            for key, value in text.items():
-                out.append((b"tEXt", key.encode("latin-1") + b"\x00" + value.encode("latin-1")))
+    packer = zlib.compressobj(compression)
+    idat = []
+    pending = []
+    pending_size = 0
+    header = None
+    rows_seen = 0
+    for strip in strips:
+        a = _check_image(strip)
+        if a.dtype not in (np.uint8, np.uint16):
+            raise StarkilnError(f"PNG samples must be uint8 or uint16, got {a.dtype}")
+        if header is None:
+            header = (a.dtype, a.shape[2])
+        elif header != (a.dtype, a.shape[2]):
+            raise StarkilnError("PNG strips must share one sample type and channel count")
+        if a.shape[1] != width:
+            raise StarkilnError(f"PNG strip width {a.shape[1]} differs from the image width {width}")
+        h = a.shape[0]
+        rows_seen += h
+        samples = a.astype(">u2") if a.dtype == np.uint16 else a
+        lines = np.zeros((h, 1 + samples.shape[1] * samples.shape[2] * samples.itemsize), np.uint8)
+        lines[:, 1:] = samples.reshape(h, -1).view(np.uint8)  # filter byte 0 (None) per line
+        pending.append(packer.compress(lines))
+        pending_size += len(pending[-1])
+        if pending_size >= 1 << 20:
+            idat.append(b"".join(pending))
+            pending, pending_size = [], 0
+    if header is None or rows_seen != height:
+        raise StarkilnError(f"PNG strips hold {rows_seen} rows; the image has {height}")
+    pending.append(packer.flush())
+    idat.append(b"".join(pending))
+    dtype, channels = header
+    depth = 16 if dtype == np.uint16 else 8
+    chunks = [(b"IHDR", struct.pack(">IIBBBBB", width, height, depth, 6 if channels == 4 else 2,
+                                    0, 0, 0))]
+    chunks += [(b"tEXt", key.encode("latin-1") + b"\x00" + value.encode("latin-1"))
+               for key, value in text.items()]
+    chunks += [(b"IDAT", data) for data in idat if data]
+    chunks.append((b"IEND", b""))
     with open(path, "wb") as fh:
-        png.write_chunks(fh, out)
+        png.write_chunks(fh, chunks)
 
 
 def write_exr(path, array: np.ndarray, attributes: dict[str, str] | None = None,
@@ -152,7 +175,6 @@ def write_exr(path, array: np.ndarray, attributes: dict[str, str] | None = None,
     channels = {"RGBA" if a.shape[2] == 4 else "RGB": a}
     with OpenEXR.File(header, channels) as f:
         f.write(str(path))
-    _finish(path)
 
 
 def read_embedded_text(path, key: str = "starkiln") -> str:

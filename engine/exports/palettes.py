@@ -34,6 +34,7 @@ import csv
 import io
 import json
 from dataclasses import dataclass
+from functools import cached_property
 from pathlib import Path
 
 import numpy as np
@@ -69,17 +70,43 @@ class Palette:
     description: dict
     settings: object
 
-    @property
+    def title(self) -> str:
+        """One line naming the display, white, adaptation, gamut and observer."""
+        s = self.settings
+        return (f"Starkiln palette | display {s.display.name} | white {s.scene_white} "
+                f"({s.adaptation}) | gamut {s.gamut} | observer {s.observer}")
+
+    def default_name(self) -> str:
+        """A palette name from its content, e.g. ``Starkiln 1000-40000 K srgb D65``."""
+        s = self.settings
+        d = self.description
+        what = ("spectral classes" if d["kind"] == "spectral-classes"
+                else f"{d['range_K'][0]:g}-{d['range_K'][1]:g} K")
+        return f"Starkiln {what} {s.display.name} {s.scene_white}"
+
+    @cached_property
     def rgb_8bit(self) -> np.ndarray:
-        """(N, 3) uint8 ``floor(rgb_encoded * 255 + 0.5)``."""
-        from starkiln.engine.pipeline.render import to_8bit
+        """(N, 3) uint8 ``floor(rgb_encoded * 255 + 0.5)``, computed once (read-only).
 
-        return to_8bit(self.rendered.rgb_encoded)
+        References
+        ----------
+        :func:`starkiln.engine.colour.quantisation.to_8bit` (common practice).
+        """
+        from starkiln.engine.colour.quantisation import to_8bit
 
-    @property
-    def hex(self) -> list[str]:
-        """``#rrggbb`` of each swatch."""
-        return [str(h) for h in self.rendered.hex()]
+        q = to_8bit(self.rendered.rgb_encoded)
+        q.setflags(write=False)
+        return q
+
+    @cached_property
+    def hex(self) -> tuple[str, ...]:
+        """``#rrggbb`` of each swatch, computed once (writers index it inside their loops).
+
+        References
+        ----------
+        :func:`starkiln.engine.colour.quantisation.to_hex` (CSS Color 4 hex notation).
+        """
+        return tuple(self.rendered.hex().tolist())
 
 
 def step_temperatures(range_K, steps: int, axis: str = "mired") -> np.ndarray:
@@ -103,7 +130,8 @@ def step_temperatures(range_K, steps: int, axis: str = "mired") -> np.ndarray:
     >>> step_temperatures((2000.0, 8000.0), 3, "mired").round(6).tolist()
     [2000.0, 3200.0, 8000.0]
     """
-    from starkiln.engine.exports.textures import check_temperature_range, temperature_from_u
+    from starkiln.engine.colour.temperature_axis import temperature_from_u
+    from starkiln.engine.exports.texture_spec import check_temperature_range
 
     a, b = check_temperature_range(range_K)
     n = _check_steps(steps)
@@ -185,7 +213,8 @@ def build_palette(settings, *, range_K=None, steps: int = 16, axis: str = "mired
     >>> p.names
     ('2000 K', '3200 K', '8000 K')
     """
-    from starkiln.engine.exports.textures import DEFAULT_TEMPERATURE_RANGE_K, check_axis, check_temperature_range
+    from starkiln.engine.colour.temperature_axis import check_axis
+    from starkiln.engine.exports.texture_spec import DEFAULT_TEMPERATURE_RANGE_K, check_temperature_range
     from starkiln.engine.pipeline.render import render
 
     if use_classes or classes is not None:
@@ -213,12 +242,6 @@ def palette_format_for_path(path) -> str:
 
     return format_for_extension(path, PALETTE_FORMATS, "palette")
 
-
-def palette_title(palette: Palette) -> str:
-    """One line naming the display, white, adaptation, gamut and observer."""
-    s = palette.settings
-    return (f"Starkiln palette | display {s.display.name} | white {s.scene_white} "
-            f"({s.adaptation}) | gamut {s.gamut} | observer {s.observer}")
 
 
 def palette_dict(palette: Palette, name: str | None = None) -> dict:
@@ -250,21 +273,13 @@ def palette_dict(palette: Palette, name: str | None = None) -> dict:
     return {
         "starkiln_palette": PALETTE_FORMAT,
         "generator": f"starkiln {__version__}",
-        "name": name or default_name(palette),
-        "title": palette_title(palette),
+        "name": name or palette.default_name(),
+        "title": palette.title(),
         "settings": palette.settings.to_dict(),
         "palette": palette.description,
         "swatches": swatches,
     }
 
-
-def default_name(palette: Palette) -> str:
-    """A palette name from its content, e.g. ``Starkiln 1000-40000 K srgb D65``."""
-    s = palette.settings
-    d = palette.description
-    what = ("spectral classes" if d["kind"] == "spectral-classes"
-            else f"{d['range_K'][0]:g}-{d['range_K'][1]:g} K")
-    return f"Starkiln {what} {s.display.name} {s.scene_white}"
 
 
 def palette_json(palette: Palette, name: str | None = None) -> bytes:
@@ -309,83 +324,13 @@ def palette_gpl(palette: Palette, name: str | None = None, columns: int | None =
     n = len(palette.names)
     cols = columns if columns is not None else min(n, 8)
     cols = max(0, min(256, int(cols)))
-    lines = ["GIMP Palette", f"Name: {_gpl_text(name or default_name(palette))}",
+    lines = ["GIMP Palette", f"Name: {_gpl_text(name or palette.default_name())}",
              f"Columns: {cols}", "#",
-             f"# {_gpl_text(palette_title(palette))}",
+             f"# {_gpl_text(palette.title())}",
              "# colours are display-encoded 8-bit values: floor(v * 255 + 0.5)"]
     for (r, g, b), label, hx in zip(palette.rgb_8bit.tolist(), palette.names, palette.hex):
         lines.append(f"{r:3d} {g:3d} {b:3d}\t{_gpl_text(label)} {hx}")
     return ("\n".join(lines) + "\n").encode("utf-8")
-
-
-#: Contact-sheet layout (pixels).
-SHEET_SWATCH = (120, 72)
-SHEET_GAP = 16
-SHEET_LABEL_H = 38
-SHEET_MARGIN = 24
-SHEET_TITLE_H = 44
-SHEET_BACKGROUND = (14, 15, 20)
-SHEET_TEXT = (200, 202, 210)
-SHEET_FAINT_TEXT = (130, 132, 142)
-
-
-def sheet_image(palette: Palette, name: str | None = None, columns: int | None = None):
-    """A Pillow RGB image of labelled swatches on a dark background.
-
-    Each swatch is a solid block of its 8-bit colour, labelled below with its
-    name (temperature or class and temperature) and hex; the title line names
-    the display and the white.
-
-    References
-    ----------
-    Pillow ``ImageDraw`` / ``ImageFont.load_default`` (bundled font).
-    """
-    from PIL import Image, ImageDraw, ImageFont
-
-    n = len(palette.names)
-    cols = max(1, min(columns or 8, n))
-    rows = -(-n // cols)
-    sw, sh = SHEET_SWATCH
-    cell_w, cell_h = sw + SHEET_GAP, sh + SHEET_LABEL_H + SHEET_GAP
-    width = max(2 * SHEET_MARGIN + cols * cell_w - SHEET_GAP, 640)
-    height = 2 * SHEET_MARGIN + SHEET_TITLE_H + rows * cell_h - SHEET_GAP + 18
-    img = Image.new("RGB", (width, height), SHEET_BACKGROUND)
-    draw = ImageDraw.Draw(img)
-    try:
-        title_font = ImageFont.load_default(size=15)
-        font = ImageFont.load_default(size=12)
-    except TypeError:  # Pillow without FreeType sizes
-        title_font = font = ImageFont.load_default()
-    draw.text((SHEET_MARGIN, SHEET_MARGIN), name or default_name(palette), fill=SHEET_TEXT,
-              font=title_font)
-    draw.text((SHEET_MARGIN, SHEET_MARGIN + 21), palette_title(palette), fill=SHEET_FAINT_TEXT,
-              font=font)
-    top = SHEET_MARGIN + SHEET_TITLE_H
-    q = palette.rgb_8bit.tolist()
-    for k, label in enumerate(palette.names):
-        cx = SHEET_MARGIN + (k % cols) * cell_w
-        cy = top + (k // cols) * cell_h
-        draw.rectangle([cx, cy, cx + sw - 1, cy + sh - 1], fill=tuple(q[k]))
-        text = label if palette.spectral_class is None else \
-            f"{label}  {palette.temperature_K[k]:.0f} K"
-        draw.text((cx, cy + sh + 4), text, fill=SHEET_TEXT, font=font)
-        mark = "" if palette.rendered.in_gamut[k] else "  (mapped)"
-        draw.text((cx, cy + sh + 20), palette.hex[k] + mark, fill=SHEET_FAINT_TEXT, font=font)
-    draw.text((SHEET_MARGIN, height - SHEET_MARGIN - 4),
-              "full-intensity colours; judge them on the display named above",
-              fill=SHEET_FAINT_TEXT, font=font)
-    return img
-
-
-def sheet_swatch_boxes(n: int, columns: int | None = None) -> list[tuple[int, int, int, int]]:
-    """Pixel boxes ``(left, top, right, bottom)`` (inclusive) of the swatches on a sheet."""
-    cols = max(1, min(columns or 8, n))
-    sw, sh = SHEET_SWATCH
-    cell_w, cell_h = sw + SHEET_GAP, sh + SHEET_LABEL_H + SHEET_GAP
-    top = SHEET_MARGIN + SHEET_TITLE_H
-    return [(SHEET_MARGIN + (k % cols) * cell_w, top + (k // cols) * cell_h,
-             SHEET_MARGIN + (k % cols) * cell_w + sw - 1, top + (k // cols) * cell_h + sh - 1)
-            for k in range(n)]
 
 
 def write_palette(palette: Palette, path, overwrite: bool = False, name: str | None = None,
@@ -401,21 +346,66 @@ def write_palette(palette: Palette, path, overwrite: bool = False, name: str | N
     ----------
     Module docstring (formats); :mod:`starkiln.engine.atomic`.
     """
-    from starkiln.engine.exports import image_files as imageio
-    from starkiln.engine.atomic import atomic_path
+    from starkiln.engine.atomic import atomic_path, write_atomic
 
     path = Path(path)
     fmt = palette_format_for_path(path)
-    with atomic_path(path, overwrite) as tmp:
-        if fmt == "json":
-            imageio.write_bytes(tmp, palette_json(palette, name))
-        elif fmt == "csv":
-            imageio.write_bytes(tmp, palette_csv(palette))
-        elif fmt == "gpl":
-            imageio.write_bytes(tmp, palette_gpl(palette, name, columns))
-        else:
-            img = sheet_image(palette, name, columns)
-            text = json.dumps(palette_dict(palette, name), sort_keys=True,
-                              separators=(",", ":"), ensure_ascii=True, allow_nan=False)
-            imageio.write_png(tmp, np.asarray(img), {"starkiln": text})
+    if fmt == "json":
+        write_atomic(path, palette_json(palette, name), overwrite)
+    elif fmt == "csv":
+        write_atomic(path, palette_csv(palette), overwrite)
+    elif fmt == "gpl":
+        write_atomic(path, palette_gpl(palette, name, columns), overwrite)
+    else:
+        from starkiln.engine.exports import image_files as imageio
+        from starkiln.engine.exports.contact_sheets import SHEET_COMPRESSION, sheet_size, sheet_strips
+
+        width, height = sheet_size(len(palette.names), columns)
+        text = json.dumps(palette_dict(palette, name), sort_keys=True,
+                          separators=(",", ":"), ensure_ascii=True, allow_nan=False)
+        with atomic_path(path, overwrite) as tmp:
+            imageio.write_png_strips(tmp, sheet_strips(palette, name, columns), width, height,
+                                     {"starkiln": text}, SHEET_COMPRESSION)
     return path
+
+
+def export_palette(settings, path, *, range_K=None, steps: int = 16, axis: str = "mired",
+                   classes=None, use_classes: bool = False, name: str | None = None,
+                   columns: int | None = None, overwrite: bool = False) -> Palette:
+    """Check the destination, build a palette and write it atomically; returns the palette.
+
+    The one palette export: the command line (``starkiln palette``) and the window both call
+    it. The extension and the destination folder are checked first
+    (:func:`starkiln.engine.atomic.check_writable`), so nothing is rendered for a file that
+    could not be written.
+
+    Parameters
+    ----------
+    settings : starkiln.engine.pipeline.settings.Settings
+    path : path-like
+        ``.json``, ``.csv``, ``.gpl`` or ``.png`` (contact sheet).
+    range_K, steps, axis, classes, use_classes
+        As :func:`build_palette`.
+    name : str, optional
+        Palette name (default from its content, :meth:`Palette.default_name`).
+    columns : int, optional
+        Columns of a GIMP palette or a contact sheet.
+    overwrite : bool
+        Replace an existing file.
+
+    Returns
+    -------
+    Palette
+
+    References
+    ----------
+    :func:`build_palette`, :func:`write_palette`; :mod:`starkiln.engine.atomic`.
+    """
+    from starkiln.engine.atomic import check_writable
+
+    palette_format_for_path(path)
+    check_writable(path, overwrite)
+    palette = build_palette(settings, range_K=range_K, steps=steps, axis=axis, classes=classes,
+                            use_classes=use_classes)
+    write_palette(palette, path, overwrite=overwrite, name=name, columns=columns)
+    return palette

@@ -30,6 +30,7 @@ from starkiln.engine.colour.gamut import Oklab_to_XYZ, XYZ_to_Oklab, channel_max
 from starkiln.engine.colour.observers import (KM_PHOTOPIC_LM_W, KM_SCOTOPIC_LM_W, XYZ_to_xy, cmfs, v_photopic,
                               v_scotopic, xy_to_XYZ)
 from starkiln.engine.colour.displays import D65_4DIGIT, Display
+from starkiln.engine.colour.quantisation import to_hex
 from starkiln.engine.pipeline.settings import Settings
 from starkiln.engine.stars.temperature import check_temperature
 from starkiln.engine.colour.spectrum import planck_weighted_sums
@@ -111,19 +112,6 @@ class Rendered:
         return to_hex(self.rgb_encoded)
 
 
-def to_hex(rgb_encoded) -> np.ndarray:
-    """``#rrggbb`` strings from encoded RGB in 0-1 (value * 255, rounded; common practice)."""
-    q = to_8bit(rgb_encoded)
-    flat = q.reshape(-1, 3)
-    out = np.array([f"#{r:02x}{g:02x}{b:02x}" for r, g, b in flat.tolist()], dtype="<U7")
-    return out.reshape(q.shape[:-1])
-
-
-def to_8bit(rgb_encoded) -> np.ndarray:
-    """Encoded 0-1 -> uint8 by ``floor(v * 255 + 0.5)`` (common practice)."""
-    return np.floor(np.clip(np.asarray(rgb_encoded), 0.0, 1.0) * 255.0 + 0.5).astype(np.uint8)
-
-
 def blackbody_XYZ(temperature_K, observer: str = "cie1931") -> np.ndarray:
     """Tristimulus values (Y = 1) of Planckian radiators, vectorised and chunked.
 
@@ -140,7 +128,7 @@ class _Chain:
     """Matrices and constants derived once per settings object."""
 
     XYZ_to_rgb: np.ndarray  # adaptation then display matrix
-    oklab_xyz_from_rgb: np.ndarray
+    rgb_to_XYZ_D65: np.ndarray  # display RGB -> XYZ adapted to D65 (Bradford), for Oklab
     luminance_row: np.ndarray
 
 
@@ -273,7 +261,7 @@ def _render_night(settings: Settings, t: np.ndarray, mag: np.ndarray) -> Rendere
     shape = np.broadcast_shapes(t.shape, mag.shape)
     unique, inverse, XYZ_u, rgb_u, ok_u, sp_u = _per_temperature(settings, t.reshape(-1), True)
     chain = _chain(settings)
-    lab_u = XYZ_to_Oklab(rgb_u @ chain.oklab_xyz_from_rgb.T)
+    lab_u = XYZ_to_Oklab(rgb_u @ chain.rgb_to_XYZ_D65.T)
     idx = np.broadcast_to(inverse.reshape(t.shape), shape).reshape(-1)
     m_flat = np.ascontiguousarray(np.broadcast_to(mag, shape), dtype=np.float64).reshape(-1)
     n = idx.size
@@ -333,8 +321,7 @@ def _night_block(settings: Settings, chain: "_Chain", mag, sp, lab) -> dict:
         m_eff = m_eye
     intensity = nv.intensity_from_magnitude(m_eff, settings.magnitude_bright,
                                             settings.magnitude_faint, settings.intensity_curve)
-    to_xyz = chain.oklab_xyz_from_rgb
-    rgb, inside, factor = _apply_chroma(settings, lab, sat, to_xyz, chain)
+    rgb, inside, factor = _apply_chroma(settings, lab, sat, chain)
     reached = np.zeros(mag.shape, dtype=bool)
     if settings.compensate:
         # The audience sees each pixel at intensity x peak x its relative luminance, with their
@@ -349,13 +336,13 @@ def _night_block(settings: Settings, chain: "_Chain", mag, sp, lab) -> dict:
                 wanted = np.where(s_dome > 0.0, sat / s_dome, np.inf)
             reachable = np.isfinite(wanted)
             rgb, inside, factor = _apply_chroma(settings, lab,
-                                                np.where(reachable, wanted, 1.0e6), to_xyz, chain)
+                                                np.where(reachable, wanted, 1.0e6), chain)
         reached = reachable & inside
     return {"rgb": rgb, "intensity": intensity, "lp": lp, "cone": cone, "sat": factor,
             "reached": reached}
 
 
-def _apply_chroma(settings: Settings, lab: np.ndarray, factor: np.ndarray, to_xyz, chain):
+def _apply_chroma(settings: Settings, lab: np.ndarray, factor: np.ndarray, chain: "_Chain"):
     """Scale Oklab chroma by ``factor`` (plus the night tint), map into gamut, brightest channel 1.
 
     Returns the RGB, whether the scaled colour was inside the gamut before mapping, and the
@@ -365,13 +352,14 @@ def _apply_chroma(settings: Settings, lab: np.ndarray, factor: np.ndarray, to_xy
     lab_out = np.stack([lab[..., 0],
                         factor * lab[..., 1] + tint * nv.NIGHT_TINT_AB[0],
                         factor * lab[..., 2] + tint * nv.NIGHT_TINT_AB[1]], axis=-1)
-    rgb = Oklab_to_XYZ(lab_out) @ np.linalg.inv(to_xyz).T
+    rgb = Oklab_to_XYZ(lab_out) @ np.linalg.inv(chain.rgb_to_XYZ_D65).T
     inside = in_gamut(rgb, upper=False)
     achieved = np.array(np.broadcast_to(factor, inside.shape), dtype=np.float64)
     if not np.all(inside):
         bad = ~inside
-        rgb[bad] = map_to_gamut(rgb[bad], "chroma", to_xyz, chain.luminance_row, upper=False)
-        got = XYZ_to_Oklab(rgb[bad] @ to_xyz.T)  # same lightness: the chroma method keeps L
+        rgb[bad] = map_to_gamut(rgb[bad], "chroma", chain.rgb_to_XYZ_D65, chain.luminance_row,
+                                upper=False)
+        got = XYZ_to_Oklab(rgb[bad] @ chain.rgb_to_XYZ_D65.T)  # same lightness: the chroma method keeps L
         c_full = np.hypot(lab[..., 1], lab[..., 2])[bad]
         with np.errstate(divide="ignore", invalid="ignore"):
             achieved[bad] = np.where(c_full > 1e-12, np.hypot(got[:, 1], got[:, 2]) / c_full,
@@ -419,7 +407,7 @@ def _display_rgb(settings: Settings, XYZ: np.ndarray):
     out = rgb.copy()
     bad = ~ok
     if np.any(bad):
-        out[bad] = map_to_gamut(rgb[bad], settings.gamut, chain.oklab_xyz_from_rgb,
+        out[bad] = map_to_gamut(rgb[bad], settings.gamut, chain.rgb_to_XYZ_D65,
                                 chain.luminance_row, upper)
     if not upper:
         out = out / channel_max(out)[..., None]

@@ -44,7 +44,7 @@ from pathlib import Path
 import numpy as np
 
 from starkiln.engine.colour.displays import PRESETS, Display, get_display
-from starkiln.engine.errors import SettingsError
+from starkiln.engine.errors import SettingsError, finite_number
 from starkiln.engine.colour.gamut import check_gamut_method
 from starkiln.engine.colour.observers import check_observer
 from starkiln.engine.eye.vision import INTENSITY_CURVES, VISIONS
@@ -56,11 +56,8 @@ NORMALISATIONS = ("max-channel", "luminance")
 
 def _bounded(value, name: str, lo: float, hi: float, lo_open: bool = False) -> float:
     """A finite float within [lo, hi] (or (lo, hi] if ``lo_open``), else a one-line SettingsError."""
-    try:
-        v = float(value)
-    except (TypeError, ValueError):
-        raise SettingsError(f"{name} {value!r} is not a number") from None
-    ok = np.isfinite(v) and (v > lo if lo_open else v >= lo) and v <= hi
+    v = finite_number(value, name)
+    ok = (v > lo if lo_open else v >= lo) and v <= hi
     if not ok:
         rng = f"{lo:g} < {name} <= {hi:g}" if lo_open else f"{lo:g} <= {name} <= {hi:g}"
         raise SettingsError(f"{name} {v:g} is outside the accepted range {rng}")

@@ -35,7 +35,8 @@ from starkiln.engine.colour.temperature_axis import temperature_from_u, temperat
 from starkiln.engine.colour.temperature_axis import u_from_temperature
 from starkiln.engine.colour.observers import XYZ_to_xy, check_observer, cmfs, spectral_locus_xy, v_photopic
 from starkiln.engine.colour.observers import v_scotopic
-from starkiln.engine.pipeline.render import blackbody_XYZ, display_rgb_from_XYZ, to_8bit
+from starkiln.engine.colour.quantisation import to_8bit
+from starkiln.engine.pipeline.render import blackbody_XYZ, display_rgb_from_XYZ
 from starkiln.engine.pipeline.settings import Settings
 from starkiln.engine.stars.temperature import check_temperature
 from starkiln.engine.colour.spectrum import peak_wavelength_nm, planck_radiance
@@ -388,25 +389,6 @@ def efficiency_overlays(observer: str = "cie1931") -> dict[str, tuple[np.ndarray
     return {"V": (wl, np.asarray(v_photopic())), "V'": (wl, np.asarray(v_scotopic())),
             "x": (wl, table[:, 0] / scale), "y": (wl, table[:, 1] / scale),
             "z": (wl, table[:, 2] / scale)}
-
-
-def save_display_profile(display, path, overwrite: bool = True) -> None:
-    """Write a display as a JSON display profile (format: :mod:`starkiln.engine.colour.displays`), atomically.
-
-    The text is ``json.dumps(display.to_profile(), indent=2)`` plus a newline;
-    :func:`starkiln.engine.colour.displays.load_display_profile` reads it back to an equal display.
-
-    References
-    ----------
-    RFC 8259 (JSON); :mod:`starkiln.engine.atomic` for the write.
-    """
-    import json
-
-    from starkiln.engine.atomic import write_atomic
-    from starkiln.engine.colour.displays import get_display
-
-    text = json.dumps(get_display(display).to_profile(), indent=2) + "\n"
-    write_atomic(path, text.encode("utf-8"), overwrite=overwrite)
 
 
 def magnitude_ladder(settings: Settings, step: float = 1.0) -> np.ndarray:

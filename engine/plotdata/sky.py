@@ -25,7 +25,8 @@ from pathlib import Path
 import numpy as np
 
 from starkiln.engine.errors import InputRangeError, SettingsError
-from starkiln.engine.pipeline.render import render, to_8bit
+from starkiln.engine.colour.quantisation import to_8bit
+from starkiln.engine.pipeline.render import render
 from starkiln.engine.pipeline.settings import Settings
 from starkiln.engine.stars.temperature import check_temperature
 
