@@ -216,6 +216,31 @@ def test_formats_reference_examples_are_valid_files(tmp_path):
         assert display.peak_luminance_cd_m2 == data["peak_luminance_cd_m2"]
 
 
+def _anchors(text: str) -> set[str]:
+    # GitHub's heading anchors: lower case, punctuation other than '-' and '_' dropped, spaces
+    # to '-' (common practice of Markdown renderers).
+    out = set()
+    for block_free in re.sub(r"^```.*?^```", "", text, flags=re.S | re.M).splitlines():
+        m = re.match(r"^#{1,6}\s+(.*)", block_free)
+        if m:
+            title = re.sub(r"[^\w\- ]", "", m.group(1).strip().lower())
+            out.add(title.replace(" ", "-"))
+    return out
+
+
+@pytest.mark.parametrize("page", PAGES, ids=lambda p: p.name)
+def test_links_between_pages_resolve(page):
+    text = page.read_text(encoding="utf-8")
+    for target, anchor in re.findall(r"\]\(([^)#\s]*)(?:#([^)\s]+))?\)", text):
+        if re.match(r"[a-z]+://", target):
+            continue
+        path = (page.parent / target) if target else page
+        assert path.exists(), f"{page.name}: link to missing {target}"
+        if anchor:
+            assert anchor in _anchors(path.read_text(encoding="utf-8")), (
+                f"{page.name}: link to {target}#{anchor}: no such heading")
+
+
 def test_matcher_wildcards():
     # The matcher itself: '...' lines and in-line '...' wildcards, and real mismatches.
     assert matches(["a", "...", "z"], ["a", "b", "c", "z"])
