@@ -107,6 +107,12 @@ def main(argv=None) -> int:
     ap.add_argument("--dry-run", action="store_true", help="print the table, do not write it")
     args = ap.parse_args(argv)
     only = {k for k in args.only.split(",") if k}
+    if only and not args.dry_run:
+        raise SystemExit("report.py: error: --only gives a partial table; use it with --dry-run")
+    known = {key for key, _, _ in SCRIPTS}
+    if only - known:
+        raise SystemExit(f"report.py: error: --only {','.join(sorted(only - known))} unknown; "
+                         f"accepted: {', '.join(key for key, _, _ in SCRIPTS)}")
 
     env = dict(os.environ, QT_QPA_PLATFORM=os.environ.get("QT_QPA_PLATFORM", "offscreen"))
     results: list[tuple[str, dict]] = []
@@ -134,8 +140,6 @@ def main(argv=None) -> int:
     if args.dry_run:
         print(block)
         return 0
-    if only:
-        raise SystemExit("report.py: error: --only gives a partial table; use it with --dry-run")
     from starkiln.engine.atomic import write_atomic
     text = replace_between_markers(DOC.read_text(encoding="utf-8"), block)
     write_atomic(DOC, text.encode("utf-8"))

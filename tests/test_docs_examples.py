@@ -241,6 +241,26 @@ def test_links_between_pages_resolve(page):
                 f"{page.name}: link to {target}#{anchor}: no such heading")
 
 
+def test_performance_table_comes_from_every_bench_script():
+    # docs/performance.md holds the one table bench/report.py writes between its markers, with
+    # rows from every bench script report.py runs.
+    sys.path.insert(0, str(ROOT / "bench"))
+    try:
+        import report
+    finally:
+        sys.path.remove(str(ROOT / "bench"))
+    text = (ROOT / "docs" / "performance.md").read_text(encoding="utf-8")
+    assert text.count(report.BEGIN) == 1 and text.count(report.END) == 1
+    block = text.split(report.BEGIN, 1)[1].split(report.END, 1)[0]
+    for _, script, _ in report.SCRIPTS:
+        if (ROOT / "bench" / script).exists():
+            assert f"`{script}` |" in block, script
+    line = ('RESULT name=x goal="a goal" value=2.5 unit=s reference=5 reference_label="goal" '
+            'ratio=0.5 sense="of the goal"')
+    assert report.table([("b.py", r) for r in report.parse_results(line)]).splitlines()[-1] == (
+        "| a goal | 2.5 s | 5 s (goal) | 0.5 of the goal | `b.py` |")
+
+
 def test_matcher_wildcards():
     # The matcher itself: '...' lines and in-line '...' wildcards, and real mismatches.
     assert matches(["a", "...", "z"], ["a", "b", "c", "z"])
