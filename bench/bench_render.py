@@ -114,6 +114,22 @@ def main() -> None:
     print(f"{'cold start (median of %d)' % runs:<44}{'starkiln s':>12}{'import colour s':>16}{'ratio':>8}")
     print(f"{'starkiln colour --temperature 5800 --json':<44}{t_cli:>12.3f}{t_colour:>16.3f}"
           f"{t_cli / t_colour:>8.2f}")
+    # Machine-readable summary for bench/report.py (one line per goal; same figures as above).
+    for name, goal, value, unit, ref, ref_label, ratio, sense in (
+            ("render_texture", "render 1024 x 256, texture layout", t_lut, "s", t_ref,
+             "colour-science per-sample route, scaled", t_ref / t_lut, "x faster"),
+            ("render_distinct", "render 262 144 distinct temperatures", t_distinct, "s", t_ref,
+             "colour-science per-sample route, scaled", t_ref / t_distinct, "x faster"),
+            ("render_night_texture", "night vision added, 1024 temperatures x 256 magnitudes",
+             t_lut_night, "s", t_lut, "colour only", t_lut_night / t_lut, "x the colour-only time"),
+            ("render_night_distinct", "night vision added, 262 144 distinct (T, m) pairs",
+             t_distinct_night, "s", t_distinct, "colour only", t_distinct_night / t_distinct,
+             "x the colour-only time"),
+            ("cli_cold_start", "cold `starkiln colour --temperature 5800 --json`", t_cli, "s",
+             t_colour, "`import colour` alone", t_cli / t_colour, "x the `import colour` time")):
+        print(f'RESULT name={name} goal="{goal}" value={value:.4g} unit={unit} '
+              f'reference={ref:.4g} reference_label="{ref_label}" ratio={ratio:.4g} '
+              f'sense="{sense}"')
 
 
 if __name__ == "__main__":
