@@ -8,6 +8,7 @@ from __future__ import annotations
 import json
 
 from starkiln.cli.options import add_colour_options, number, settings_from_args
+from starkiln.engine.errors import StarkilnError
 
 
 def add_parsers(sub) -> None:
@@ -86,7 +87,12 @@ def cmd_colour(args, out) -> int:
             night.append(("dome compensation", "reached" if record["compensation_reached"]
                           else "out of reach (clamped to the gamut)"))
     if args.json:
-        out.write(json.dumps(record) + "\n")
+        try:  # last guard: JSON output never holds NaN or infinity (RFC 8259 has neither)
+            text = json.dumps(record, allow_nan=False)
+        except ValueError:
+            raise StarkilnError("the result is not finite for these settings; accepted: "
+                                "settings within the ranges of 'starkiln colour --help'") from None
+        out.write(text + "\n")
         return 0
     rows = [
         ("temperature", f"{record['temperature_K']:.0f} K"),

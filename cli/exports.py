@@ -32,15 +32,21 @@ def _allow_negative_ranges(parser: argparse.ArgumentParser) -> None:
     parser._parse_optional = _parse_optional
 
 
+#: An example of each range option for its error message.
+RANGE_EXAMPLES = {"--temperatures": "1000:40000", "--magnitudes": "-1:7"}
+
+
 def parse_range(text: str, what: str) -> tuple[float, float]:
-    """``"A:B"`` -> ``(A, B)`` floats; one-line error naming the option otherwise."""
+    """``"A:B"`` -> ``(A, B)`` floats; one-line error naming the option and its own example."""
+    example = RANGE_EXAMPLES.get(what, "0:1")
+    message = f"{what} {text!r} must be two numbers A:B (e.g. {example})"
     parts = str(text).split(":")
     if len(parts) != 2:
-        raise StarkilnError(f"{what} {text!r} must be two numbers A:B (e.g. 1000:40000)")
+        raise StarkilnError(message)
     try:
         a, b = (finite_number(v, what) for v in parts)
     except StarkilnError:
-        raise StarkilnError(f"{what} {text!r} must be two numbers A:B (e.g. 1000:40000)") from None
+        raise StarkilnError(message) from None
     return a, b
 
 

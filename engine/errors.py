@@ -7,6 +7,8 @@ number check those messages share.
 
 import math
 
+import numpy as np
+
 
 class StarkilnError(ValueError):
     """Bad input to the engine: a one-line, user-facing message."""
@@ -20,7 +22,7 @@ class InputRangeError(StarkilnError):
     """A numeric input (temperature, colour index, magnitude...) is outside what is accepted."""
 
 
-def finite_number(value, what: str, error: type = SettingsError) -> float:
+def finite_number(value, what: str, error: type = SettingsError, *, text: bool = True) -> float:
     """``value`` as a finite float, or ``error`` with a one-line message naming ``what`` and it.
 
     The one number check of the engine and the command line: settings, display profiles,
@@ -34,6 +36,11 @@ def finite_number(value, what: str, error: type = SettingsError) -> float:
         How the message names the value (``"white 'D65': x"``, ``"pupil_mm"``); may be empty.
     error : type
         The :class:`StarkilnError` subclass to raise (:class:`SettingsError` by default).
+    text : bool
+        Accept text such as ``"6504"`` (command-line values). Readers of typed files
+        (TOML, JSON) pass ``False``: there a quoted ``"2.2"`` is a string, not a number.
+        A boolean is never a number (``isinstance(True, int)`` holds in Python, but
+        ``true`` in a settings file is a mistake, not 1).
 
     Returns
     -------
@@ -48,11 +55,82 @@ def finite_number(value, what: str, error: type = SettingsError) -> float:
     >>> finite_number("2.5", "gamma")
     2.5
     """
-    named = f"{what} {value!r}" if what else repr(value)
+    shown = shown_value(value)
+    named = f"{what} {shown}" if what else shown
+    if isinstance(value, (bool, np.bool_)) or (not text and isinstance(value, (str, bytes))):
+        kind = "true/false" if isinstance(value, (bool, np.bool_)) else "text"
+        raise error(f"{named} is {kind}, not a number; accepted: a finite number")
+    if isinstance(value, (list, tuple, dict)):
+        raise error(f"{named} is {plain_type_name(value)}, not a number; accepted: a finite "
+                    "number")
     try:
         v = float(value)
     except (TypeError, ValueError):
-        raise error(f"{named} is not a number") from None
+        raise error(f"{named} is not a number; accepted: a finite number") from None
     if not math.isfinite(v):
         raise error(f"{named} is not finite; accepted: a finite number")
     return v
+
+
+def plain_type_name(value) -> str:
+    """How a message names the kind of a parsed JSON/TOML value (``table``, ``list``, ``text``...).
+
+    References
+    ----------
+    TOML 1.0 and RFC 8259 value kinds (common practice).
+    """
+    if value is None:
+        return "nothing (null)"
+    if isinstance(value, (bool, np.bool_)):
+        return "true/false"
+    if isinstance(value, dict):
+        return "a table"
+    if isinstance(value, (list, tuple)):
+        return "a list"
+    if isinstance(value, str):
+        return "text"
+    if isinstance(value, (int, float)):
+        return "a number"
+    return type(value).__name__
+
+
+def read_text_file(path, kind: str) -> str:
+    """The UTF-8 text of a small input file, or a one-line :class:`SettingsError` naming it.
+
+    Parameters
+    ----------
+    path : pathlib.Path
+        The file (a settings file, a display profile).
+    kind : str
+        How the message names the file's role (``"settings file"``).
+
+    Returns
+    -------
+    str
+
+    References
+    ----------
+    RFC 8259 section 8.1 and TOML 1.0 (both are UTF-8 only).
+    """
+    try:
+        raw = path.read_bytes()
+    except OSError as exc:
+        raise SettingsError(f"{path}: cannot read {kind} ({exc.strerror or exc})") from None
+    try:
+        return raw.decode("utf-8")
+    except UnicodeDecodeError as exc:
+        raise SettingsError(f"{path}: {kind} is not UTF-8 text (byte {exc.object[exc.start]:#04x} "
+                            f"at offset {exc.start}); accepted: a UTF-8 text file") from None
+
+
+def shown_value(value) -> str:
+    """A parsed file value as a message shows it: ``true``/``false`` as in TOML and JSON, else
+    its ``repr`` (text quoted, lists and tables as written).
+
+    References
+    ----------
+    TOML 1.0 and RFC 8259 spell booleans ``true`` and ``false`` (common practice).
+    """
+    if isinstance(value, (bool, np.bool_)):
+        return "true" if value else "false"
+    return repr(value)

@@ -119,3 +119,38 @@ def test_warm_cache_does_not_import_colour(private_cache, python_run):
     warm = python_run(PROBE, env)
     assert warm.returncode == 0, warm.stderr
     assert warm.stdout.strip().endswith("COLOUR:False")
+
+
+@pytest.mark.parametrize("damage", ["truncated", "empty", "wrong-shape", "nan"])
+def test_damaged_cache_is_rebuilt_with_one_line(private_cache, colour, capsys, damage):
+    # A cut-off download or a full disk leaves a truncated .npz (a ZIP archive, numpy format
+    # docs); it is rebuilt from colour-science with one line on stderr, never a traceback.
+    et.tables()  # a whole cache
+    et.tables.cache_clear()
+    path = et.cache_path()
+    whole = path.read_bytes()
+    if damage == "truncated":
+        path.write_bytes(whole[: len(whole) // 2])
+    elif damage == "empty":
+        path.write_bytes(b"")
+    else:
+        arrays = dict(np.load(path))
+        if damage == "wrong-shape":
+            arrays["v_photopic"] = arrays["v_photopic"][:10]
+        else:
+            arrays["cmf_cie1931"] = arrays["cmf_cie1931"].copy()
+            arrays["cmf_cie1931"][5, 1] = np.nan
+        with open(path, "wb") as fh:
+            np.savez(fh, **arrays)
+    capsys.readouterr()
+    tab = et.tables()
+    err = capsys.readouterr().err
+    assert err.count("\n") == 1 and err.startswith("starkiln: note: table cache")
+    assert "rebuilding" in err and str(path) in err
+    # CIE 15:2004 Table T.4 as shipped by colour-science (the reference library).
+    np.testing.assert_array_equal(tab["cmf_cie1931"],
+                                  colour.MSDS_CMFS[CMF_NAMES["cmf_cie1931"]].values)
+    assert path.read_bytes() == whole  # rewritten whole
+    et.tables.cache_clear()
+    et.tables()
+    assert capsys.readouterr().err == ""  # and read quietly next time

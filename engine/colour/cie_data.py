@@ -28,6 +28,8 @@ Sources of the tables (as published by CIE and shipped by colour-science):
 from __future__ import annotations
 
 import os
+import zipfile
+import zlib
 from functools import lru_cache
 from pathlib import Path
 
@@ -144,19 +146,51 @@ def tables() -> dict[str, np.ndarray]:
     See :func:`build_tables`.
     """
     path = cache_path()
-    try:
-        with np.load(path) as data:
-            loaded = {k: data[k] for k in _KEYS}
-        if loaded["wavelength_nm"].shape == wavelengths_nm().shape:
-            return _frozen(loaded)
-    except (OSError, KeyError, ValueError):
-        pass
+    loaded, problem = _read_cache(path)
+    if loaded is not None:
+        return _frozen(loaded)
+    if problem != "missing":
+        import sys
+
+        sys.stderr.write(f"starkiln: note: table cache {path} is unreadable ({problem}); "
+                         "rebuilding it\n")
     built = build_tables()
     try:
         write_npz_atomic(path, built)
     except OSError:
         pass  # read-only home: keep the tables in memory for this process
     return _frozen(built)
+
+
+#: Errors of reading a damaged ``.npz`` (a ZIP archive of ``.npy`` files).
+NPZ_READ_ERRORS = (OSError, KeyError, ValueError, EOFError, zipfile.BadZipFile, zlib.error)
+
+
+def _read_cache(path: Path) -> tuple[dict | None, str | None]:
+    """``(tables, None)`` if the cached tables at ``path`` are whole, else ``(None, why not)``.
+
+    A cache that is truncated, corrupt, of another shape or holding non-finite values is not
+    used (it is then rebuilt).
+
+    References
+    ----------
+    numpy ``.npz`` format (a ZIP archive, APPNOTE.TXT) (common practice).
+    """
+    if not path.exists():
+        return None, "missing"
+    n = wavelengths_nm().shape[0]
+    out = {}
+    try:
+        with np.load(path) as data:
+            for key in _KEYS:
+                a = data[key]
+                want = (n, 3) if key.startswith("cmf_") else (n,)
+                if a.shape != want or a.dtype != np.float64 or not np.isfinite(a).all():
+                    return None, f"{key} is not {want} finite float64 values"
+                out[key] = a
+    except NPZ_READ_ERRORS as exc:
+        return None, f"{type(exc).__name__}: {exc}".splitlines()[0][:120]
+    return out, None
 
 
 def _frozen(arrays: dict[str, np.ndarray]) -> dict[str, np.ndarray]:

@@ -44,7 +44,7 @@ from pathlib import Path
 import numpy as np
 
 from starkiln.engine.colour.observers import xy_to_XYZ
-from starkiln.engine.errors import SettingsError, finite_number
+from starkiln.engine.errors import SettingsError, finite_number, plain_type_name, shown_value
 
 TRANSFERS = ("srgb", "gamma", "linear", "pq")
 PROFILE_FORMAT = 1
@@ -64,20 +64,17 @@ class Display:
     peak_luminance_cd_m2: float = 80.0
 
     def __post_init__(self):
+        if not isinstance(self.name, str):
+            raise SettingsError(f"display name {self.name!r} is {plain_type_name(self.name)}; "
+                                "accepted: text")
         where = f"display {self.name!r}"
         for field in ("red_xy", "green_xy", "blue_xy", "white_xy"):
-            v = getattr(self, field)
-            try:
-                pair = (float(v[0]), float(v[1]))
-                if len(v) != 2:
-                    raise ValueError
-            except (TypeError, ValueError, IndexError):
-                raise SettingsError(f"{where}: {field} must be two numbers [x, y], got {v!r}") from None
+            pair = xy_pair(getattr(self, field), f"{where}: {field}", text=True)
             if not (0.0 < pair[0] < 1.0 and 0.0 < pair[1] < 1.0 and pair[0] + pair[1] <= 1.0 + 1e-12):
                 raise SettingsError(f"{where}: {field} {list(pair)} is not a chromaticity "
                                     "(0 < x, 0 < y, x + y <= 1)")
             object.__setattr__(self, field, pair)
-        if self.transfer not in TRANSFERS:
+        if not isinstance(self.transfer, str) or self.transfer not in TRANSFERS:
             raise SettingsError(f"{where}: transfer {self.transfer!r} unknown; accepted: "
                                 f"{', '.join(TRANSFERS)}")
         g = finite_number(self.gamma, f"{where}: gamma")
@@ -137,6 +134,99 @@ class Display:
         return decode(rgb_encoded, self.transfer, self.gamma, self.peak_luminance_cd_m2)
 
 
+def xy_pair(value, what: str, text: bool = False) -> tuple[float, float]:
+    """``value`` as a pair of finite floats ``(x, y)``, or a one-line :class:`SettingsError`.
+
+    Parameters
+    ----------
+    value : object
+        A two-element list or tuple of numbers (``[0.3127, 0.329]``).
+    what : str
+        How the message names the value (``"white_xy"``, ``"profile.json: primaries_xy.red"``).
+    text : bool
+        Accept numbers written as text (Python callers); file readers pass ``False``.
+
+    Returns
+    -------
+    tuple of float
+
+    References
+    ----------
+    CIE 15:2004 section 7.3 (chromaticity coordinates x, y).
+    """
+    if not isinstance(value, (list, tuple, np.ndarray)) or len(value) != 2:
+        raise SettingsError(f"{what} must be two numbers [x, y], got {shown_value(value)} "
+                            f"({plain_type_name(value)}); accepted: e.g. [0.3127, 0.329]")
+    return (finite_number(value[0], f"{what} x", text=text),
+            finite_number(value[1], f"{what} y", text=text))
+
+
+def _typed(value, kind, what: str, accepted: str):
+    """``value`` if it is of ``kind`` (and not a bool where a number is wanted), else an error."""
+    if kind is str and isinstance(value, str):
+        return value
+    if kind is float:
+        return finite_number(value, what, text=False)
+    raise SettingsError(f"{what} {shown_value(value)} is {plain_type_name(value)}; accepted: "
+                        f"{accepted}")
+
+
+def _check_keys(data: dict, known, where: str, not_a_table: str = "must be a table") -> None:
+    """One-line error if ``data`` is not a table (``not_a_table``) or has a key not in ``known``
+    (naming the first and listing ``known``)."""
+    if not isinstance(data, dict):
+        raise SettingsError(f"{where}: {not_a_table}; got {plain_type_name(data)}")
+    extra = [k for k in data if k not in known]
+    if extra:
+        raise SettingsError(f"{where}: unknown key {extra[0]!r}; accepted: "
+                            f"{', '.join(sorted(known))}")
+
+
+#: Keys of the ``[display]`` table of a settings file (the fields of :class:`Display`).
+TABLE_KEYS = ("name", "red_xy", "green_xy", "blue_xy", "white_xy", "transfer", "gamma",
+              "peak_luminance_cd_m2")
+
+
+def display_from_table(data: dict, where: str = "display") -> Display:
+    """Build a :class:`Display` from the ``[display]`` table of a settings file (TOML).
+
+    Every key is checked for its type (text, a number that is not true/false, an [x, y] pair
+    of numbers); unknown and missing keys are named with the accepted ones.
+
+    Parameters
+    ----------
+    data : dict
+        The parsed table (keys in :data:`TABLE_KEYS`).
+    where : str
+        Prefix of messages (``"look.toml: key 'display'"``).
+
+    Returns
+    -------
+    Display
+
+    References
+    ----------
+    TOML 1.0 (tables); the field sources in the module docstring.
+    """
+    _check_keys(data, TABLE_KEYS, where, "must be a preset name or a table")
+    missing = [k for k in ("name", "red_xy", "green_xy", "blue_xy", "white_xy") if k not in data]
+    if missing:
+        raise SettingsError(f"{where}: missing key {missing[0]!r}; required: name, red_xy, "
+                            "green_xy, blue_xy, white_xy")
+    kw = {"name": _typed(data["name"], str, f"{where}: name", "text")}
+    for k in ("red_xy", "green_xy", "blue_xy", "white_xy"):
+        kw[k] = xy_pair(data[k], f"{where}: {k}")
+    if "transfer" in data:
+        kw["transfer"] = _typed(data["transfer"], str, f"{where}: transfer", ", ".join(TRANSFERS))
+    for k in ("gamma", "peak_luminance_cd_m2"):
+        if k in data:
+            kw[k] = _typed(data[k], float, f"{where}: {k}", "a number")
+    try:
+        return Display(**kw)
+    except SettingsError as exc:
+        raise SettingsError(f"{where}: {exc}") from None
+
+
 def _in_triangle(p: np.ndarray, tri: np.ndarray) -> bool:
     def side(a, b):
         return (b[0] - a[0]) * (p[1] - a[1]) - (b[1] - a[1]) * (p[0] - a[0])
@@ -175,59 +265,85 @@ PRESET_NOTES = {
 def display_from_profile(data: dict, source: str = "profile") -> Display:
     """Build a :class:`Display` from a parsed JSON profile (format in the module docstring).
 
-    Raises :class:`SettingsError` naming ``source`` and the key for any problem.
+    Every key is checked for its type (``starkiln_display`` is the whole number 1, not
+    ``true``; numbers are not text; pairs are two numbers); unknown keys, at the top and in
+    ``primaries_xy`` and ``transfer``, are named with the accepted ones.
+
+    Raises
+    ------
+    SettingsError
+        One line naming ``source`` and the key for any problem.
+
+    References
+    ----------
+    RFC 8259 (JSON); the field sources in the module docstring.
     """
-    if not isinstance(data, dict):
-        raise SettingsError(f"{source}: a display profile must be a JSON object")
-    known = {"starkiln_display", "name", "primaries_xy", "white_xy", "transfer",
-             "peak_luminance_cd_m2", "note"}
-    extra = sorted(set(data) - known)
-    if extra:
-        raise SettingsError(f"{source}: unknown key {extra[0]!r}; accepted: {', '.join(sorted(known))}")
+    known = ("starkiln_display", "name", "primaries_xy", "white_xy", "transfer",
+             "peak_luminance_cd_m2", "note")
+    _check_keys(data, known, source, "a display profile must be a JSON object")
     version = data.get("starkiln_display", PROFILE_FORMAT)
-    if version != PROFILE_FORMAT:
-        raise SettingsError(f"{source}: starkiln_display {version!r} unsupported; accepted: "
-                            f"{PROFILE_FORMAT}")
+    if isinstance(version, bool) or not isinstance(version, int) or version != PROFILE_FORMAT:
+        raise SettingsError(f"{source}: starkiln_display {json.dumps(version)} unsupported; "
+                            f"accepted: {PROFILE_FORMAT}")
     for key in ("primaries_xy", "white_xy"):
         if key not in data:
             raise SettingsError(f"{source}: missing key {key!r}")
     prim = data["primaries_xy"]
-    if not isinstance(prim, dict) or set(prim) != {"red", "green", "blue"}:
-        raise SettingsError(f"{source}: primaries_xy must be an object with keys red, green, blue")
+    _check_keys(prim, ("red", "green", "blue"), f"{source}: primaries_xy",
+                "must be an object with keys red, green, blue")
+    for colour in ("red", "green", "blue"):
+        if colour not in prim:
+            raise SettingsError(f"{source}: primaries_xy: missing key {colour!r}; required: "
+                                "red, green, blue")
+    pairs = [xy_pair(prim[c], f"{source}: primaries_xy.{c}") for c in ("red", "green", "blue")]
+    white = xy_pair(data["white_xy"], f"{source}: white_xy")
     transfer = data.get("transfer", {"function": "srgb"})
     if isinstance(transfer, str):
         transfer = {"function": transfer}
     if not isinstance(transfer, dict) or "function" not in transfer:
         raise SettingsError(f"{source}: transfer must be an object with key 'function' "
                             f"({', '.join(TRANSFERS)})")
-    fn = str(transfer["function"]).lower()
+    _check_keys(transfer, ("function", "gamma"), f"{source}: transfer")
+    fn = _typed(transfer["function"], str, f"{source}: transfer.function",
+                ", ".join(TRANSFERS)).lower()
     if fn not in TRANSFERS:
         raise SettingsError(f"{source}: transfer.function {transfer['function']!r} unknown; "
                             f"accepted: {', '.join(TRANSFERS)}")
     if fn == "gamma" and "gamma" not in transfer:
         raise SettingsError(f"{source}: transfer.gamma is required with function 'gamma'")
-    name = str(data.get("name", Path(source).stem))
+    gamma = _typed(transfer.get("gamma", 2.2), float, f"{source}: transfer.gamma", "1-4")
+    peak = _typed(data.get("peak_luminance_cd_m2", 100.0), float,
+                  f"{source}: peak_luminance_cd_m2", "0.01-10000")
+    name = _typed(data.get("name", Path(source).stem), str, f"{source}: name", "text")
+    if "note" in data:
+        _typed(data["note"], str, f"{source}: note", "text")
     try:
-        return Display(name, tuple(prim["red"]), tuple(prim["green"]), tuple(prim["blue"]),
-                       tuple(data["white_xy"]), fn, transfer.get("gamma", 2.2),
-                       data.get("peak_luminance_cd_m2", 100.0))
+        return Display(name, *pairs, white, fn, gamma, peak)
     except SettingsError as exc:
         raise SettingsError(f"{source}: {exc}") from None
-    except TypeError:
-        raise SettingsError(f"{source}: primaries and white must be [x, y] pairs") from None
 
 
 def load_display_profile(path) -> Display:
-    """Read a JSON display profile from ``path`` (format in the module docstring)."""
+    """Read a JSON display profile from ``path`` (format in the module docstring).
+
+    The file must be UTF-8 JSON (RFC 8259 section 8.1); text in another encoding, or nested
+    too deeply to read, gives a one-line :class:`SettingsError` naming the file.
+
+    References
+    ----------
+    RFC 8259 (JSON).
+    """
+    from starkiln.engine.errors import read_text_file
+
     path = Path(path)
-    try:
-        text = path.read_text(encoding="utf-8")
-    except OSError as exc:
-        raise SettingsError(f"{path}: cannot read display profile ({exc.strerror})") from None
+    text = read_text_file(path, "display profile")
     try:
         data = json.loads(text)
     except json.JSONDecodeError as exc:
         raise SettingsError(f"{path}: not valid JSON (line {exc.lineno}: {exc.msg})") from None
+    except RecursionError:
+        raise SettingsError(f"{path}: nested too deeply to read; accepted: a display profile "
+                            "as in the user guide (a few levels)") from None
     return display_from_profile(data, str(path))
 
 

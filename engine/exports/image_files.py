@@ -225,7 +225,11 @@ def _png_text(path, key: str):
     try:
         with open(path, "rb") as fh:
             return _scan_png_text(png.Reader(file=fh), want)
-    except (png.Error, zlib.error, IndexError, UnicodeDecodeError, OSError) as exc:
+    except UnicodeDecodeError as exc:
+        raise StarkilnError(f"{path}: the {key!r} text is not UTF-8 (byte "
+                            f"{exc.object[exc.start]:#04x} at offset {exc.start}); accepted: a "
+                            "UTF-8 iTXt chunk (ISO/IEC 15948 11.3.4.5)") from None
+    except (png.Error, zlib.error, IndexError, OSError) as exc:
         raise StarkilnError(f"{path}: not a readable PNG ({exc})") from None
 
 
@@ -260,6 +264,9 @@ def read_embedded_json(path, key: str = "starkiln") -> dict:
         data = json.loads(text)
     except json.JSONDecodeError as exc:
         raise StarkilnError(f"{path}: {key!r} metadata is not valid JSON ({exc.msg})") from None
+    except RecursionError:
+        raise StarkilnError(f"{path}: {key!r} metadata is nested too deeply to read; accepted: "
+                            "the metadata 'starkiln lut' writes") from None
     if not isinstance(data, dict):
         raise StarkilnError(f"{path}: {key!r} metadata is not a JSON object")
     return data

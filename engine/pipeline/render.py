@@ -25,6 +25,7 @@ from functools import lru_cache
 
 import numpy as np
 
+from starkiln.engine.errors import InputRangeError
 from starkiln.engine.eye import vision as nv
 from starkiln.engine.colour.gamut import Oklab_to_XYZ, XYZ_to_Oklab, channel_max, in_gamut, map_to_gamut
 from starkiln.engine.colour.observers import (KM_PHOTOPIC_LM_W, KM_SCOTOPIC_LM_W, XYZ_to_xy, cmfs, v_photopic,
@@ -338,8 +339,24 @@ def _night_block(settings: Settings, chain: "_Chain", mag, sp, lab) -> dict:
             rgb, inside, factor = _apply_chroma(settings, lab,
                                                 np.where(reachable, wanted, 1.0e6), chain)
         reached = reachable & inside
+    _check_finite(settings, rgb, intensity, lp)
     return {"rgb": rgb, "intensity": intensity, "lp": lp, "cone": cone, "sat": factor,
             "reached": reached}
+
+
+def _check_finite(settings: Settings, *arrays) -> None:
+    """Last guard of the night pass: NaN or infinity in a result is an error, never an output.
+
+    The settings' ranges keep every result finite; this catches a combination they missed
+    (IEEE 754 finite: neither infinite nor NaN).
+    """
+    if all(np.isfinite(a).all() for a in arrays):
+        return
+    raise InputRangeError(
+        f"aperture_mm {settings.aperture_mm}, transmission {settings.transmission:g}, pupil_mm "
+        f"{settings.pupil_mm:g} and blur_spot_arcmin {settings.blur_spot_arcmin:g} give no finite "
+        "image luminance for these magnitudes; accepted: values that keep the instrument gain "
+        "tau (D/d)^2 between 1e-6 and 1e10")
 
 
 def _apply_chroma(settings: Settings, lab: np.ndarray, factor: np.ndarray, chain: "_Chain"):

@@ -43,8 +43,9 @@ from pathlib import Path
 
 import numpy as np
 
-from starkiln.engine.colour.displays import PRESETS, Display, get_display
-from starkiln.engine.errors import SettingsError, finite_number
+from starkiln.engine.colour.displays import PRESETS, Display, display_from_table, get_display
+from starkiln.engine.errors import (SettingsError, finite_number, plain_type_name, read_text_file,
+                                    shown_value)
 from starkiln.engine.colour.gamut import check_gamut_method
 from starkiln.engine.colour.observers import check_observer
 from starkiln.engine.eye.vision import INTENSITY_CURVES, VISIONS
@@ -52,6 +53,12 @@ from starkiln.engine.colour.whites import check_adaptation, normalise_white_spec
 
 SETTINGS_FORMAT = 1
 NORMALISATIONS = ("max-channel", "luminance")
+#: Accepted instrument apertures and transmissions. With the pupil (1-9 mm), the blur spot
+#: (0.1-60 arcmin) and magnitudes -30..+30, every image luminance within these bounds stays a
+#: normal float64 (1e-30 to 1e30 cd/m2), so no output can hold NaN or infinity. A 1 mm
+#: aperture is below any instrument; a transmission of 1e-4 is a dense solar filter.
+APERTURE_RANGE_MM = (1.0, 100000.0)
+TRANSMISSION_RANGE = (1e-4, 1.0)
 
 
 def _bounded(value, name: str, lo: float, hi: float, lo_open: bool = False) -> float:
@@ -84,8 +91,8 @@ class Settings:
     vision : ``mesopic`` (default, CIE 191:2010 cone weight and desaturation) or
         ``none`` (the camera look: full colour).
     pupil_mm : dark-adapted pupil diameter, 7 mm (common practice), 1-9.
-    aperture_mm : instrument aperture in mm, or None for the naked eye.
-    transmission : instrument transmission, 0 < tau <= 1 (used with an aperture).
+    aperture_mm : instrument aperture in mm, 1-100000, or None for the naked eye.
+    transmission : instrument transmission, 0.0001 <= tau <= 1 (used with an aperture).
     blur_spot_arcmin : diameter of the effective star image, 0.1-60 arcmin (default 6).
     intensity_curve : ``asinh`` (default), ``log`` or ``linear``.
     magnitude_bright, magnitude_faint : magnitudes mapped to intensity 1 and 0.
@@ -113,6 +120,12 @@ class Settings:
     compensate: bool = False
 
     def __post_init__(self):
+        for name in _TEXT_KEYS:
+            value = getattr(self, name)
+            if not isinstance(value, str):
+                raise SettingsError(f"{name} {shown_value(value)} is {plain_type_name(value)}; "
+                                    "accepted: "
+                                    f"{_EXAMPLES.get(name, 'text')}")
         object.__setattr__(self, "observer", check_observer(self.observer))
         object.__setattr__(self, "scene_white", normalise_white_spec(self.scene_white))
         object.__setattr__(self, "adaptation", check_adaptation(self.adaptation))
@@ -123,11 +136,7 @@ class Settings:
             raise SettingsError(f"unknown normalisation {self.normalisation!r}; accepted: "
                                 f"{', '.join(NORMALISATIONS)}")
         object.__setattr__(self, "normalisation", norm)
-        try:
-            y = float(self.luminance_Y)
-        except (TypeError, ValueError):
-            raise SettingsError(f"luminance_Y {self.luminance_Y!r} is not a number; accepted: "
-                                "0 < luminance_Y <= 1") from None
+        y = finite_number(self.luminance_Y, "luminance_Y")
         if not 0.0 < y <= 1.0:
             raise SettingsError(f"luminance_Y {y:g} is outside the accepted range 0 < Y <= 1")
         object.__setattr__(self, "luminance_Y", y)
@@ -145,10 +154,9 @@ class Settings:
         set_ = object.__setattr__
         set_(self, "pupil_mm", _bounded(self.pupil_mm, "pupil_mm", 1.0, 9.0))
         if self.aperture_mm is not None:
-            set_(self, "aperture_mm", _bounded(self.aperture_mm, "aperture_mm", 0.0, 100000.0,
-                                               lo_open=True))
-        set_(self, "transmission", _bounded(self.transmission, "transmission", 0.0, 1.0,
-                                            lo_open=True))
+            set_(self, "aperture_mm", _bounded(self.aperture_mm, "aperture_mm", *APERTURE_RANGE_MM))
+        set_(self, "transmission", _bounded(self.transmission, "transmission",
+                                            *TRANSMISSION_RANGE))
         set_(self, "blur_spot_arcmin", _bounded(self.blur_spot_arcmin, "blur_spot_arcmin",
                                                 0.1, 60.0))
         set_(self, "magnitude_bright", _bounded(self.magnitude_bright, "magnitude_bright",
@@ -181,53 +189,132 @@ class Settings:
         return d
 
     @classmethod
-    def from_dict(cls, data: dict, source: str = "settings") -> "Settings":
-        """Build validated settings from the plain-data form; errors name ``source`` and the key."""
+    def from_dict(cls, data: dict, source: str = "settings", base_dir=None) -> "Settings":
+        """Build validated settings from the plain-data form; errors name ``source`` and the key.
+
+        Every key is checked for its kind first (text, a number that is not true/false,
+        true/false, a display name or table), so a list or table where text is expected is
+        a one-line :class:`SettingsError` naming the key, never a Python error.
+
+        Parameters
+        ----------
+        data : dict
+            Parsed TOML (or the ``settings`` object of embedded JSON metadata).
+        source : str
+            How messages name the file (``"look.toml"``).
+        base_dir : path-like, optional
+            Folder against which a relative display profile path is resolved (the settings
+            file's own folder); default: the current folder.
+
+        Returns
+        -------
+        Settings
+
+        References
+        ----------
+        TOML 1.0 value kinds; the field ranges in the class docstring.
+        """
         if not isinstance(data, dict):
-            raise SettingsError(f"{source}: settings must be a table of keys")
+            raise SettingsError(f"{source}: settings must be a table of keys; got "
+                                f"{plain_type_name(data)}")
         version = data.get("starkiln_settings", SETTINGS_FORMAT)
-        if version != SETTINGS_FORMAT:
-            raise SettingsError(f"{source}: starkiln_settings = {version!r} is not supported; "
+        if (isinstance(version, bool) or not isinstance(version, int)
+                or version != SETTINGS_FORMAT):
+            raise SettingsError(f"{source}: starkiln_settings = {shown_value(version)} is not "
+                                "supported; "
                                 f"accepted: {SETTINGS_FORMAT}")
-        names = {f.name for f in dataclasses.fields(cls)}
+        names = [f.name for f in dataclasses.fields(cls)]
         kwargs = {}
         for key, value in data.items():
             if key == "starkiln_settings":
                 continue
             if key not in names:
                 raise SettingsError(f"{source}: unknown key {key!r}; accepted: "
-                                    f"{', '.join(sorted(names))}")
-            if key == "display" and isinstance(value, dict):
-                try:
-                    value = Display(**{k: (tuple(v) if isinstance(v, list) else v)
-                                       for k, v in value.items()})
-                except TypeError as exc:
-                    raise SettingsError(f"{source}: key 'display': {exc}") from None
-                except SettingsError as exc:
-                    raise SettingsError(f"{source}: key 'display': {exc}") from None
-            kwargs[key] = value
+                                    f"{', '.join(sorted(names + ['starkiln_settings']))}")
+            where = f"{source}: key {key!r}"
+            kwargs[key] = _typed_value(key, value, where, base_dir)
         try:
             return cls(**kwargs)
         except SettingsError as exc:
-            bad = next((k for k in kwargs if k in str(exc) or repr(kwargs[k]) in str(exc)), None)
-            where = f"key {bad!r}: " if bad else ""
-            raise SettingsError(f"{source}: {where}{exc}") from None
+            raise SettingsError(f"{source}: {_blame(cls, kwargs)}{exc}") from None
+
+
+#: The kind of each settings key in a file: text, number or true/false (display: text or table).
+_TEXT_KEYS = ("observer", "scene_white", "adaptation", "gamut", "normalisation", "vision",
+              "intensity_curve")
+_NUMBER_KEYS = ("luminance_Y", "pupil_mm", "aperture_mm", "transmission", "blur_spot_arcmin",
+                "magnitude_bright", "magnitude_faint", "night_tint")
+_EXAMPLES = {"scene_white": "text such as 'D65' or 'xy:0.3127,0.3290'"}
+
+
+def _typed_value(key: str, value, where: str, base_dir):
+    """One value of a settings file checked for its kind (module docstring), else an error."""
+    if key in _TEXT_KEYS:
+        if not isinstance(value, str):
+            raise SettingsError(f"{where}: {shown_value(value)} is {plain_type_name(value)}; "
+                                "accepted: "
+                                f"{_EXAMPLES.get(key, 'text')}")
+        return value
+    if key in _NUMBER_KEYS:
+        return finite_number(value, f"{where}:", text=False)
+    if key == "compensate":
+        if not isinstance(value, bool):
+            raise SettingsError(f"{where}: {shown_value(value)} is {plain_type_name(value)}; "
+                                "accepted: "
+                                "true or false")
+        return value
+    # display: a preset name, a profile path (relative to the settings file) or a table
+    if isinstance(value, dict):
+        return display_from_table(value, where)
+    if not isinstance(value, str):
+        raise SettingsError(f"{where}: {shown_value(value)} is {plain_type_name(value)}; "
+                            "accepted: a "
+                            f"preset name ({', '.join(PRESETS)}), a path to a .json profile or "
+                            "a [display] table")
+    if base_dir is not None and value.strip().lower() not in PRESETS:
+        path = Path(value.strip()).expanduser()
+        if not path.is_absolute():
+            value = str(Path(base_dir) / path)
+    try:
+        return get_display(value)
+    except SettingsError as exc:
+        raise SettingsError(f"{where}: {exc}") from None
+
+
+def _blame(cls, kwargs: dict) -> str:
+    """``"key 'K': "`` for the key whose value alone fails validation, else ``""``."""
+    pair = ("magnitude_bright", "magnitude_faint")
+    for key, value in kwargs.items():
+        alone = {k: kwargs[k] for k in pair if k in kwargs} if key in pair else {key: value}
+        try:
+            cls(**alone)
+        except SettingsError:
+            return f"key {key!r}: " if key not in pair else ""
+    return ""
 
 
 def load_settings(path) -> Settings:
-    """Read settings from a TOML file (format in the module docstring; TOML 1.0)."""
+    """Read settings from a TOML file (format in the module docstring; TOML 1.0).
+
+    The file must be UTF-8 (TOML 1.0); a display profile path in it is read relative to the
+    file's own folder. Every problem is a one-line :class:`SettingsError` naming the file.
+
+    References
+    ----------
+    TOML 1.0 (read with the standard library's ``tomllib``).
+    """
     import tomllib
 
     path = Path(path)
+    text = read_text_file(path, "settings file")
     try:
-        raw = path.read_bytes()
-    except OSError as exc:
-        raise SettingsError(f"{path}: cannot read settings file ({exc.strerror})") from None
-    try:
-        data = tomllib.loads(raw.decode("utf-8"))
-    except (tomllib.TOMLDecodeError, UnicodeDecodeError) as exc:
+        data = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
         raise SettingsError(f"{path}: not a valid TOML settings file ({exc})") from None
-    return Settings.from_dict(data, str(path))
+    except RecursionError:
+        raise SettingsError(f"{path}: nested too deeply to read; accepted: a settings file as in "
+                            "the README (a [display] table at most)") from None
+    return Settings.from_dict(data, str(path), base_dir=path.parent)
 
 
 def settings_to_toml(settings: Settings) -> str:
