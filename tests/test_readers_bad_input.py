@@ -66,7 +66,8 @@ def embedded(settings) -> bytes:
 DEEP = 100000
 # (comment, kind, content, extra command-line arguments, fragments the one line must hold)
 # kind: settings (look.toml via --settings), profile (dome.json via --display), text / itxt
-# (a PNG tEXt / iTXt chunk read by 'lut --settings-from'), args (options only), window
+# (a PNG tEXt / iTXt chunk read by 'lut --settings-from'), exr (an EXR header attribute
+# read the same way), args (options only), window
 # (the window's start-up: 'starkiln --settings look.toml').
 CASES = [
     # --- settings files (TOML) ---
@@ -196,6 +197,11 @@ CASES = [
     ("embedded settings missing", "text", embedded(None), [], ["old.png", "settings"]),
     ("embedded display as a list", "text", embedded({"display": [{"name": "x"}]}), [],
      ["old.png", "'display'", "list"]),
+    ("EXR header nested 100000 deep", "exr", b"[" * DEEP, [], ["old.exr", "nested"]),
+    ("EXR header: white as a list", "exr", embedded({"scene_white": [0.31, 0.33]}), [],
+     ["old.exr", "'scene_white'", "list"]),
+    ("EXR header: aperture 1e-300", "exr", embedded({"aperture_mm": 1e-300}), [],
+     ["old.exr", "'aperture_mm'", "1 <= aperture_mm"]),
     # --- options ---
     ("--aperture-mm 1e-300", "args", None, ["--aperture-mm", "1e-300"],
      ["aperture_mm 1e-300", "1 <= aperture_mm"]),
@@ -244,6 +250,12 @@ def run_case(folder: Path, kind: str, content, extra) -> tuple[int | str, str]:
         else:
             png_with_chunk(old, b"iTXt", b"starkiln\x00\x00\x00\x00\x00" + content)
         argv = ["lut", str(folder / "new.png"), "--settings-from", str(old)]
+    elif kind == "exr":  # an OpenEXR string attribute (OpenEXR header attributes)
+        from starkiln.engine.exports.image_files import write_exr
+
+        write_exr(folder / "old.exr", np.zeros((1, 1, 3)),
+                  attributes={"starkiln": content.decode("utf-8")})
+        argv = ["lut", str(folder / "new.png"), "--settings-from", str(folder / "old.exr")]
     elif kind == "args":
         argv = colour + extra
     elif kind == "lut":
@@ -376,5 +388,5 @@ def test_no_case_leaves_files_behind(tmp_path, monkeypatch):
         folder.mkdir()
         run_case(folder, kind, content, extra)
         left = sorted(p.name for p in folder.iterdir())
-        assert set(left) <= {"look.toml", "dome.json", "old.png"}, (comment, left)
+        assert set(left) <= {"look.toml", "dome.json", "old.png", "old.exr"}, (comment, left)
     assert os.listdir(tmp_path)
