@@ -37,7 +37,6 @@ from __future__ import annotations
 
 import dataclasses
 import sys
-import tomllib
 from functools import lru_cache
 from pathlib import Path
 from typing import Callable
@@ -215,9 +214,11 @@ def demo_display():
 
 def settings_from_toml(text: str, source: str = "last session") -> Settings | None:
     """Settings from TOML text (the window's saved session), or None if it is not valid."""
+    from starkiln.engine.pipeline.settings import settings_from_toml as parse
+
     try:
-        return Settings.from_dict(tomllib.loads(str(text)), source)
-    except (tomllib.TOMLDecodeError, StarkilnError, TypeError):
+        return parse(text, source)
+    except StarkilnError:
         return None
 
 

@@ -242,3 +242,14 @@ def test_a_failing_listener_does_not_stop_the_others(model, monkeypatch):
     model.events.temperature.connect(lambda change: later.append(change.value))
     model.set_temperature(4500.0, origin="kelvin")
     assert caught == [RuntimeError] and later == [4500.0] and model.temperature_K == 4500.0
+
+
+def test_saved_session_that_is_broken_is_ignored_not_raised():
+    # A damaged window session (QSettings text) must never stop the window from starting:
+    # not TOML, nested deeper than Python's recursion limit, or a value of the wrong shape.
+    from starkiln.gui.model import settings_from_toml
+
+    for text in ("scene_white = ", "a = " + "[" * 100_000, "scene_white = [0.31, 0.33]",
+                 "display = true"):
+        assert settings_from_toml(text) is None
+    assert settings_from_toml('scene_white = "D50"').scene_white == "D50"

@@ -303,18 +303,42 @@ def load_settings(path) -> Settings:
     ----------
     TOML 1.0 (read with the standard library's ``tomllib``).
     """
-    import tomllib
-
     path = Path(path)
     text = read_text_file(path, "settings file")
+    return settings_from_toml(text, str(path), base_dir=path.parent)
+
+
+def settings_from_toml(text: str, source: str = "settings", base_dir=None) -> Settings:
+    """Settings from TOML text (a settings file's content, or the window's saved session).
+
+    Parameters
+    ----------
+    text : str
+        TOML 1.0 text.
+    source : str
+        Named in every error message (a file name, "last session", ...).
+    base_dir : path-like, optional
+        Folder that a display profile path in the text is relative to.
+
+    Raises
+    ------
+    SettingsError
+        One line naming ``source``: not TOML, nested too deeply, or a bad key or value.
+
+    References
+    ----------
+    TOML 1.0 (read with the standard library's ``tomllib``).
+    """
+    import tomllib
+
     try:
-        data = tomllib.loads(text)
+        data = tomllib.loads(str(text))
     except tomllib.TOMLDecodeError as exc:
-        raise SettingsError(f"{path}: not a valid TOML settings file ({exc})") from None
+        raise SettingsError(f"{source}: not a valid TOML settings file ({exc})") from None
     except RecursionError:
-        raise SettingsError(f"{path}: nested too deeply to read; accepted: a settings file as in "
-                            "the README (a [display] table at most)") from None
-    return Settings.from_dict(data, str(path), base_dir=path.parent)
+        raise SettingsError(f"{source}: nested too deeply to read; accepted: a settings file as in "
+                            "docs/formats.md (a [display] table at most)") from None
+    return Settings.from_dict(data, source, base_dir=base_dir)
 
 
 def settings_to_toml(settings: Settings) -> str:
