@@ -12,7 +12,7 @@ Colours come from the colour grid (:func:`starkiln.engine.catalogue.grid_cache.c
 a fine grid built by :func:`starkiln.engine.pipeline.render.render`, CIEDE2000 <= 0.2
 against the exact path, proven in the tests), or from ``render`` itself with
 ``exact=True``. The accepted ranges of the temperature sources and the G-to-V
-relation are those of :mod:`starkiln.engine.stars.temperature` (Ballesteros 2012) and
+relation are those of :mod:`starkiln.engine.stars.temperature` ([Ballesteros2012]) and
 :mod:`starkiln.engine.stars.gaia` (Mucciarelli et al. 2021; Riello et al. 2021).
 """
 

@@ -7,9 +7,8 @@
 
 References
 ----------
-CIE 15:2004 Colorimetry, sections 3.1-3.2 and Tables T.4-T.5; CIE S 010:2004 /
-ISO 23539:2005 (photometry); SI Brochure, 9th edition (2019), Appendix 2
-(K_cd = 683 lm/W at 540e12 Hz); CIE 18:2019 / Wyszecki & Stiles (1982) for
+[CIE15] sections 3.1-3.2 and Tables T.4-T.5; [CIES010] (photometry); [SI2019]
+Appendix 2 (K_cd = 683 lm/W at 540e12 Hz); [CIE018] / [WyszeckiStiles1982] for
 K'_m = 1700 lm/W (1700.06 when referred to 555.016 nm).
 """
 
@@ -22,9 +21,9 @@ from starkiln.engine.colour.cie_data import tables
 
 OBSERVERS = ("cie1931", "cie1964")
 
-#: Maximum photopic luminous efficacy, lm/W (SI Brochure 2019; CIE S 010:2004).
+#: Maximum photopic luminous efficacy, lm/W ([SI2019]; [CIES010]).
 KM_PHOTOPIC_LM_W = 683.0
-#: Maximum scotopic luminous efficacy, lm/W (CIE S 010:2004; common rounded value 1700).
+#: Maximum scotopic luminous efficacy, lm/W ([CIES010]; common rounded value 1700).
 KM_SCOTOPIC_LM_W = 1700.0
 
 
@@ -32,7 +31,7 @@ def check_observer(name: str) -> str:
     """Return the canonical observer name or raise :class:`SettingsError`.
 
     Accepts ``cie1931`` / ``cie1964`` (case-insensitive; ``2`` and ``10`` as
-    shorthands). Reference: CIE 15:2004 section 3.
+    shorthands). Reference: [CIE15] section 3.
     """
     key = str(name).strip().lower().replace(" ", "").replace("_", "")
     key = {"2": "cie1931", "10": "cie1964", "1931": "cie1931", "1964": "cie1964"}.get(key, key)
@@ -42,28 +41,28 @@ def check_observer(name: str) -> str:
 
 
 def cmfs(observer: str = "cie1931") -> np.ndarray:
-    """Colour-matching functions (N, 3) of an observer on the engine grid (CIE 15:2004 T.4/T.5)."""
+    """Colour-matching functions (N, 3) of an observer on the engine grid ([CIE15] T.4/T.5)."""
     return tables()[f"cmf_{check_observer(observer)}"]
 
 
 def v_photopic() -> np.ndarray:
-    """CIE 1924 photopic luminous efficiency V(lambda) on the engine grid (CIE S 010:2004)."""
+    """CIE 1924 photopic luminous efficiency V(lambda) on the engine grid ([CIES010])."""
     return tables()["v_photopic"]
 
 
 def v_scotopic() -> np.ndarray:
-    """CIE 1951 scotopic luminous efficiency V'(lambda) on the engine grid (CIE S 010:2004)."""
+    """CIE 1951 scotopic luminous efficiency V'(lambda) on the engine grid ([CIES010])."""
     return tables()["v_scotopic"]
 
 
 def XYZ_to_xy(XYZ) -> np.ndarray:
-    """CIE 1931 chromaticity coordinates x, y from tristimulus values (CIE 15:2004 eq. 7.3)."""
+    """CIE 1931 chromaticity coordinates x, y from tristimulus values ([CIE15] eq. 7.3)."""
     XYZ = np.asarray(XYZ, dtype=np.float64)
     return XYZ[..., :2] / np.sum(XYZ, axis=-1, keepdims=True)
 
 
 def xy_to_XYZ(xy, Y=1.0) -> np.ndarray:
-    """Tristimulus values with luminance ``Y`` from chromaticity x, y (CIE 15:2004 eq. 7.3)."""
+    """Tristimulus values with luminance ``Y`` from chromaticity x, y ([CIE15] eq. 7.3)."""
     xy = np.asarray(xy, dtype=np.float64)
     x, y = xy[..., 0], xy[..., 1]
     Y = np.broadcast_to(np.asarray(Y, dtype=np.float64), x.shape)
@@ -71,7 +70,7 @@ def xy_to_XYZ(xy, Y=1.0) -> np.ndarray:
 
 
 def xy_to_uv1976(xy) -> np.ndarray:
-    """CIE 1976 UCS u', v' from x, y (CIE 15:2004 eq. 8.1)."""
+    """CIE 1976 UCS u', v' from x, y ([CIE15] eq. 8.1)."""
     xy = np.asarray(xy, dtype=np.float64)
     x, y = xy[..., 0], xy[..., 1]
     d = -2.0 * x + 12.0 * y + 3.0
@@ -79,7 +78,7 @@ def xy_to_uv1976(xy) -> np.ndarray:
 
 
 def spectral_locus_xy(observer: str = "cie1931") -> np.ndarray:
-    """Chromaticities (N, 2) of the monochromatic stimuli 360-830 nm (CIE 15:2004 section 7.3).
+    """Chromaticities (N, 2) of the monochromatic stimuli 360-830 nm ([CIE15] section 7.3).
 
     The ends, where the functions are nearly zero and the locus folds back on
     itself, are trimmed to 380-700 nm for the 2 degree and 380-720 nm for the
@@ -95,7 +94,7 @@ def inside_spectral_locus(xy, observer: str = "cie1931") -> np.ndarray:
     """Whether chromaticities lie strictly inside the spectral locus and purple line.
 
     Ray-casting point-in-polygon test, vectorised (common practice).
-    References: CIE 15:2004 section 7.3 (the locus and the purple boundary).
+    References: [CIE15] section 7.3 (the locus and the purple boundary).
     """
     pts = np.asarray(xy, dtype=np.float64)
     poly = spectral_locus_xy(observer)

@@ -19,7 +19,7 @@ Two published relations, both for the Gaia (E)DR3 photometric system:
   unless a value is passed; at [Fe/H] = -1 the temperature of a given
   colour changes by about +1 % (blue end) to -3 % (red end).
 
-- **G -> V**: M. Riello et al. (2021), "Gaia Early Data Release 3:
+- **G -> V**: [Riello2021], "Gaia Early Data Release 3:
   Photometric content and validation", A&A 649, A3, Appendix C, Table C.2
   (relation with Johnson-Cousins V)::
 
@@ -42,7 +42,7 @@ import numpy as np
 
 from starkiln.engine.errors import InputRangeError
 
-#: Mucciarelli, Bellazzini & Massari (2021) Table 1, dwarfs, BP-RP (from memory).
+#: [Mucciarelli2021] Table 1, dwarfs, BP-RP (from memory).
 MBM21_DWARF_BP_RP = (0.4929, 0.5092, -0.0353, 0.0192, -0.0020, -0.0395)
 #: Valid colour range of that relation (from memory of Table 1).
 BP_RP_CALIBRATED_MIN = 0.39
@@ -50,7 +50,7 @@ BP_RP_CALIBRATED_MAX = 1.50
 #: Dispersion of that relation, K (from memory of Table 1).
 MBM21_DWARF_SIGMA_K = 61.0
 
-#: Riello et al. (2021) Table C.2: G - V as a cubic in BP-RP (from memory).
+#: [Riello2021] Table C.2: G - V as a cubic in BP-RP (from memory).
 RIELLO21_G_MINUS_V = (-0.02704, 0.01424, -0.2156, 0.01426)
 #: Valid colour range of the G - V relation (from memory of Table C.2).
 BP_RP_G_TO_V_MIN = -0.5
@@ -163,7 +163,7 @@ def g_minus_v(bp_rp) -> np.ndarray:
 
     References
     ----------
-    M. Riello et al. (2021), A&A 649, A3, Table C.2 (coefficients from memory).
+    [Riello2021], A&A 649, A3, Table C.2 (coefficients from memory).
 
     Examples
     --------
@@ -198,7 +198,7 @@ def v_from_g(g_mag, bp_rp) -> np.ndarray:
 
     References
     ----------
-    M. Riello et al. (2021), A&A 649, A3, Table C.2 (see :func:`g_minus_v`).
+    [Riello2021], A&A 649, A3, Table C.2 (see :func:`g_minus_v`).
 
     Examples
     --------
