@@ -50,13 +50,33 @@ def check_gamut_method(name: str) -> str:
 
 
 def XYZ_to_Oklab(XYZ) -> np.ndarray:
-    """CIE XYZ (D65, Y = 1 for white) to Oklab ([Ottosson2020])."""
+    """CIE XYZ (D65, Y = 1 for white) to Oklab ([Ottosson2020]).
+
+    Examples
+    --------
+    The table of example values in [Ottosson2020]: the D65 white (0.950, 1.000, 1.089) is
+    L = 1, a = b = 0; XYZ (1, 0, 0) is (0.450, 1.236, -0.019); (0, 1, 0) is (0.922, -0.671,
+    0.263); (0, 0, 1) is (0.153, -1.415, -0.449):
+
+    >>> np.round(XYZ_to_Oklab([0.950, 1.000, 1.089]), 3).tolist()
+    [1.0, -0.0, -0.0]
+    >>> np.round(XYZ_to_Oklab(np.eye(3)), 3).tolist()
+    [[0.45, 1.236, -0.019], [0.922, -0.671, 0.263], [0.153, -1.415, -0.449]]
+    """
     lms = np.asarray(XYZ, dtype=np.float64) @ OKLAB_M1.T
     return np.cbrt(lms) @ OKLAB_M2.T
 
 
 def Oklab_to_XYZ(Lab) -> np.ndarray:
-    """Oklab to CIE XYZ (D65), inverse of :func:`XYZ_to_Oklab` ([Ottosson2020])."""
+    """Oklab to CIE XYZ (D65), inverse of :func:`XYZ_to_Oklab` ([Ottosson2020]).
+
+    Examples
+    --------
+    Back from the [Ottosson2020] example value of XYZ (0, 1, 0):
+
+    >>> np.round(Oklab_to_XYZ([0.922, -0.671, 0.263]), 2).tolist()
+    [0.0, 1.0, 0.0]
+    """
     lms = np.asarray(Lab, dtype=np.float64) @ OKLAB_M2_INV.T
     return (lms * lms * lms) @ OKLAB_M1_INV.T
 

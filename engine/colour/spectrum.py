@@ -66,6 +66,15 @@ def planck_radiance(temperature_K, wavelength_nm=None) -> np.ndarray:
     --------
     >>> float(planck_radiance(5778.0, 500.0) / 1e13)  # doctest: +ELLIPSIS
     2.63...
+
+    The same law in colour-science (``colour.colorimetry.planck_law``, wavelength in metres)
+    gives the same radiance at 5772 K and 500 nm, to the 1e-4 that its rounded default
+    c2 = 1.4388e-2 m K moves it:
+
+    >>> import colour
+    >>> ref = float(colour.colorimetry.planck_law(500e-9, 5772.0))
+    >>> abs(float(planck_radiance(5772.0, 500.0)) / ref - 1.0) < 2e-4
+    True
     """
     t = np.asarray(temperature_K, dtype=np.float64)
     wl_m = (wavelengths_nm() if wavelength_nm is None
@@ -111,6 +120,11 @@ def peak_wavelength_nm(temperature_K) -> np.ndarray:
     --------
     >>> round(float(peak_wavelength_nm(5800.0)), 1)
     499.6
+
+    The Sun's nominal 5772 K ([IAU2015B3]): b / T = 2.897771955e-3 m K / 5772 K = 502.04 nm:
+
+    >>> round(float(peak_wavelength_nm(5772.0)), 2)
+    502.04
     """
     return WIEN_B_M_K / np.asarray(temperature_K, dtype=np.float64) * 1e9
 
@@ -145,6 +159,16 @@ def radiant_exitance_W_m2(temperature_K, samples: int = 20001) -> np.ndarray:
     References
     ----------
     Stefan-Boltzmann law; [CODATA2018] sigma = 5.670374419e-8 W m^-2 K^-4.
+
+    Examples
+    --------
+    ``sigma T^4`` with the [CODATA2018] sigma, for 5772 K: 6.2939e7 W/m^2:
+
+    >>> round(float(radiant_exitance_W_m2(5772.0)) / 1e7, 4)
+    6.2939
+    >>> sigma = 5.670374419e-8
+    >>> abs(float(radiant_exitance_W_m2(1000.0)) / (sigma * 1000.0 ** 4) - 1.0) < 1e-6
+    True
     """
     t = np.atleast_1d(np.asarray(temperature_K, dtype=np.float64))
     wl_m = _wide_grid_m(t, samples)
@@ -171,6 +195,17 @@ def luminous_exitance_lm_m2(temperature_K, scotopic: bool = False) -> np.ndarray
     References
     ----------
     [CIES010] (V, V', K_m, K'_m); [CIE15] section 7.1 (summation).
+
+    Examples
+    --------
+    For CIE illuminant A's 2856 K, against colour-science's luminous flux of the same
+    blackbody (``colour.luminous_flux``, K_m = 683 lm/W, radiance times pi):
+
+    >>> import colour
+    >>> sd = colour.sd_blackbody(2856.0, colour.SpectralShape(360, 830, 1))
+    >>> ref = float(colour.luminous_flux(sd)) * np.pi
+    >>> abs(float(luminous_exitance_lm_m2(2856.0)) / ref - 1.0) < 1e-3
+    True
     """
     from starkiln.engine.colour.observers import KM_PHOTOPIC_LM_W, KM_SCOTOPIC_LM_W, v_photopic, v_scotopic
 
@@ -190,6 +225,16 @@ def luminous_efficacy_lm_W(temperature_K) -> np.ndarray:
     References
     ----------
     [CIES010]; Stefan-Boltzmann law ([CODATA2018]).
+
+    Examples
+    --------
+    About 95 lm/W at 6600 K and about 15 lm/W for a 2856 K radiator (CIE illuminant A),
+    the handbook figures (from memory):
+
+    >>> round(float(luminous_efficacy_lm_W(6600.0)))
+    95
+    >>> 13.0 < float(luminous_efficacy_lm_W(2856.0)) < 17.0
+    True
     """
     return luminous_exitance_lm_m2(temperature_K) / radiant_exitance_W_m2(temperature_K)
 

@@ -118,6 +118,15 @@ def daylight_spectrum(cct_K: float) -> np.ndarray:
     """Relative spectral power of CIE daylight on the engine grid ([CIE15] eq. 3.6-3.7).
 
     M1 and M2 are rounded to three decimals, as [CIE15] section 3.1 directs.
+
+    Examples
+    --------
+    Integrated with the CIE 1931 observer, the 6504 K daylight spectrum is D65, which
+    [CIE15] Table T.3 places at x = 0.31272, y = 0.32903:
+
+    >>> from starkiln.engine.colour.observers import XYZ_to_xy, cmfs
+    >>> np.round(XYZ_to_xy(daylight_spectrum(6504.0) @ cmfs("cie1931")), 4).tolist()
+    [0.3127, 0.329]
     """
     x, y = daylight_xy(cct_K)
     m = 0.0241 + 0.2562 * x - 0.7341 * y
@@ -179,6 +188,20 @@ def resolve_white(spec: str, observer: str = "cie1931") -> White:
     References
     ----------
     [CIE15] sections 3.1 and 7.3; [RP431-2] (DCI white).
+
+    Examples
+    --------
+    D65 and D50 as [CIE15] Table T.3 gives them for the 2 degree observer (0.31272, 0.32903;
+    0.34567, 0.35851; X, Y, Z = 95.04, 100, 108.88 for D65), the DCI white of [RP431-2] (0.314, 0.351) and the equal-energy E:
+
+    >>> [round(v, 4) for v in resolve_white("D65").xy]
+    [0.3127, 0.329]
+    >>> [round(v, 4) for v in resolve_white("D50").xy]
+    [0.3457, 0.3585]
+    >>> resolve_white("DCI").xy, resolve_white("E").xy == (1 / 3, 1 / 3)
+    ((0.314, 0.351), True)
+    >>> bool(np.allclose(resolve_white("D65").XYZ, [0.9504, 1.0, 1.0888], atol=1e-4))
+    True
     """
     from starkiln.engine.colour.spectrum import planck_radiance  # local: spectrum imports nothing of ours
 
@@ -255,6 +278,21 @@ def adaptation_matrix(source_XYZ, target_XYZ, method: str = "bradford") -> np.nd
     ----------
     [vonKries1902]; [Lam1985]; [CIE159]; [Li2017]; [Fairchild2013] chapter 9 (from
     memory).
+
+    Examples
+    --------
+    Bradford from D65 (0.95047, 1, 1.08883) to D50 (0.96422, 1, 0.82521), the matrix
+    [Lindbloom] tabulates (1.0478112 0.0228866 -0.0501270 / 0.0295424 0.9904844 -0.0170491 /
+    -0.0092345 0.0150436 0.7521316), and the source white lands on the target white:
+
+    >>> d65, d50 = [0.95047, 1.0, 1.08883], [0.96422, 1.0, 0.82521]
+    >>> M = adaptation_matrix(d65, d50, "bradford")
+    >>> np.round(M, 4).tolist()
+    [[1.0478, 0.0229, -0.0501], [0.0295, 0.9905, -0.017], [-0.0092, 0.015, 0.7521]]
+    >>> bool(np.allclose(M @ d65, d50))
+    True
+    >>> adaptation_matrix(d65, d50, "none").tolist()
+    [[1.0, 0.0, 0.0], [0.0, 1.0, 0.0], [0.0, 0.0, 1.0]]
     """
     method = check_adaptation(method)
     if method == "none":
