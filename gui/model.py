@@ -28,8 +28,9 @@ rendered directly.
 
 References
 ----------
-Mired scale: [WyszeckiStiles1982] section 3.11. Colours: :func:`starkiln.engine.pipeline.render.render`; plot data:
-:mod:`starkiln.engine.plotdata.plots` and :mod:`starkiln.engine.plotdata.sky`.
+Mired scale: [WyszeckiStiles1982] section 3.11. Colours:
+:func:`starkiln.engine.pipeline.render.render`; plot data: :mod:`starkiln.engine.plotdata.plots`
+and :mod:`starkiln.engine.plotdata.sky`.
 """
 
 from __future__ import annotations

@@ -192,7 +192,8 @@ def resolve_white(spec: str, observer: str = "cie1931") -> White:
     Examples
     --------
     D65 and D50 as [CIE15] Table T.3 gives them for the 2 degree observer (0.31272, 0.32903;
-    0.34567, 0.35851; X, Y, Z = 95.04, 100, 108.88 for D65), the DCI white of [RP431-2] (0.314, 0.351) and the equal-energy E:
+    0.34567, 0.35851; X, Y, Z = 95.04, 100, 108.88 for D65), the DCI white of [RP431-2]
+    (0.314, 0.351) and the equal-energy E:
 
     >>> [round(v, 4) for v in resolve_white("D65").xy]
     [0.3127, 0.329]

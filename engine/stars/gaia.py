@@ -2,7 +2,7 @@
 
 Two published relations, both for the Gaia (E)DR3 photometric system:
 
-- **BP-RP -> Teff**: A. Mucciarelli, M. Bellazzini & D. Massari (2021),
+- **BP-RP -> Teff**: [Mucciarelli2021],
   "Exploiting the Gaia EDR3 photometry to derive stellar temperatures",
   A&A 653, A90, eq. 1 and Table 1 (dwarf stars, colour BP-RP)::
 
@@ -31,9 +31,8 @@ Two published relations, both for the Gaia (E)DR3 photometric system:
 
 The check values printed in the two papers could not be consulted here, so
 the tests check the relations against an independent published sequence
-instead (E. Mamajek's "Modern Mean Dwarf Stellar Color and Effective
-Temperature Sequence", the maintained form of Pecaut & Mamajek 2013, ApJS
-208, 9, Table 5), within the stated scatter of each relation.
+instead ([Mamajek2024], "A Modern Mean Dwarf Stellar Color and Effective
+Temperature Sequence", the maintained form of [PecautMamajek2013] Table 5), within the stated scatter of each relation.
 """
 
 from __future__ import annotations
@@ -77,8 +76,8 @@ def bp_rp_in_range(bp_rp, extrapolate: bool = False) -> np.ndarray:
     bp_rp : array_like
         Dereddened Gaia BP-RP colours, mag.
     extrapolate : bool
-        False: the published calibration range 0.39-1.50 (Mucciarelli et al.
-        2021, Table 1, from memory). True: the wider range -0.5 to 5.0 that
+        False: the published calibration range 0.39-1.50 ([Mucciarelli2021]
+        Table 1, from memory). True: the wider range -0.5 to 5.0 that
         Starkiln accepts for appearance-only extrapolation.
 
     Returns
@@ -117,8 +116,7 @@ def temperature_from_bp_rp(bp_rp, feh=0.0, extrapolate: bool = False) -> np.ndar
 
     References
     ----------
-    A. Mucciarelli, M. Bellazzini & D. Massari (2021), A&A 653, A90, eq. 1 and
-    Table 1 (dwarfs, BP-RP); coefficients from memory (module docstring).
+    [Mucciarelli2021] eq. 1 and Table 1 (dwarfs, BP-RP); coefficients from memory (module docstring).
 
     Examples
     --------
