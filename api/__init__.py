@@ -53,7 +53,7 @@ __all__ = sorted(_PUBLIC) + ["__version__"]
 
 
 def __getattr__(name: str):
-    """Load a public name on first use (PEP 562 module ``__getattr__``)."""
+    """Load a public name on first use ([PEP562] module ``__getattr__``)."""
     try:
         module, attribute = _PUBLIC[name]
     except KeyError:

@@ -13,6 +13,9 @@ Figures, measured side by side in one run:
    zlib level 6. The hex accesses and the drawing are timed on a sample of swatches and
    scaled to 4096; the encoding is timed on the full-size image.
 3. The ratio of the two, and how the new sheet's time splits (render, drawing, encoding).
+
+Ends with two ``RESULT`` lines for ``bench/report.py``: the end-to-end time against the
+per-access route (ratio, times faster) and against the 2 s goal.
 """
 
 from __future__ import annotations
@@ -127,6 +130,14 @@ def main() -> None:
     print(f"  ratio per-access / new end to end:                   {old_s / end_to_end:8.1f}x")
     print("  per-access route parts:  " + " | ".join(f"{k} {v:.3f} s" for k, v in old_parts.items()))
     print("  new route parts (warm):  " + " | ".join(f"{k} {v:.3f} s" for k, v in new_parts.items()))
+    # Machine-readable summary for bench/report.py (same figures as above).
+    print(f'RESULT name=palette_sheet_{STEPS} goal="starkiln palette --steps {STEPS} contact '
+          f'sheet, end to end (goal < {GOAL_S:g} s)" value={end_to_end:.4g} unit=s '
+          f'reference={old_s:.4g} reference_label="per-access route, scaled" '
+          f'ratio={old_s / end_to_end:.3g} sense="x faster"')
+    print(f'RESULT name=palette_sheet_{STEPS}_goal goal="the same against its goal" '
+          f'value={end_to_end:.4g} unit=s reference={GOAL_S:g} reference_label="goal" '
+          f'ratio={end_to_end / GOAL_S:.3g} sense="of the goal (below 1 meets it)"')
 
 
 if __name__ == "__main__":

@@ -111,7 +111,8 @@ def cmd_catalogue(args, out) -> int:
         summary = _run(args, plan, engine)
     except ImportError as exc:
         raise StarkilnError(f"the catalogue command needs the package {exc.name!r}; install "
-                            "the catalogue extra: pip install 'starkiln[catalogue]'") from None
+                            "it (pip install 'starkiln[cluster]' brings the Dask engine's "
+                            "packages)") from None
     for line in summary.lines():
         out.write(line + "\n")
     return 0

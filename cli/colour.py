@@ -132,7 +132,7 @@ def cmd_displays(args, out) -> int:
         tf = f"gamma {d.gamma:g}" if d.transfer == "gamma" else d.transfer
         out.write(f"{name:<11} white {d.white_xy[0]:.4f},{d.white_xy[1]:.4f}  {tf:<9} "
                   f"{d.peak_luminance_cd_m2:g} cd/m2  {PRESET_NOTES[name]}\n")
-    out.write("also: a JSON display profile (see README, 'Display profiles')\n")
+    out.write("also: a JSON display profile (see docs/formats.md, 'Display profiles (JSON)')\n")
     return 0
 
 

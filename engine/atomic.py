@@ -1,7 +1,7 @@
 """Atomic file writes: a temporary file in the destination folder, then a rename.
 
 An interrupted write leaves either the old file or nothing, never a partial
-file (POSIX ``rename`` is atomic within a file system; common practice).
+file ([POSIX] ``rename`` is atomic within a file system; common practice).
 """
 
 from __future__ import annotations

@@ -48,7 +48,7 @@ def finite_number(value, what: str, error: type = SettingsError, *, text: bool =
 
     References
     ----------
-    IEEE 754 (finite: neither infinite nor NaN; common practice).
+    [IEEE754] (finite: neither infinite nor NaN; common practice).
 
     Examples
     --------

@@ -1,4 +1,6 @@
-"""The look controls: white, display, gamut and output, night sky (brightness and vision).
+"""The look controls: white, gamut and output, night sky (brightness and vision), and their tabs.
+
+The display tab and the profile editor are in :mod:`starkiln.gui.display_controls`.
 
 Every option list is read from the engine (presets, methods, curves); every
 value goes to :meth:`starkiln.gui.model.WindowModel.change`, which asks
@@ -10,18 +12,15 @@ from __future__ import annotations
 
 from PySide6 import QtCore, QtWidgets
 
-from starkiln.engine.colour import displays as engine_displays
 from starkiln.engine.pipeline import settings as engine_settings
 from starkiln.engine.colour.gamut import GAMUT_METHODS
 from starkiln.engine.colour.observers import OBSERVERS
 from starkiln.engine.colour.whites import ADAPTATIONS, WHITE_PRESETS
-from starkiln.gui.fields import INPUT_ERRORS, Choice, ErrorLine, Field, parse_number
-from starkiln.gui.fields import parse_optional_number
-from starkiln.gui.model import demo_display, demo_display_path
+from starkiln.gui.display_controls import DisplayTab
+from starkiln.gui.fields import INPUT_ERRORS, Choice, ErrorLine, Field, Form, format_number
+from starkiln.gui.fields import parse_number, parse_optional_number
 
 WHITE_KINDS = ("daylight", "blackbody", "xy")
-DEMO_DISPLAY = "demo-dome"
-CUSTOM_DISPLAY = "custom"
 
 LABELS = {
     "D50": "D50 daylight 5003 K", "D55": "D55 daylight 5503 K", "D65": "D65 daylight 6504 K",
@@ -34,9 +33,7 @@ LABELS = {
     "clip": "Clip channels", "scale": "Toward white", "chroma": "Less chroma (Oklab)",
     "max-channel": "Brightest channel 1", "luminance": "Fixed luminance Y",
     "mesopic": "Mesopic (CIE 191)", "asinh": "asinh (soft)", "log": "log (linear in mag)",
-    "linear": "linear in flux", "srgb": "sRGB", "display-p3": "Display P3", "dci-p3": "DCI-P3",
-    "rec2020": "Rec. 2020", "rec2100-pq": "Rec. 2100 PQ",
-    DEMO_DISPLAY: "Harbourlight dome (demo)", CUSTOM_DISPLAY: "Custom profile",
+    "linear": "linear in flux",
 }
 VISION_LABELS = {"none": "Off: camera look"}
 
@@ -45,46 +42,7 @@ CAUTION = ("Night vision here is an appearance model for rendering, not a basis 
            "For a dark-adapted dome audience avoid sudden bright flashes.")
 
 
-def _fmt(v) -> str:
-    return "" if v is None else f"{float(v):g}"
-
-
-class _Form(QtWidgets.QWidget):
-    """A two-column form with muted labels."""
-
-    def __init__(self, parent=None):
-        super().__init__(parent)
-        self.form = QtWidgets.QFormLayout(self)
-        self.form.setContentsMargins(8, 8, 8, 8)
-        self.form.setHorizontalSpacing(8)
-        self.form.setVerticalSpacing(5)
-        self.form.setLabelAlignment(QtCore.Qt.AlignmentFlag.AlignRight |
-                                    QtCore.Qt.AlignmentFlag.AlignTop)
-
-    def row(self, label: str, widget: QtWidgets.QWidget, tip: str = "", errors=()):
-        """A labelled row; the error lines of ``widget`` (a Field) or ``errors`` go under it,
-        across the whole width of the form."""
-        lab = QtWidgets.QLabel(label, self)
-        lab.setProperty("role", "muted")
-        if tip:
-            lab.setToolTip(tip)
-            widget.setToolTip(tip)
-        self.form.addRow(lab, widget)
-        if isinstance(widget, Field):
-            errors = (widget, *errors)
-        for f in errors:
-            self.form.addRow(f.take_error())
-        return widget
-
-    def note(self, text: str) -> QtWidgets.QLabel:
-        lab = QtWidgets.QLabel(text, self)
-        lab.setWordWrap(True)
-        lab.setProperty("role", "muted")
-        self.form.addRow(lab)
-        return lab
-
-
-class WhiteTab(_Form):
+class WhiteTab(Form):
     """Scene white (preset, daylight or blackbody by temperature, or x, y); adaptation; observer."""
 
     def __init__(self, model, parent=None):
@@ -186,200 +144,7 @@ class WhiteTab(_Form):
         self.observer.set_value(s.observer)
 
 
-class DisplayTab(_Form):
-    """Display preset or custom profile; open, edit and save JSON display profiles."""
-
-    message = QtCore.Signal(str, str)  # title, text: for a message box
-
-    def __init__(self, model, parent=None):
-        super().__init__(parent)
-        self.model = model
-        options = tuple(engine_displays.PRESETS) + (DEMO_DISPLAY, CUSTOM_DISPLAY)
-        self.display = self.row("Display", Choice("display", options, self._choose, LABELS),
-                                "Primaries, white, transfer function and peak luminance")
-        buttons = QtWidgets.QWidget(self)
-        row = QtWidgets.QHBoxLayout(buttons)
-        row.setContentsMargins(0, 0, 0, 0)
-        self.edit_button = QtWidgets.QPushButton("Edit\u2026", buttons)
-        self.open_button = QtWidgets.QPushButton("Open profile\u2026", buttons)
-        self.save_button = QtWidgets.QPushButton("Save profile\u2026", buttons)
-        for b in (self.edit_button, self.open_button, self.save_button):
-            row.addWidget(b)
-        self.edit_button.setObjectName("display-edit")
-        self.open_button.setObjectName("display-open")
-        self.save_button.setObjectName("display-save")
-        self.form.addRow(buttons)
-        self.error = ErrorLine(self)
-        self.error.setObjectName("error-display")
-        self.form.addRow(self.error)
-        self.summary = self.note("")
-        self.summary.setObjectName("display-summary")
-        self.summary.setTextInteractionFlags(QtCore.Qt.TextInteractionFlag.TextSelectableByMouse)
-        self.edit_button.clicked.connect(self.edit)
-        self.open_button.clicked.connect(self._open_dialog)
-        self.save_button.clicked.connect(self._save_dialog)
-        self.editor = None
-        self.refresh()
-
-    def _choose(self, key: str) -> None:
-        if key == CUSTOM_DISPLAY:
-            self.edit()
-            self.refresh()
-            return
-        if key == DEMO_DISPLAY:
-            self.open_profile(demo_display_path())
-            return
-        self.model.change("display", display=engine_displays.PRESETS[key])
-
-    def open_profile(self, path) -> bool:
-        """Load a JSON display profile; a bad file gives a message box and changes nothing."""
-        try:
-            self.model.open_display_profile(path, origin="display")
-        except INPUT_ERRORS as exc:
-            self.error.show_error(str(exc))
-            self.message.emit("Display profile not loaded", str(exc))
-            self.refresh()
-            return False
-        self.error.clear_error()
-        return True
-
-    def save_profile(self, path) -> bool:
-        """Write the current display as a JSON profile (atomically)."""
-        from starkiln.engine.colour.displays import save_display_profile
-
-        try:
-            save_display_profile(self.model.settings.display, path)
-        except (INPUT_ERRORS + (OSError,)) as exc:
-            self.message.emit("Display profile not saved", str(exc))
-            return False
-        return True
-
-    def _open_dialog(self) -> None:
-        path, _ = QtWidgets.QFileDialog.getOpenFileName(
-            self, "Open a display profile", str(demo_display_path().parent),
-            "Display profiles (*.json)")
-        if path:
-            self.open_profile(path)
-
-    def _save_dialog(self) -> None:
-        path, _ = QtWidgets.QFileDialog.getSaveFileName(
-            self, "Save the display profile", "display.json", "Display profiles (*.json)")
-        if path:
-            self.save_profile(path)
-
-    def edit(self) -> "DisplayEditor":
-        """Open the profile editor (non-modal) on the current display."""
-        if self.editor is None:
-            self.editor = DisplayEditor(self.model, self)
-        self.editor.load(self.model.settings.display)
-        self.editor.show()
-        self.editor.raise_()
-        return self.editor
-
-    def refresh(self, force: bool = False) -> None:
-        """Show the model's display."""
-        d = self.model.settings.display
-        key = next((k for k, v in engine_displays.PRESETS.items() if v == d), None)
-        if key is None:
-            key = DEMO_DISPLAY if d == demo_display() else CUSTOM_DISPLAY
-        self.display.set_value(key)
-        tf = f"gamma {d.gamma:g}" if d.transfer == "gamma" else d.transfer
-        self.summary.setText(
-            f"{d.name}\nred {d.red_xy[0]:.4f}, {d.red_xy[1]:.4f}   green {d.green_xy[0]:.4f}, "
-            f"{d.green_xy[1]:.4f}\nblue {d.blue_xy[0]:.4f}, {d.blue_xy[1]:.4f}   white "
-            f"{d.white_xy[0]:.4f}, {d.white_xy[1]:.4f}\n{tf}, "
-            f"peak {d.peak_luminance_cd_m2:g} cd/m\u00b2")
-        if self.editor is not None and self.editor.isVisible() and force:
-            self.editor.load(d)
-
-
-class DisplayEditor(QtWidgets.QDialog):
-    """Edit a display profile: primaries, white, transfer, gamma, peak; apply, open, save."""
-
-    def __init__(self, model, parent=None):
-        super().__init__(parent)
-        self.setObjectName("display-editor")
-        self.setWindowTitle("Display profile")
-        self.model = model
-        form = QtWidgets.QFormLayout(self)
-        self.name = QtWidgets.QLineEdit(self)
-        self.name.setObjectName("field-display-name")
-        form.addRow("Name", self.name)
-        self.fields: dict[str, QtWidgets.QLineEdit] = {}
-        for key, label in (("red", "Red primary x, y"), ("green", "Green primary x, y"),
-                           ("blue", "Blue primary x, y"), ("white", "White x, y")):
-            w = QtWidgets.QWidget(self)
-            row = QtWidgets.QHBoxLayout(w)
-            row.setContentsMargins(0, 0, 0, 0)
-            for axis in ("x", "y"):
-                e = QtWidgets.QLineEdit(w)
-                e.setObjectName(f"field-{key}-{axis}")
-                e.setFixedWidth(80)
-                row.addWidget(e)
-                self.fields[f"{key}_{axis}"] = e
-            row.addStretch(1)
-            form.addRow(label, w)
-        self.transfer = QtWidgets.QComboBox(self)
-        self.transfer.setObjectName("choice-transfer")
-        for t in engine_displays.TRANSFERS:
-            self.transfer.addItem(t, t)
-        form.addRow("Transfer function", self.transfer)
-        for key, label in (("gamma", "Gamma (with 'gamma')"),
-                           ("peak", "Peak luminance, cd/m\u00b2")):
-            e = QtWidgets.QLineEdit(self)
-            e.setObjectName(f"field-{key}")
-            e.setFixedWidth(80)
-            self.fields[key] = e
-            form.addRow(label, e)
-        self.error = ErrorLine(self)
-        self.error.setObjectName("error-display-editor")
-        form.addRow(self.error)
-        buttons = QtWidgets.QDialogButtonBox(self)
-        self.apply_button = buttons.addButton("Apply",
-                                              QtWidgets.QDialogButtonBox.ButtonRole.ApplyRole)
-        self.close_button = buttons.addButton("Close",
-                                              QtWidgets.QDialogButtonBox.ButtonRole.RejectRole)
-        self.apply_button.setObjectName("display-apply")
-        self.apply_button.clicked.connect(self.apply)
-        self.close_button.clicked.connect(self.reject)
-        form.addRow(buttons)
-
-    def load(self, d) -> None:
-        """Fill the fields from a display."""
-        self.name.setText(d.name)
-        for key in ("red", "green", "blue", "white"):
-            x, y = getattr(d, f"{key}_xy")
-            self.fields[f"{key}_x"].setText(f"{x:g}")
-            self.fields[f"{key}_y"].setText(f"{y:g}")
-        self.transfer.setCurrentIndex(max(self.transfer.findData(d.transfer), 0))
-        self.fields["gamma"].setText(f"{d.gamma:g}")
-        self.fields["peak"].setText(f"{d.peak_luminance_cd_m2:g}")
-        self.error.clear_error()
-
-    def fields_values(self) -> dict:
-        """The display fields as typed (``name``, ``red_xy``... ``peak_luminance_cd_m2``);
-        raises StarkilnError for a field that is not a number."""
-        labels = {"gamma": "gamma", "peak": "peak luminance"}
-        v = {k: parse_number(e.text(), labels.get(k, k.replace("_", " ")))
-             for k, e in self.fields.items()}
-        return {"name": self.name.text().strip() or "custom",
-                "red_xy": (v["red_x"], v["red_y"]), "green_xy": (v["green_x"], v["green_y"]),
-                "blue_xy": (v["blue_x"], v["blue_y"]), "white_xy": (v["white_x"], v["white_y"]),
-                "transfer": self.transfer.currentData(), "gamma": v["gamma"],
-                "peak_luminance_cd_m2": v["peak"]}
-
-    def apply(self) -> bool:
-        """Validate (the engine does) and use the edited display; errors stay in the dialog."""
-        try:
-            self.model.change_display("display", **self.fields_values())
-        except INPUT_ERRORS as exc:
-            self.error.show_error(str(exc))
-            return False
-        self.error.clear_error()
-        return True
-
-
-class OutputTab(_Form):
+class OutputTab(Form):
     """Gamut mapping and normalisation."""
 
     def __init__(self, model, parent=None):
@@ -407,11 +172,11 @@ class OutputTab(_Form):
         self.gamut.set_value(s.gamut)
         self.normalisation.set_value(s.normalisation)
         if force or not self.luminance.has_error:
-            self.luminance.set_text(_fmt(s.luminance_Y))
+            self.luminance.set_text(format_number(s.luminance_Y))
         self.luminance.setEnabled(s.normalisation == "luminance")
 
 
-class NightTab(_Form):
+class NightTab(Form):
     """Brightness and night vision: magnitude, instrument, vision model, tone curve, dome."""
 
     NUMBER_FIELDS = (
@@ -480,14 +245,14 @@ class NightTab(_Form):
         """Show the model's settings and magnitude."""
         s = self.model.settings
         if force or not self.magnitude.has_error:
-            self.magnitude.set_text(_fmt(self.model.magnitude))
+            self.magnitude.set_text(format_number(self.model.magnitude))
         if force or not self.peak.has_error:
-            self.peak.set_text(_fmt(s.display.peak_luminance_cd_m2))
+            self.peak.set_text(format_number(s.display.peak_luminance_cd_m2))
         if force or not self.aperture.has_error:
-            self.aperture.set_text(_fmt(s.aperture_mm))
+            self.aperture.set_text(format_number(s.aperture_mm))
         for key, field in self.numbers.items():
             if force or not field.has_error:
-                field.set_text(_fmt(getattr(s, key)))
+                field.set_text(format_number(getattr(s, key)))
         self.numbers["transmission"].setEnabled(s.aperture_mm is not None)
         self.vision.set_value(s.vision)
         self.curve.set_value(s.intensity_curve)

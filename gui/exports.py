@@ -1,14 +1,13 @@
 """Export dialogs: lookup textures and palettes, through exactly the command line's functions.
 
-``starkiln lut`` (:func:`starkiln.cli.exports.cmd_lut`) checks the destination
-with :func:`starkiln.engine.atomic.check_writable`, builds with
-:func:`starkiln.engine.exports.textures.build_lut` and writes with :func:`starkiln.engine.exports.textures.write_lut`;
-``starkiln palette`` (:func:`starkiln.cli.exports.cmd_palette`) uses
-:func:`starkiln.engine.exports.palettes.build_palette` and :func:`starkiln.engine.exports.palettes.write_palette`.
-The dialogs call the same functions in the same order with the window model's
-settings, so a file written here is byte-identical to the command line's with
-the same settings and options. The preview is built by the same functions (at
-a reduced size for large textures).
+``starkiln lut`` (:func:`starkiln.cli.exports.cmd_lut`) and the texture dialog both call
+:func:`starkiln.engine.exports.textures.export_texture`; ``starkiln palette``
+(:func:`starkiln.cli.exports.cmd_palette`) and the palette dialog both call
+:func:`starkiln.engine.exports.palettes.export_palette`. Each checks the destination, builds
+and writes atomically, so a file written here is byte-identical to the command line's with
+the same settings and options. The previews are built by the functions those exports use
+(:func:`~starkiln.engine.exports.textures.build_lut` at a reduced size for large textures,
+:func:`~starkiln.engine.exports.palettes.build_palette`).
 """
 
 from __future__ import annotations
@@ -19,7 +18,7 @@ from pathlib import Path
 import numpy as np
 from PySide6 import QtCore, QtGui, QtWidgets
 
-from starkiln.engine.atomic import OutputExistsError, check_writable
+from starkiln.engine.atomic import OutputExistsError
 from starkiln.engine.errors import StarkilnError
 from starkiln.gui.fields import INPUT_ERRORS, ErrorLine, parse_number
 from starkiln.gui.swatches import SwatchStrip
@@ -94,11 +93,6 @@ class _ExportDialog(QtWidgets.QDialog):
         self.layout_.addWidget(buttons)
         self.path.setText(str(Path.home() / self.default_name))
         self.path.editingFinished.connect(self.refresh_preview)
-
-    @property
-    def session(self):
-        """The window model (the name the build and write calls below read it by)."""
-        return self.model
 
     def _browse(self) -> None:
         path, _ = QtWidgets.QFileDialog.getSaveFileName(self, self.windowTitle(),
@@ -266,7 +260,7 @@ class LutDialog(_ExportDialog):
         small = spec.replace(width=min(spec.width, PREVIEW_MAX[0]),
                              height=min(spec.height, PREVIEW_MAX[1]), file_format="png",
                              depth=8)
-        array, _meta = build_lut(self.session.settings, small)
+        array, _meta = build_lut(self.model.settings, small)
         self._show_array(array)
         notes = [f"{spec.width} \u00d7 {spec.height} texels, temperature "
                  f"{spec.temperature_range_K[0]:g}\u2013{spec.temperature_range_K[1]:g} K "
@@ -283,13 +277,11 @@ class LutDialog(_ExportDialog):
         self.command.setText("Command line: " + self.command_line(path, spec))
 
     def _export(self, path: Path, overwrite: bool) -> str:
-        from starkiln.engine.exports.textures import build_lut, write_lut
+        from starkiln.engine.exports.textures import export_texture
 
         spec = self.spec_for(path)
         self.command.setText("Command line: " + self.command_line(path, spec))
-        check_writable(path, overwrite)
-        array, metadata = build_lut(self.session.settings, spec)
-        write_lut(path, array, metadata, spec, overwrite=overwrite)
+        export_texture(self.model.settings, spec, path, overwrite=overwrite)
         self._preview()
         return f"Wrote {path} ({spec.width} \u00d7 {spec.height}, {spec.file_format.upper()})"
 
@@ -384,7 +376,7 @@ class PaletteDialog(_ExportDialog):
     def _build(self):
         from starkiln.engine.exports.palettes import build_palette
 
-        return build_palette(self.session.settings, **self.palette_options())
+        return build_palette(self.model.settings, **self.palette_options())
 
     def _preview(self) -> None:
         from starkiln.engine.exports.contact_sheets import sheet_image
@@ -405,16 +397,11 @@ class PaletteDialog(_ExportDialog):
         self.command.setText("Command line: " + self.command_line(path))
 
     def _export(self, path: Path, overwrite: bool) -> str:
-        from starkiln.engine.exports.palettes import palette_format_for_path, write_palette
+        from starkiln.engine.exports.palettes import export_palette, palette_format_for_path
 
         palette_format_for_path(path)
         self.command.setText("Command line: " + self.command_line(path))
-        opts = self.palette_options()
-        check_writable(path, overwrite)
-        from starkiln.engine.exports.palettes import build_palette
-
-        palette = build_palette(self.session.settings, **opts)
-        write_palette(palette, path, overwrite=overwrite, name=self.name.text().strip() or None,
-                      columns=None)
+        palette = export_palette(self.model.settings, path, **self.palette_options(),
+                                 name=self.name.text().strip() or None, overwrite=overwrite)
         self._preview()
         return f"Wrote {path} ({len(palette.names)} swatches)"

@@ -226,3 +226,43 @@ class Choice(QtWidgets.QWidget):
             self.combo.blockSignals(True)
             self.combo.setCurrentIndex(i)
             self.combo.blockSignals(False)
+
+
+def format_number(v) -> str:
+    """A number as a field shows it (``%g``); ``None`` as an empty field."""
+    return "" if v is None else f"{float(v):g}"
+
+
+class Form(QtWidgets.QWidget):
+    """A two-column form with muted labels."""
+
+    def __init__(self, parent=None):
+        super().__init__(parent)
+        self.form = QtWidgets.QFormLayout(self)
+        self.form.setContentsMargins(8, 8, 8, 8)
+        self.form.setHorizontalSpacing(8)
+        self.form.setVerticalSpacing(5)
+        self.form.setLabelAlignment(QtCore.Qt.AlignmentFlag.AlignRight |
+                                    QtCore.Qt.AlignmentFlag.AlignTop)
+
+    def row(self, label: str, widget: QtWidgets.QWidget, tip: str = "", errors=()):
+        """A labelled row; the error lines of ``widget`` (a Field) or ``errors`` go under it,
+        across the whole width of the form."""
+        lab = QtWidgets.QLabel(label, self)
+        lab.setProperty("role", "muted")
+        if tip:
+            lab.setToolTip(tip)
+            widget.setToolTip(tip)
+        self.form.addRow(lab, widget)
+        if isinstance(widget, Field):
+            errors = (widget, *errors)
+        for f in errors:
+            self.form.addRow(f.take_error())
+        return widget
+
+    def note(self, text: str) -> QtWidgets.QLabel:
+        lab = QtWidgets.QLabel(text, self)
+        lab.setWordWrap(True)
+        lab.setProperty("role", "muted")
+        self.form.addRow(lab)
+        return lab

@@ -28,9 +28,9 @@ rendered directly.
 
 References
 ----------
-Mired scale: G. Wyszecki & W. S. Stiles (1982), *Color Science*, 2nd ed.,
-section 3.11. Colours: :func:`starkiln.engine.pipeline.render.render`; plot data:
-:mod:`starkiln.engine.plotdata.plots` and :mod:`starkiln.engine.plotdata.sky`.
+Mired scale: [WyszeckiStiles1982] section 3.11. Colours:
+:func:`starkiln.engine.pipeline.render.render`; plot data: :mod:`starkiln.engine.plotdata.plots`
+and :mod:`starkiln.engine.plotdata.sky`.
 """
 
 from __future__ import annotations
@@ -60,7 +60,7 @@ from starkiln.engine.plotdata.sky import Cluster, SkyImage, load_demo_cluster, s
 from starkiln.engine.stars.temperature import check_temperature, temperature_from_bv
 from starkiln.engine.stars.temperature import temperature_from_spectral_class
 
-DEFAULT_TEMPERATURE_K = 5772.0  # the Sun's nominal effective temperature (IAU 2015 Resolution B3)
+DEFAULT_TEMPERATURE_K = 5772.0  # the Sun's nominal effective temperature ([IAU2015B3])
 DEFAULT_MAGNITUDE = 1.0
 #: Slider resolution: positions per mired (arrow keys step 1 mired, page keys 10).
 POSITIONS_PER_MIRED = 4
@@ -366,7 +366,7 @@ class WindowModel:
         self.events.temperature.emit(origin, t)
 
     def set_temperature_from_bv(self, bv, origin: str = "bv") -> None:
-        """Temperature from a Johnson B-V colour index (Ballesteros 2012, via the engine)."""
+        """Temperature from a Johnson B-V colour index ([Ballesteros2012], via the engine)."""
         try:
             t = float(temperature_from_bv(bv))
         except StarkilnError as exc:

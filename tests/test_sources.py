@@ -27,8 +27,9 @@ def ballesteros_by_hand(bv):
 
 
 def test_ballesteros_solar_colour():
-    # Ballesteros (2012): for the Sun's B-V = 0.65 the formula gives ~5778 K; the paper
-    # quotes this solar check (from memory). By hand: 4600 * (1/2.298 + 1/1.218).
+    # [Ballesteros2012] eq. 14 worked by hand with the published coefficients: for the
+    # Sun's B-V = 0.65 it gives 4600 * (1/2.298 + 1/1.218) ~ 5778 K, the commonly quoted
+    # solar effective temperature (common practice).
     expected = ballesteros_by_hand(0.65)
     assert expected == pytest.approx(4600.0 * (1 / 2.298 + 1 / 1.218), rel=1e-12)
     ours = float(temperature_from_bv(0.65))

@@ -149,7 +149,7 @@ def test_zero_magnitude_illuminance_order_of_magnitude():
 
 def test_magnitude_6_is_colourless_to_the_naked_eye():
     # Common practice: naked-eye stars near magnitude 6 look white. "Colourless" here: CIELAB
-    # C*ab below 2.3, about one just-noticeable difference (Sharma 2003, from memory).
+    # C*ab below 2.3, about one just-noticeable difference ([Sharma2003], from memory).
     r = render(Settings(), SEQUENCE_K, 6.0)
     assert np.all(cielab_chroma(r.rgb_encoded) < 2.3)
 

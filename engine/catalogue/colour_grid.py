@@ -235,7 +235,7 @@ def grid_mired_nodes(n: int) -> np.ndarray:
 
     References
     ----------
-    Mired scale: Wyszecki & Stiles (1982), section 3.11
+    Mired scale: [WyszeckiStiles1982], section 3.11
     (:mod:`starkiln.engine.colour.temperature_axis`).
     """
     return np.linspace(MIRED_MIN, MIRED_MAX, n)

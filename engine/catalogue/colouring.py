@@ -12,8 +12,8 @@ Colours come from the colour grid (:func:`starkiln.engine.catalogue.grid_cache.c
 a fine grid built by :func:`starkiln.engine.pipeline.render.render`, CIEDE2000 <= 0.2
 against the exact path, proven in the tests), or from ``render`` itself with
 ``exact=True``. The accepted ranges of the temperature sources and the G-to-V
-relation are those of :mod:`starkiln.engine.stars.temperature` (Ballesteros 2012) and
-:mod:`starkiln.engine.stars.gaia` (Mucciarelli et al. 2021; Riello et al. 2021).
+relation are those of :mod:`starkiln.engine.stars.temperature` ([Ballesteros2012]) and
+:mod:`starkiln.engine.stars.gaia` ([Mucciarelli2021]; [Riello2021]).
 """
 
 from __future__ import annotations
@@ -146,10 +146,9 @@ def colour_values_serial(plan: CataloguePlan, columns: dict) -> Coloured:
     -----
     The first reason found wins, in this order: temperature source missing,
     not a number, out of range; then magnitude missing, not a number, out of
-    range. Accepted ranges: 500-100 000 K; B-V -0.40 to 2.00 (Ballesteros
-    2012); BP-RP 0.39-1.50 (Mucciarelli et al. 2021; -0.5 to 5.0 with
-    ``extrapolate_bp_rp``); V -30 to 30; BP-RP for G-to-V -0.5 to 5.0 (Riello
-    et al. 2021).
+    range. Accepted ranges: 500-100 000 K; B-V -0.40 to 2.00
+    ([Ballesteros2012]); BP-RP 0.39-1.50 ([Mucciarelli2021]; -0.5 to 5.0 with
+    ``extrapolate_bp_rp``); V -30 to 30; BP-RP for G-to-V -0.5 to 5.0 ([Riello2021]).
 
     References
     ----------

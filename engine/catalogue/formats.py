@@ -8,9 +8,9 @@ streamed through pyarrow (:mod:`starkiln.engine.catalogue.streaming`).
 the two (nulls <-> masked entries). :func:`first_line` gives the one line of a
 reader's error that goes into Starkiln's one-line messages.
 
-References: astropy documentation, "Unified file read/write interface"
+References: [Astropy2022] documentation, "Unified file read/write interface"
 (``Table.read``/``Table.write`` formats ``ascii.csv``, ``ascii.ecsv``, ``fits``,
-``votable``, ``parquet``); Apache Arrow documentation, "Reading and writing
+``votable``, ``parquet``); [ApacheArrow] documentation, "Reading and writing
 the Apache Parquet format".
 """
 

@@ -12,7 +12,7 @@ sharply at the gamut edge. So when a grid is built, ``render`` is also called
 at the centre of every cell, and again at inner points of suspect cells (those
 next to a node where the values bend sharply); a cell where interpolation
 misses the rendered value by more than ``CELL_TOLERANCE_DE`` (CIE 1976 colour
-difference of the decoded colours, CIE 15:2004 section 8.2.1,
+difference of the decoded colours, [CIE15] section 8.2.1,
 :mod:`starkiln.engine.colour.cielab`) or the intensity by more than
 ``CELL_TOLERANCE_INTENSITY`` is marked, with its suspect neighbours, and rows
 that fall into a marked cell are coloured by ``render`` itself (details in
@@ -33,7 +33,7 @@ from starkiln.engine.pipeline.settings import Settings
 #: Magnitude rows rendered per call while building the 2-D grid (bounds memory).
 _BUILD_ROWS = 32
 #: A cell where interpolation misses the rendered colour by more than this CIE 1976
-#: colour difference (Delta E*ab, CIE 15:2004 section 8.2.1; CIEDE2000 is smaller for
+#: colour difference (Delta E*ab, [CIE15] section 8.2.1; CIEDE2000 is smaller for
 #: all but a few colours), or the intensity by more than CELL_TOLERANCE_INTENSITY, is
 #: rendered exactly.
 CELL_TOLERANCE_DE = 0.1
@@ -190,7 +190,7 @@ def _photopic_limit_magnitude(settings) -> float:
     found by bisection on the render path; the middle of the range when there is none.
 
     The limit is the same for every temperature (at cone weight 1 the mesopic
-    luminance is the photopic one: CIE 191:2010), so it is found at 5772 K.
+    luminance is the photopic one: [CIE191]), so it is found at 5772 K.
     """
     from starkiln.engine.pipeline.render import render
 

@@ -17,11 +17,11 @@ that every engine (this machine, :mod:`starkiln.engine.catalogue.dask_engine`)
 hands to the per-chunk function (:mod:`starkiln.engine.catalogue.colouring`).
 
 Temperature sources: kelvin (500-100 000 K, the render path's range);
-B-V through :func:`starkiln.engine.stars.temperature.temperature_from_bv` (Ballesteros 2012);
+B-V through :func:`starkiln.engine.stars.temperature.temperature_from_bv` ([Ballesteros2012]);
 BP-RP through :func:`starkiln.engine.stars.gaia.temperature_from_bp_rp`
-(Mucciarelli, Bellazzini & Massari 2021, dwarfs, [Fe/H] = 0 assumed).
-Gaia G becomes V through :func:`starkiln.engine.stars.gaia.v_from_g` (Riello et
-al. 2021, Table C.2).
+([Mucciarelli2021], dwarfs, [Fe/H] = 0 assumed).
+Gaia G becomes V through :func:`starkiln.engine.stars.gaia.v_from_g` ([Riello2021]
+Table C.2).
 """
 
 from __future__ import annotations

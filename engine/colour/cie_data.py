@@ -13,16 +13,16 @@ Why a cache rather than a build step at install time: the tables then follow
 whatever colour-science the user has (a wheel build would freeze them to the
 version present at build time), and an editable install needs no build hook.
 
-Sources of the tables (as published by CIE and shipped by colour-science):
+Sources of the tables (as published by CIE and shipped by [ColourScience]):
 
 - CIE 1931 2 degree and CIE 1964 10 degree colour-matching functions,
-  CIE 15:2004 Tables T.4 and T.5 (CIE 018:2019 at 1 nm).
+  [CIE15] Tables T.4 and T.5 ([CIE018] at 1 nm).
 - CIE 1924 photopic luminous efficiency V(lambda) and CIE 1951 scotopic
-  luminous efficiency V'(lambda), ISO 23539:2005 / CIE S 010:2004. V' is
+  luminous efficiency V'(lambda), [CIES010]. V' is
   tabulated at 380-780 nm; outside it is taken as 0 (its values at the ends
   are below 6e-4 of the peak).
-- The CIE daylight basis functions S0, S1, S2, CIE 15:2004 Table T.2 (5 nm),
-  linearly interpolated to 1 nm as CIE 15:2004 section 3.1 recommends.
+- The CIE daylight basis functions S0, S1, S2, [CIE15] Table T.2 (5 nm),
+  linearly interpolated to 1 nm as [CIE15] section 3.1 recommends.
 """
 
 from __future__ import annotations
@@ -38,7 +38,7 @@ import numpy as np
 from starkiln.engine.atomic import write_npz_atomic  # noqa: F401 (also imported from here by the catalogue)
 from starkiln.engine.errors import StarkilnError
 
-#: Default wavelength grid of the engine (CIE 15:2004 recommends 360-830 nm).
+#: Default wavelength grid of the engine ([CIE15] recommends 360-830 nm).
 WAVELENGTH_MIN_NM = 360.0
 WAVELENGTH_MAX_NM = 830.0
 WAVELENGTH_STEP_NM = 1.0
@@ -50,7 +50,7 @@ _KEYS = ("wavelength_nm", "cmf_cie1931", "cmf_cie1964", "v_photopic", "v_scotopi
 
 
 def wavelengths_nm() -> np.ndarray:
-    """The engine's default wavelength grid, 360-830 nm at 1 nm (CIE 15:2004 section 7.1)."""
+    """The engine's default wavelength grid, 360-830 nm at 1 nm ([CIE15] section 7.1)."""
     return np.arange(WAVELENGTH_MIN_NM, WAVELENGTH_MAX_NM + 0.5 * WAVELENGTH_STEP_NM,
                      WAVELENGTH_STEP_NM)
 
@@ -91,7 +91,7 @@ def build_tables() -> dict[str, np.ndarray]:
 
     References
     ----------
-    CIE 15:2004 Colorimetry, 3rd edition, Tables T.2, T.4, T.5; CIE S 010:2004.
+    [CIE15], Tables T.2, T.4, T.5; [CIES010].
     """
     import warnings
 

@@ -1,7 +1,7 @@
 """CIE 1976 L*a*b* (CIELAB) and the CIE 1976 colour difference Delta E*ab.
 
 One owner for CIELAB in Starkiln (the colour grid of the catalogues measures its
-interpolation error with it). The method is CIE 15:2004 section 8.2.1:
+interpolation error with it). The method is [CIE15] section 8.2.1:
 
 - ``L* = 116 f(Y/Yn) - 16``, ``a* = 500 [f(X/Xn) - f(Y/Yn)]``,
   ``b* = 200 [f(Y/Yn) - f(Z/Zn)]``;
@@ -10,7 +10,7 @@ interpolation error with it). The method is CIE 15:2004 section 8.2.1:
   ``841/108 = (24389/27)/116``);
 - ``Delta E*ab`` is the Euclidean distance in L*a*b* (same section).
 
-The CIEDE2000 difference (CIE 142-2001) is not written here: Starkiln's tests take
+The CIEDE2000 difference ([CIE142]) is not written here: Starkiln's tests take
 it from colour-science (``colour.difference.delta_E_CIE2000``), the reference.
 """
 
@@ -18,9 +18,9 @@ from __future__ import annotations
 
 import numpy as np
 
-#: (6/29)^3, below which f(t) is linear (CIE 15:2004 section 8.2.1).
+#: (6/29)^3, below which f(t) is linear ([CIE15] section 8.2.1).
 CIELAB_EPSILON = 216.0 / 24389.0
-#: (29/3)^3, the slope of 116 f(t) - 16 on the linear part (CIE 15:2004 section 8.2.1).
+#: (29/3)^3, the slope of 116 f(t) - 16 on the linear part ([CIE15] section 8.2.1).
 CIELAB_KAPPA = 24389.0 / 27.0
 
 
@@ -41,7 +41,7 @@ def XYZ_to_CIELAB(XYZ, white_XYZ) -> np.ndarray:
 
     References
     ----------
-    CIE 15:2004, *Colorimetry*, 3rd edition, section 8.2.1 (CIE 1976 L*a*b* colour space).
+    [CIE15] section 8.2.1 (CIE 1976 L*a*b* colour space).
 
     Examples
     --------
@@ -69,7 +69,7 @@ def delta_E_CIE1976(Lab_a, Lab_b) -> np.ndarray:
 
     References
     ----------
-    CIE 15:2004, *Colorimetry*, 3rd edition, section 8.2.1 (CIE 1976 colour difference).
+    [CIE15] section 8.2.1 (CIE 1976 colour difference).
 
     Examples
     --------

@@ -9,14 +9,14 @@ name            primaries R, G, B                            white       transfe
 ``display-p3``  (0.680, 0.320) (0.265, 0.690) (0.150, 0.060)  D65         sRGB piecewise    80 cd/m2
 ``dci-p3``      (0.680, 0.320) (0.265, 0.690) (0.150, 0.060)  DCI         gamma 2.6         48 cd/m2
 ``rec2020``     (0.708, 0.292) (0.170, 0.797) (0.131, 0.046)  D65         gamma 2.4         100 cd/m2
-``rec2100-pq``  as rec2020                                    D65         SMPTE ST 2084     1000 cd/m2
+``rec2100-pq``  as rec2020                                    D65         [ST2084]     1000 cd/m2
 ==============  ===========================================  ==========  ================  =========
 
-Sources: IEC 61966-2-1:1999 (sRGB, 80 cd/m2 reference display); SMPTE RP
-431-2:2011 (DCI-P3 primaries and white, 48 cd/m2); SMPTE EG 432-1:2010 (P3
+Sources: [IEC61966-2-1] (sRGB, 80 cd/m2 reference display); [RP431-2]
+(DCI-P3 primaries and white, 48 cd/m2); [EG432-1] (P3
 primaries with a D65 white; its use with the sRGB curve is common practice);
-ITU-R BT.2020-2 (primaries), ITU-R BT.1886 (gamma 2.4 reference EOTF, 100
-cd/m2 is common practice); ITU-R BT.2100-2 and SMPTE ST 2084:2014 (PQ; a
+[BT2020] (primaries), [BT1886] (gamma 2.4 reference EOTF, 100
+cd/m2 is common practice); [BT2100] and [ST2084] (PQ; a
 1000 cd/m2 grading peak is common practice). D65 here is x = 0.3127, y =
 0.3290 (the four-digit value those standards use).
 
@@ -112,12 +112,12 @@ class Display:
 
     @property
     def rgb_to_XYZ(self) -> np.ndarray:
-        """Normalised primary matrix (white -> Y = 1), SMPTE RP 177-1993 section 3.3."""
+        """Normalised primary matrix (white -> Y = 1), [RP177] section 3.3."""
         return _npm(self.red_xy, self.green_xy, self.blue_xy, self.white_xy)
 
     @property
     def XYZ_to_rgb(self) -> np.ndarray:
-        """Inverse of :attr:`rgb_to_XYZ` (SMPTE RP 177-1993)."""
+        """Inverse of :attr:`rgb_to_XYZ` ([RP177])."""
         return np.linalg.inv(self.rgb_to_XYZ)
 
     @property
@@ -235,7 +235,7 @@ def _in_triangle(p: np.ndarray, tri: np.ndarray) -> bool:
 
 
 def _npm(r, g, b, w) -> np.ndarray:
-    """Normalised primary matrix from xy of the primaries and white (SMPTE RP 177-1993 3.3)."""
+    """Normalised primary matrix from xy of the primaries and white ([RP177] 3.3)."""
     p = xy_to_XYZ(np.array([r, g, b])).T
     s = np.linalg.solve(p, xy_to_XYZ(w))
     return p * s
@@ -364,7 +364,7 @@ def save_display_profile(display, path, overwrite: bool = True) -> None:
 
     References
     ----------
-    RFC 8259 (JSON); :mod:`starkiln.engine.atomic` for the write.
+    [RFC8259] (JSON); :mod:`starkiln.engine.atomic` for the write.
     """
     from starkiln.engine.atomic import write_atomic
 
@@ -387,7 +387,7 @@ def get_display(spec) -> Display:
 
 # --- transfer functions --------------------------------------------------------------------
 
-#: SMPTE ST 2084:2014 constants.
+#: [ST2084] constants.
 PQ_M1 = 2610.0 / 16384.0
 PQ_M2 = 2523.0 / 4096.0 * 128.0
 PQ_C1 = 3424.0 / 4096.0
@@ -408,26 +408,26 @@ def _pow(v: np.ndarray, k: float) -> np.ndarray:
 
 
 def srgb_encode(linear) -> np.ndarray:
-    """sRGB inverse EOTF (encoding), IEC 61966-2-1:1999 section 5.2: 12.92 L below 0.0031308."""
+    """sRGB inverse EOTF (encoding), [IEC61966-2-1] section 5.2: 12.92 L below 0.0031308."""
     v = _unit(linear)
     return np.where(v <= 0.0031308, 12.92 * v, 1.055 * _pow(v, 1.0 / 2.4) - 0.055)
 
 
 def srgb_decode(encoded) -> np.ndarray:
-    """sRGB EOTF (decoding), IEC 61966-2-1:1999 section 5.2: V / 12.92 below 0.04045."""
+    """sRGB EOTF (decoding), [IEC61966-2-1] section 5.2: V / 12.92 below 0.04045."""
     v = _unit(encoded)
     return np.where(v <= 0.04045, v / 12.92, _pow((v + 0.055) / 1.055, 2.4))
 
 
 def pq_encode(luminance_cd_m2) -> np.ndarray:
-    """SMPTE ST 2084:2014 inverse EOTF: absolute luminance (0-10000 cd/m2) to signal 0-1."""
+    """[ST2084] inverse EOTF: absolute luminance (0-10000 cd/m2) to signal 0-1."""
     y = _unit(np.asarray(luminance_cd_m2, dtype=np.float64) / 10000.0)
     ym = _pow(y, PQ_M1)
     return _pow((PQ_C1 + PQ_C2 * ym) / (1.0 + PQ_C3 * ym), PQ_M2)
 
 
 def pq_decode(signal) -> np.ndarray:
-    """SMPTE ST 2084:2014 EOTF: signal 0-1 to absolute luminance in cd/m2."""
+    """[ST2084] EOTF: signal 0-1 to absolute luminance in cd/m2."""
     e = _pow(_unit(signal), 1.0 / PQ_M2)
     return 10000.0 * _pow(np.maximum(e - PQ_C1, 0.0) / (PQ_C2 - PQ_C3 * e), 1.0 / PQ_M1)
 
@@ -435,8 +435,8 @@ def pq_decode(signal) -> np.ndarray:
 def encode(rgb_linear, transfer: str, gamma: float = 2.2, peak_cd_m2: float = 100.0) -> np.ndarray:
     """Encode display-linear values (0-1 of peak) with a transfer function.
 
-    ``srgb`` (IEC 61966-2-1), ``gamma`` (V = L^(1/gamma), pure power as in
-    ITU-R BT.1886 with zero black), ``linear``, ``pq`` (SMPTE ST 2084, with
+    ``srgb`` ([IEC61966-2-1]), ``gamma`` (V = L^(1/gamma), pure power as in
+    [BT1886] with zero black), ``linear``, ``pq`` ([ST2084], with
     linear 1.0 at ``peak_cd_m2``).
     """
     v = _unit(rgb_linear)

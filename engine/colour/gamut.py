@@ -11,7 +11,7 @@ Methods:
   bisection, until every channel is inside; the achromatic colour of the same
   lightness is always inside, so the search always ends inside.
 
-Oklab: B. Ottosson (2020), "A perceptual color space for image processing",
+Oklab: [Ottosson2020], "A perceptual color space for image processing",
 https://bottosson.github.io/posts/oklab/ (matrices M1, M2 of that post). The
 display's XYZ is adapted from its own white to D65 (Bradford) first, so the
 display white is Oklab-neutral.
@@ -25,11 +25,11 @@ from starkiln.engine.errors import SettingsError
 
 GAMUT_METHODS = ("clip", "scale", "chroma")
 
-#: Ottosson (2020) Oklab, XYZ (D65) -> LMS.
+#: [Ottosson2020] Oklab, XYZ (D65) -> LMS.
 OKLAB_M1 = np.array([[0.8189330101, 0.3618667424, -0.1288597137],
                      [0.0329845436, 0.9293118715, 0.0361456387],
                      [0.0482003018, 0.2643662691, 0.6338517070]])
-#: Ottosson (2020) Oklab, LMS' -> Lab.
+#: [Ottosson2020] Oklab, LMS' -> Lab.
 OKLAB_M2 = np.array([[0.2104542553, 0.7936177850, -0.0040720468],
                      [1.9779984951, -2.4285922050, 0.4505937099],
                      [0.0259040371, 0.7827717662, -0.8086757660]])
@@ -50,13 +50,33 @@ def check_gamut_method(name: str) -> str:
 
 
 def XYZ_to_Oklab(XYZ) -> np.ndarray:
-    """CIE XYZ (D65, Y = 1 for white) to Oklab (Ottosson 2020)."""
+    """CIE XYZ (D65, Y = 1 for white) to Oklab ([Ottosson2020]).
+
+    Examples
+    --------
+    The table of example values in [Ottosson2020]: the D65 white (0.950, 1.000, 1.089) is
+    L = 1, a = b = 0; XYZ (1, 0, 0) is (0.450, 1.236, -0.019); (0, 1, 0) is (0.922, -0.671,
+    0.263); (0, 0, 1) is (0.153, -1.415, -0.449):
+
+    >>> np.round(XYZ_to_Oklab([0.950, 1.000, 1.089]), 3).tolist()
+    [1.0, -0.0, -0.0]
+    >>> np.round(XYZ_to_Oklab(np.eye(3)), 3).tolist()
+    [[0.45, 1.236, -0.019], [0.922, -0.671, 0.263], [0.153, -1.415, -0.449]]
+    """
     lms = np.asarray(XYZ, dtype=np.float64) @ OKLAB_M1.T
     return np.cbrt(lms) @ OKLAB_M2.T
 
 
 def Oklab_to_XYZ(Lab) -> np.ndarray:
-    """Oklab to CIE XYZ (D65), inverse of :func:`XYZ_to_Oklab` (Ottosson 2020)."""
+    """Oklab to CIE XYZ (D65), inverse of :func:`XYZ_to_Oklab` ([Ottosson2020]).
+
+    Examples
+    --------
+    Back from the [Ottosson2020] example value of XYZ (0, 1, 0):
+
+    >>> np.round(Oklab_to_XYZ([0.922, -0.671, 0.263]), 2).tolist()
+    [0.0, 1.0, 0.0]
+    """
     lms = np.asarray(Lab, dtype=np.float64) @ OKLAB_M2_INV.T
     return (lms * lms * lms) @ OKLAB_M1_INV.T
 
@@ -106,8 +126,8 @@ def map_to_gamut(rgb, method: str, rgb_to_XYZ_D65: np.ndarray, luminance_row: np
 
     References
     ----------
-    Ottosson (2020) for Oklab; Morovic (2008), *Color Gamut Mapping*, Wiley,
-    ch. 10 (clipping toward the lightness axis), for the approach.
+    [Ottosson2020] for Oklab; [Morovic2008]
+    chapter 10 (clipping toward the lightness axis), for the approach.
     """
     method = check_gamut_method(method)
     rgb = np.asarray(rgb, dtype=np.float64)

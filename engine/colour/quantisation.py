@@ -2,8 +2,8 @@
 
 An encoded signal ``v`` in 0-1 (after the display's transfer function) becomes the
 n-bit code value ``floor(clip(v, 0, 1) * (2^n - 1) + 0.5)``: full range, rounded half
-up (common practice; the full-range code values of ITU-R BT.709/BT.2100 and of the
-8-bit sRGB encoding of IEC 61966-2-1). Every integer colour of Starkiln (textures,
+up (common practice; the full-range code values of [BT709]/[BT2100] and of the
+8-bit sRGB encoding of [IEC61966-2-1]). Every integer colour of Starkiln (textures,
 palettes, hex strings, the window's swatches, catalogues) comes from here.
 """
 
@@ -36,8 +36,8 @@ def quantise(rgb_encoded, bits: int) -> np.ndarray:
 
     References
     ----------
-    Full-range quantisation, rounded half up (common practice; IEC 61966-2-1 8-bit
-    encoding; ITU-R BT.2100-2 Table 9 full-range digital values).
+    Full-range quantisation, rounded half up (common practice; [IEC61966-2-1] 8-bit
+    encoding; [BT2100] Table 9 full-range digital values).
 
     Examples
     --------
@@ -75,7 +75,7 @@ def to_hex(rgb_encoded) -> np.ndarray:
 
     References
     ----------
-    CSS Color Module Level 4, section 5.2 (hex colour notation); :func:`to_8bit`.
+    [CSSColor4] section 5.2 (hex colour notation); :func:`to_8bit`.
 
     Examples
     --------

@@ -5,8 +5,8 @@ lookup textures' u axis, the palettes' steps and the catalogue interpolation gri
 
 - ``mired`` (micro reciprocal degree, 10^6 / T): spaces visible colour steps of
   Planckian light far more evenly than kelvin (common practice in lighting and
-  photography; [WyszeckiStiles1982]_ section 3.11; the isotemperature lines of
-  [CIE15]_ section 9.5 crowd together in kelvin towards high temperatures).
+  photography; [WyszeckiStiles1982] section 3.11; the isotemperature lines of
+  [CIE15] section 9.5 crowd together in kelvin towards high temperatures).
   ``u = (10^6/A - 10^6/T) / (10^6/A - 10^6/B)``.
 - ``log``: ``u = ln(T / A) / ln(B / A)``.
 - ``linear``: ``u = (T - A) / (B - A)``.
@@ -26,7 +26,7 @@ def temperature_to_mired(temperature_K) -> np.ndarray:
 
     References
     ----------
-    Wyszecki & Stiles (1982), *Color Science*, section 3.11 (mired scale).
+    [WyszeckiStiles1982] section 3.11 (mired scale).
 
     Examples
     --------
@@ -37,7 +37,7 @@ def temperature_to_mired(temperature_K) -> np.ndarray:
 
 
 def mired_to_temperature(mired) -> np.ndarray:
-    """Temperature in kelvin of a mired value, ``1e6 / mired`` (Wyszecki & Stiles 1982, 3.11).
+    """Temperature in kelvin of a mired value, ``1e6 / mired`` ([WyszeckiStiles1982], 3.11).
 
     Examples
     --------
@@ -74,7 +74,7 @@ def u_from_temperature(temperature_K, range_K, axis: str = "mired") -> np.ndarra
 
     References
     ----------
-    Mired = 10^6 / T (common practice; CIE 15:2004 section 9.5 discusses the
+    Mired = 10^6 / T (common practice; [CIE15] section 9.5 discusses the
     reciprocal temperature scale).
 
     Examples

@@ -9,12 +9,12 @@ Scene white specifications (strings, case-insensitive):
 
 - ``D50``, ``D55``, ``D65``, ``D75``: CIE daylight illuminants, computed from
   the daylight basis functions at the nominal CCT times 1.4388/1.4380, which
-  is how CIE defines them (CIE 15:2004 section 3.1 and note 2 of Table T.1).
-- ``E``: the equal-energy stimulus (CIE 15:2004 section 3.1), x = y = 1/3.
+  is how CIE defines them ([CIE15] section 3.1 and note 2 of Table T.1).
+- ``E``: the equal-energy stimulus ([CIE15] section 3.1), x = y = 1/3.
 - ``DCI``: the digital-cinema projector white x = 0.314, y = 0.351
-  (SMPTE RP 431-2:2011).
+  ([RP431-2]).
 - ``daylight:<CCT>``: a point of the CIE daylight locus, 4000-25 000 K
-  (CIE 15:2004 eq. 3.3-3.5).
+  ([CIE15] eq. 3.3-3.5).
 - ``blackbody:<K>``: a Planckian radiator at that temperature (500-100 000 K).
 - ``xy:<x>,<y>``: a chromaticity, which must lie inside the spectral locus.
 
@@ -25,12 +25,13 @@ them. ``DCI`` and ``xy:`` are chromaticities in the chosen observer's diagram.
 
 Adaptation transforms (the 3 x 3 "sharpened" cone matrices):
 
-- ``bradford`` (default): K. M. Lam (1985), as given by Lindbloom and in
-  CIE 159:2004 Annex; the linear form without the blue non-linearity.
-- ``cat02``: CIE 159:2004 (CIECAM02), M_CAT02.
-- ``cat16``: C. Li et al. (2017), Color Res. Appl. 42(6), 703-718, M_16.
+- ``bradford`` (default): [Lam1985], as given by [Lindbloom] and in
+  [CIE159] Annex; the linear form without the blue non-linearity.
+- ``cat02``: [CIE159] (CIECAM02), M_CAT02.
+- ``cat16``: [Li2017], M_16.
 - ``von-kries``: Hunt-Pointer-Estevez cone space normalised to D65
-  (Fairchild, Color Appearance Models, 3rd ed., 2013, eq. 9.x).
+  ([Fairchild2013] chapter 9, "Chromatic Adaptation Models", the von Kries model;
+  chapter from memory, equation number not checked).
 - ``none``: no adaptation (XYZ scaling is not applied either).
 """
 
@@ -62,11 +63,11 @@ CAT_MATRICES = {
 }
 ADAPTATIONS = ("bradford", "cat16", "cat02", "von-kries", "none")
 
-#: Nominal CCTs of the CIE D illuminants (CIE 15:2004 Table T.1).
+#: Nominal CCTs of the CIE D illuminants ([CIE15] Table T.1).
 _D_NOMINAL_K = {"D50": 5000.0, "D55": 5500.0, "D65": 6500.0, "D75": 7500.0}
-#: c2 correction of the D-illuminant CCTs: 1.4388 / 1.4380 (CIE 15:2004 Table T.1, note).
+#: c2 correction of the D-illuminant CCTs: 1.4388 / 1.4380 ([CIE15] Table T.1, note).
 _C2_RATIO = 1.4388 / 1.4380
-#: DCI projector white (SMPTE RP 431-2:2011, section 7.8).
+#: DCI projector white ([RP431-2], section 7.8).
 DCI_WHITE_XY = (0.314, 0.351)
 WHITE_PRESETS = ("D50", "D55", "D65", "D75", "E", "DCI")
 DAYLIGHT_RANGE_K = (4000.0, 25000.0)
@@ -93,12 +94,12 @@ def daylight_xy(cct_K) -> np.ndarray:
     Returns
     -------
     numpy.ndarray
-        (..., 2) x_D, y_D from CIE 15:2004 equations 3.3 (4000-7000 K),
+        (..., 2) x_D, y_D from [CIE15] equations 3.3 (4000-7000 K),
         3.4 (7000-25 000 K) and 3.5 (y_D = -3 x_D^2 + 2.87 x_D - 0.275).
 
     References
     ----------
-    CIE 15:2004 Colorimetry, section 3.1.
+    [CIE15] section 3.1.
 
     Examples
     --------
@@ -114,9 +115,18 @@ def daylight_xy(cct_K) -> np.ndarray:
 
 
 def daylight_spectrum(cct_K: float) -> np.ndarray:
-    """Relative spectral power of CIE daylight on the engine grid (CIE 15:2004 eq. 3.6-3.7).
+    """Relative spectral power of CIE daylight on the engine grid ([CIE15] eq. 3.6-3.7).
 
-    M1 and M2 are rounded to three decimals, as CIE 15:2004 section 3.1 directs.
+    M1 and M2 are rounded to three decimals, as [CIE15] section 3.1 directs.
+
+    Examples
+    --------
+    Integrated with the CIE 1931 observer, the 6504 K daylight spectrum is D65, which
+    [CIE15] Table T.3 places at x = 0.31272, y = 0.32903:
+
+    >>> from starkiln.engine.colour.observers import XYZ_to_xy, cmfs
+    >>> np.round(XYZ_to_xy(daylight_spectrum(6504.0) @ cmfs("cie1931")), 4).tolist()
+    [0.3127, 0.329]
     """
     x, y = daylight_xy(cct_K)
     m = 0.0241 + 0.2562 * x - 0.7341 * y
@@ -135,7 +145,7 @@ class White:
 
     @property
     def XYZ(self) -> np.ndarray:
-        """Tristimulus values with Y = 1 (CIE 15:2004 eq. 7.3)."""
+        """Tristimulus values with Y = 1 ([CIE15] eq. 7.3)."""
         return xy_to_XYZ(np.array(self.xy))
 
 
@@ -177,7 +187,22 @@ def resolve_white(spec: str, observer: str = "cie1931") -> White:
 
     References
     ----------
-    CIE 15:2004 sections 3.1 and 7.3; SMPTE RP 431-2:2011 (DCI white).
+    [CIE15] sections 3.1 and 7.3; [RP431-2] (DCI white).
+
+    Examples
+    --------
+    D65 and D50 as [CIE15] Table T.3 gives them for the 2 degree observer (0.31272, 0.32903;
+    0.34567, 0.35851; X, Y, Z = 95.04, 100, 108.88 for D65), the DCI white of [RP431-2]
+    (0.314, 0.351) and the equal-energy E:
+
+    >>> [round(v, 4) for v in resolve_white("D65").xy]
+    [0.3127, 0.329]
+    >>> [round(v, 4) for v in resolve_white("D50").xy]
+    [0.3457, 0.3585]
+    >>> resolve_white("DCI").xy, resolve_white("E").xy == (1 / 3, 1 / 3)
+    ((0.314, 0.351), True)
+    >>> bool(np.allclose(resolve_white("D65").XYZ, [0.9504, 1.0, 1.0888], atol=1e-4))
+    True
     """
     from starkiln.engine.colour.spectrum import planck_radiance  # local: spectrum imports nothing of ours
 
@@ -235,7 +260,7 @@ def adaptation_matrix(source_XYZ, target_XYZ, method: str = "bradford") -> np.nd
     """3 x 3 matrix adapting tristimulus values from one white to another.
 
     ``M = A^-1 diag(A target / A source) A`` with ``A`` the method's cone
-    matrix (von Kries 1902 scaling in a sharpened space). ``none`` returns
+    matrix ([vonKries1902] scaling in a sharpened space). ``none`` returns
     the identity.
 
     Parameters
@@ -252,7 +277,23 @@ def adaptation_matrix(source_XYZ, target_XYZ, method: str = "bradford") -> np.nd
 
     References
     ----------
-    Lam (1985); CIE 159:2004; Li et al. (2017); Fairchild (2013) ch. 9.
+    [vonKries1902]; [Lam1985]; [CIE159]; [Li2017]; [Fairchild2013] chapter 9 (from
+    memory).
+
+    Examples
+    --------
+    Bradford from D65 (0.95047, 1, 1.08883) to D50 (0.96422, 1, 0.82521), the matrix
+    [Lindbloom] tabulates (1.0478112 0.0228866 -0.0501270 / 0.0295424 0.9904844 -0.0170491 /
+    -0.0092345 0.0150436 0.7521316), and the source white lands on the target white:
+
+    >>> d65, d50 = [0.95047, 1.0, 1.08883], [0.96422, 1.0, 0.82521]
+    >>> M = adaptation_matrix(d65, d50, "bradford")
+    >>> np.round(M, 4).tolist()
+    [[1.0478, 0.0229, -0.0501], [0.0295, 0.9905, -0.017], [-0.0092, 0.015, 0.7521]]
+    >>> bool(np.allclose(M @ d65, d50))
+    True
+    >>> adaptation_matrix(d65, d50, "none").tolist()
+    [[1.0, 0.0, 0.0], [0.0, 1.0, 0.0], [0.0, 0.0, 1.0]]
     """
     method = check_adaptation(method)
     if method == "none":

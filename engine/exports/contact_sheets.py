@@ -11,7 +11,7 @@ appears, so a 4096-swatch sheet is drawn in well under a second.
 
 References
 ----------
-Pillow ``ImageDraw.text`` / ``ImageFont.load_default`` (bundled font).
+[Pillow] ``ImageDraw.text`` / ``ImageFont.load_default`` (bundled font).
 """
 
 from __future__ import annotations

@@ -13,8 +13,8 @@ timestamps, so equal inputs give byte-identical files.
 
 References
 ----------
-ISO/IEC 15948:2004 (PNG), section 11.3.4.3 (``tEXt``: Latin-1 keyword of 1-79
-characters, a null separator, Latin-1 text); OpenEXR technical introduction
+[PNG], section 11.3.4.3 (``tEXt``: Latin-1 keyword of 1-79
+characters, a null separator, Latin-1 text); [OpenEXR] technical introduction
 (header attributes, ``chromaticities``).
 """
 
@@ -56,7 +56,7 @@ def write_png(path, array: np.ndarray, text: dict[str, str] | None = None,
 
     References
     ----------
-    ISO/IEC 15948:2004 sections 11.2.2 (IHDR, bit depths 8 and 16 for colour
+    [PNG] sections 11.2.2 (IHDR, bit depths 8 and 16 for colour
     types 2 and 6) and 11.3.4.3 (tEXt).
     """
     a = _check_image(array)
@@ -87,8 +87,8 @@ def write_png_strips(path, strips, width: int, height: int, text: dict[str, str]
 
     References
     ----------
-    ISO/IEC 15948:2004 sections 5.3 (chunk layout, CRC), 9.2 (filter type 0), 10 (zlib
-    stream split over consecutive IDAT chunks), 11.2.2 (IHDR), 11.3.4.3 (tEXt); RFC 1950.
+    [PNG] sections 5.3 (chunk layout, CRC), 9.2 (filter type 0), 10 (zlib
+    stream split over consecutive IDAT chunks), 11.2.2 (IHDR), 11.3.4.3 (tEXt); [RFC1950].
     """
     import struct
     import zlib
@@ -161,7 +161,7 @@ def write_exr(path, array: np.ndarray, attributes: dict[str, str] | None = None,
 
     References
     ----------
-    OpenEXR technical introduction ("chromaticities" attribute; data window, y
+    [OpenEXR] technical introduction ("chromaticities" attribute; data window, y
     down); OpenEXR Python bindings 3.x (``OpenEXR.File(header, channels)``).
     """
     import OpenEXR
@@ -187,7 +187,7 @@ def read_embedded_text(path, key: str = "starkiln") -> str:
 
     References
     ----------
-    ISO/IEC 15948:2004 section 11.3.4; OpenEXR header attributes.
+    [PNG] section 11.3.4; [OpenEXR] header attributes.
     """
     path = Path(path)
     try:
@@ -234,7 +234,7 @@ def _png_text(path, key: str):
 
 
 def _scan_png_text(reader, want: bytes):
-    """The text of the first text chunk whose keyword is ``want`` (ISO/IEC 15948 11.3.4)."""
+    """The text of the first text chunk whose keyword is ``want`` ([PNG] section 11.3.4)."""
     import zlib
 
     while True:

@@ -13,10 +13,10 @@ Formats (by extension)
 - ``.json``: ``{"starkiln_palette": 1, "settings": {...}, "palette": {...},
   "swatches": [{"name", "temperature_K", "hex", "rgb_encoded", "rgb_linear",
   "rgb_8bit", "xy", "in_gamut", ["spectral_class"]}, ...]}``.
-- ``.csv``: a header row, then one row a swatch (RFC 4180: comma-separated,
+- ``.csv``: a header row, then one row a swatch ([RFC4180]: comma-separated,
   CRLF line ends, fields quoted when needed).
 - ``.gpl``: the GIMP palette text format, as GIMP itself reads and writes it
-  (GIMP source, ``app/core/gimppalette-load.c``, ``gimp_palette_load_gpl``,
+  ([GIMP-GPL]: ``app/core/gimppalette-load.c``, ``gimp_palette_load_gpl``,
   and ``gimppalette-save.c``): first line ``GIMP Palette``, then ``Name: ``,
   then ``Columns: `` (0-256), ``#`` comment lines, then one row a colour
   ``R G B<tab>name`` with integers 0-255; LF line ends, no blank lines.
@@ -104,7 +104,7 @@ class Palette:
 
         References
         ----------
-        :func:`starkiln.engine.colour.quantisation.to_hex` (CSS Color 4 hex notation).
+        :func:`starkiln.engine.colour.quantisation.to_hex` ([CSSColor4] hex notation).
         """
         return tuple(self.rendered.hex().tolist())
 
@@ -168,8 +168,8 @@ def class_temperatures(classes=None):
 
     References
     ----------
-    :func:`starkiln.engine.stars.temperature.temperature_from_spectral_class` (Pecaut & Mamajek
-    2013, Table 5, values from memory).
+    :func:`starkiln.engine.stars.temperature.temperature_from_spectral_class` ([Mamajek2024],
+    mean dwarf sequence version 2024.05.15).
     """
     from starkiln.engine.stars.temperature import SPECTRAL_CLASS_TEFF_K, temperature_from_spectral_class
 
@@ -221,8 +221,8 @@ def build_palette(settings, *, range_K=None, steps: int = 16, axis: str = "mired
         names, temps = class_temperatures(classes)
         spectral = names
         description = {"kind": "spectral-classes", "classes": list(names),
-                       "source": "main-sequence dwarf temperatures, Pecaut & Mamajek (2013) "
-                                 "Table 5 (from memory)"}
+                       "source": "main-sequence dwarf temperatures, E. Mamajek, "
+                                 "mean dwarf sequence v2024.05.15"}
     else:
         rng = check_temperature_range(range_K if range_K is not None
                                       else DEFAULT_TEMPERATURE_RANGE_K)
@@ -289,7 +289,7 @@ def palette_json(palette: Palette, name: str | None = None) -> bytes:
 
 
 def palette_csv(palette: Palette) -> bytes:
-    """CSV text: header row :data:`CSV_COLUMNS`, one row a swatch (RFC 4180)."""
+    """CSV text: header row :data:`CSV_COLUMNS`, one row a swatch ([RFC4180])."""
     r = palette.rendered
     q = palette.rgb_8bit
     buf = io.StringIO(newline="")
@@ -316,7 +316,7 @@ def palette_gpl(palette: Palette, name: str | None = None, columns: int | None =
 
     References
     ----------
-    GIMP source, ``app/core/gimppalette-load.c`` (``gimp_palette_load_gpl``:
+    [GIMP-GPL] ``app/core/gimppalette-load.c`` (``gimp_palette_load_gpl``:
     magic line, ``Name: ``, ``Columns: `` 0-256, ``#`` comments, rows of
     three integers 0-255 split on spaces/tabs with an optional name up to the
     end of the line) and ``app/core/gimppalette-save.c`` (``"%3d %3d %3d\\t%s"``).

@@ -8,8 +8,8 @@ rebuild a texture from the file alone.
 
 References
 ----------
-ISO/IEC 15948:2004 section 11.3.4.3 (PNG ``tEXt``); OpenEXR technical introduction
-(header attributes, ``chromaticities``); RFC 8259 (JSON).
+[PNG] section 11.3.4.3 (PNG ``tEXt``); [OpenEXR] technical introduction
+(header attributes, ``chromaticities``); [RFC8259] (JSON).
 """
 
 from __future__ import annotations
@@ -41,7 +41,7 @@ def lut_metadata(settings, spec: TextureSpec) -> dict:
 
     References
     ----------
-    Module docstring; README "Lookup textures".
+    Module docstring; docs/formats.md, "Lookup textures (PNG and EXR)".
     """
     from starkiln import __version__
 
@@ -111,7 +111,7 @@ def metadata_json(metadata: dict) -> str:
 def chromaticities(metadata: dict):
     """The display's red, green, blue and white xy (8 floats) from texture metadata, or None.
 
-    For the standard OpenEXR ``chromaticities`` attribute (OpenEXR technical introduction).
+    For the standard OpenEXR ``chromaticities`` attribute ([OpenEXR] technical introduction).
     """
     d = metadata.get("settings", {}).get("display")
     if not isinstance(d, dict):

@@ -41,8 +41,8 @@ def texel_centres(n: int) -> np.ndarray:
 
     References
     ----------
-    Texel-centre convention of GPU texture sampling (common practice; OpenGL
-    4.6 specification, section 8.14.2).
+    Texel-centre convention of GPU texture sampling (common practice; [OpenGL46]
+    section 8.14.2).
 
     Examples
     --------
@@ -60,7 +60,7 @@ def v_from_magnitude(magnitude, range_mag) -> np.ndarray:
 
     References
     ----------
-    Magnitudes are already logarithmic in flux (Pogson 1856), so the axis is
+    Magnitudes are already logarithmic in flux ([Pogson1856]), so the axis is
     linear in magnitude (common practice).
 
     Examples

@@ -4,7 +4,7 @@ A lookup texture (LUT) is what a shader samples to colour a star: the texel
 at ``(u, v)`` holds the display colour of temperature ``T(u)`` at magnitude
 ``m(v)``, exactly as :func:`starkiln.engine.pipeline.render.render` gives it.
 
-Axes and sampling convention (fixed; README "Lookup textures")
+Axes and sampling convention (fixed; docs/formats.md, "Lookup textures (PNG and EXR)")
 ---------------------------------------------------------------
 The temperature axis runs over ``[A, B]`` kelvin along x, through one of three
 mappings (``u`` in 0-1 from the left edge of the image to the right edge):
@@ -12,7 +12,7 @@ mappings (``u`` in 0-1 from the left edge of the image to the right edge):
 - ``mired`` (default): ``u = (10^6/A - 10^6/T) / (10^6/A - 10^6/B)``. The
   mired (micro reciprocal degree, 10^6 / T) spaces visible colour steps of
   Planckian light far more evenly than kelvin (common practice in lighting
-  and photography; the isotemperature lines of CIE 15:2004 section 9.5 crowd
+  and photography; the isotemperature lines of [CIE15] section 9.5 crowd
   together in kelvin towards high temperatures).
 - ``log``: ``u = ln(T / A) / ln(B / A)``.
 - ``linear``: ``u = (T - A) / (B - A)``.
@@ -25,7 +25,7 @@ Texel centres: column ``i`` (0-based, left to right) samples the axis at
 ``u = (i + 0.5) / W``; row ``j`` (0-based, top to bottom) samples
 ``v = (j + 0.5) / H``. Bilinear filtering between texel centres then
 interpolates the axis mapping (common practice for lookup tables; see e.g.
-the OpenGL 4.6 specification, section 8.14.2, for where texel centres lie).
+[OpenGL46] section 8.14.2, for where texel centres lie).
 
 Without magnitudes the texture is a strip: every row holds the full-intensity
 colours of the temperature axis.
@@ -40,7 +40,7 @@ intensity: display-encoded files hold ``rgb_dimmed_encoded`` =
 
 Sample encodings: PNG holds display-encoded values (after the display's
 transfer function) quantised to 8 or 16 bits by ``floor(v * (2^n - 1) + 0.5)``
-(common practice); EXR holds display-linear 32-bit floats (OpenEXR).
+(common practice); EXR holds display-linear 32-bit floats ([OpenEXR]).
 """
 
 from __future__ import annotations
@@ -96,7 +96,7 @@ def texture_samples(values: np.ndarray, spec: TextureSpec) -> np.ndarray:
     """Float texture values -> the stored sample type of ``spec`` (uint8, uint16, float32).
 
     Integer samples are the code values of :func:`starkiln.engine.colour.quantisation.quantise`
-    (``floor(v * (2^n - 1) + 0.5)``, common practice); EXR keeps 32-bit floats (OpenEXR).
+    (``floor(v * (2^n - 1) + 0.5)``, common practice); EXR keeps 32-bit floats ([OpenEXR]).
     """
     if spec.depth == 32:
         return np.asarray(values, dtype=np.float32)
@@ -159,7 +159,7 @@ def write_lut(path, array: np.ndarray, metadata: dict, spec: TextureSpec,
 
     References
     ----------
-    PNG (ISO/IEC 15948:2004, section 11.3.4.3 tEXt); OpenEXR file layout
+    [PNG] section 11.3.4.3 (tEXt); [OpenEXR] file layout
     (attributes, "chromaticities").
     """
     from starkiln.engine.atomic import atomic_path

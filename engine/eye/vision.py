@@ -9,7 +9,7 @@ The model, in order (all vectorised):
    The aperture gain is therefore ``5 log10(D / d)`` magnitudes.
    ``E0 = 2.54e-6 lx`` is the illuminance of a zero-magnitude star outside the
    atmosphere as P. Schlyter's "Radiometry and photometry in astronomy" tables
-   it (and, from memory, Allen's Astrophysical Quantities, 4th ed., 2000).
+   it [Schlyter].
    Published values differ by tens of percent: 2.1e-6 lx where 1 lx is taken
    as m = -14.18, 2.6e-6 lx elsewhere; that shifts every magnitude threshold
    below by up to ~0.2 mag.
@@ -17,13 +17,13 @@ The model, in order (all vectorised):
    ``E_v`` is the photopic illuminance; the scotopic illuminance is
    ``E_s = E_v * S/P`` with the star's scotopic-to-photopic ratio
    ``S/P = K'_m int L V' dl / (K_m int L V dl)`` from its Planck spectrum
-   (K_m = 683 lm/W, K'_m = 1700 lm/W; CIE S 010:2004). A point source becomes
+   (K_m = 683 lm/W, K'_m = 1700 lm/W; [CIES010]). A point source becomes
    a luminance by spreading it over an effective image, the *blur spot*, a
    disc of diameter ``blur_spot_arcmin`` (default 6 arcmin): ``L = E / Omega``.
    The blur spot stands for the dark-adapted eye's optical spread and
    neural pooling; its default is an appearance choice made so that the
    behaviour listed below holds (it is not a measured optical quantity).
-3. **Mesopic weighting**: the CIE 191:2010 recommended system (MES2): the
+3. **Mesopic weighting**: the [CIE191] recommended system (MES2): the
    adaptation coefficient ``m = a + b log10(L_mes)`` (a = 0.7670,
    b = 0.3334, clamped to 0..1) and the mesopic luminance
    ``L_mes = (m L_p + (1 - m) L_s V'(lambda_0)) / (m + (1 - m) V'(lambda_0))``
@@ -52,8 +52,8 @@ The model, in order (all vectorised):
    last term and the desaturation (the camera look).
 6. **Intensity** 0-1 from ``m_eff`` by a tone curve between
    ``magnitude_bright`` (intensity 1) and ``magnitude_faint`` (intensity 0):
-   ``linear`` in flux, ``log`` (linear in magnitude) or ``asinh`` (Lupton,
-   Gunn & Szalay 1999, AJ 118, 1406, softened at the faint flux).
+   ``linear`` in flux, ``log`` (linear in magnitude) or ``asinh`` ([Lupton1999],
+   softened at the faint flux).
 7. **Dome compensation** (optional): the audience sees the display itself in
    the dark, at ``intensity * peak_luminance_cd_m2`` of the display, where
    their own cone weight ``m_dome`` is low; to make the *perceived* colour on
@@ -70,16 +70,14 @@ colour; colour fades monotonically with faintness; a magnitude-5 star through
 a 250 mm aperture shows clear colour again.
 
 Caution: this is an *appearance* model for rendering. It is not a basis for
-lighting-design or road-lighting compliance; for those follow CIE 191:2010 as
+lighting-design or road-lighting compliance; for those follow [CIE191] as
 adopted by local codes and licensed practice. For a dark-adapted dome
 audience avoid sudden bright flashes (changes of several magnitudes at once).
 
 References
 ----------
-CIE 191:2010, Recommended System for Mesopic Photometry Based on Visual
-Performance. CIE S 010:2004 / ISO 23539:2005. Allen's Astrophysical
-Quantities, 4th ed. (2000). Lupton, Gunn & Szalay (1999), AJ 118, 1406.
-Ottosson (2020), Oklab.
+[CIE191]; [CIES010]; [Schlyter] (E0); [Pogson1856]; [Lupton1999];
+[Ottosson2020] (Oklab).
 """
 
 from __future__ import annotations
@@ -88,15 +86,15 @@ import numpy as np
 
 from starkiln.engine.errors import InputRangeError
 
-#: Illuminance of a zero-magnitude (V) star outside the atmosphere, lux (Schlyter's tables;
-#: Allen 2000 from memory; other published values 2.1e-6 to 2.6e-6, see the module docstring).
+#: Illuminance of a zero-magnitude (V) star outside the atmosphere, lux ([Schlyter];
+#: other published values 2.1e-6 to 2.6e-6, see the module docstring).
 E0_LUX = 2.54e-6
-#: CIE 191:2010 MES2 constants.
+#: [CIE191] MES2 constants.
 MES2_A = 0.7670
 MES2_B = 0.3334
 MESOPIC_LOW_CD_M2 = 0.005
 MESOPIC_HIGH_CD_M2 = 5.0
-#: V'(lambda_0) at 555 nm, the ratio of the photopic to the scotopic efficacy: 683 / 1699 (CIE 191:2010).
+#: V'(lambda_0) at 555 nm, the ratio of the photopic to the scotopic efficacy: 683 / 1699 ([CIE191]).
 V_PRIME_555 = 683.0 / 1699.0
 MAGNITUDE_RANGE = (-30.0, 30.0)
 VISIONS = ("mesopic", "none")
@@ -139,13 +137,13 @@ def blur_spot_solid_angle_sr(blur_spot_arcmin: float) -> float:
 def photopic_illuminance_lux(magnitude, gain=1.0) -> np.ndarray:
     """Photopic illuminance at the eye of a star of visual magnitude ``m``: ``E0 10^(-0.4 m) gain``.
 
-    References: Allen's Astrophysical Quantities (2000) for E0 (from memory; see module docstring).
+    References: [Schlyter] for E0 (see the module docstring); [Pogson1856].
     """
     return E0_LUX * np.exp(-0.4 * np.log(10.0) * np.asarray(magnitude, dtype=np.float64)) * gain
 
 
 def mesopic_cie191(photopic_cd_m2, scotopic_cd_m2, iterations: int = 400):
-    """Adaptation coefficient m and mesopic luminance by the CIE 191:2010 MES2 iteration.
+    """Adaptation coefficient m and mesopic luminance by the [CIE191] MES2 iteration.
 
     Parameters
     ----------
@@ -161,7 +159,7 @@ def mesopic_cie191(photopic_cd_m2, scotopic_cd_m2, iterations: int = 400):
 
     References
     ----------
-    CIE 191:2010, section 4 (MES2): m_0 = 0.5; L_mes,n = (m_{n-1} L_p + (1 - m_{n-1})
+    [CIE191], section 4 (MES2): m_0 = 0.5; L_mes,n = (m_{n-1} L_p + (1 - m_{n-1})
     L_s V'(lambda_0)) / (m_{n-1} + (1 - m_{n-1}) V'(lambda_0)); m_n = a + b log10(L_mes,n),
     0 <= m <= 1; hence L_mes = L_p at and above 5 cd/m2 and L_mes = L_s at and below
     0.005 cd/m2.
@@ -208,7 +206,7 @@ def saturation_from_cone_weight(cone_weight) -> np.ndarray:
     """Chroma factor of the perceived colour from the cone weight: ``s = m^2`` (module docstring, step 4).
 
     References: an appearance choice documented in the module docstring (step 4), built on the
-    CIE 191:2010 adaptation coefficient.
+    [CIE191] adaptation coefficient.
     """
     m = np.clip(np.asarray(cone_weight, dtype=np.float64), 0.0, 1.0)
     return m**SATURATION_EXPONENT
@@ -234,7 +232,7 @@ def intensity_from_magnitude(magnitude, bright: float, faint: float, curve: str 
 
     References
     ----------
-    Pogson (1856) magnitude scale; Lupton, Gunn & Szalay (1999), AJ 118, 1406 (asinh).
+    [Pogson1856] magnitude scale; [Lupton1999] (asinh).
     """
     m = np.asarray(magnitude, dtype=np.float64)
     if curve == "log":

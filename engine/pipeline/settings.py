@@ -77,7 +77,7 @@ class Settings:
 
     Attributes
     ----------
-    observer : ``cie1931`` (default) or ``cie1964`` (CIE 15:2004).
+    observer : ``cie1931`` (default) or ``cie1964`` ([CIE15]).
     scene_white : what should look neutral; see :mod:`starkiln.engine.colour.whites`.
     adaptation : ``bradford`` (default), ``cat16``, ``cat02``, ``von-kries``, ``none``.
     display : a :class:`starkiln.engine.colour.displays.Display` (preset or custom profile).
@@ -88,7 +88,7 @@ class Settings:
 
     Night vision (used only when magnitudes are rendered; see :mod:`starkiln.engine.eye.vision`):
 
-    vision : ``mesopic`` (default, CIE 191:2010 cone weight and desaturation) or
+    vision : ``mesopic`` (default, [CIE191] cone weight and desaturation) or
         ``none`` (the camera look: full colour).
     pupil_mm : dark-adapted pupil diameter, 7 mm (common practice), 1-9.
     aperture_mm : instrument aperture in mm, 1-100000, or None for the naked eye.

@@ -6,12 +6,12 @@ through the same chain as :func:`starkiln.engine.pipeline.render.render`:
 
 - :class:`MiredScale`: slider positions evenly spaced in mired (reciprocal
   megakelvin, ``1e6 / T``; common practice: equal mired steps look roughly
-  equally large across the range, Wyszecki & Stiles 1982 section 3.11).
+  equally large across the range, [WyszeckiStiles1982] section 3.11).
 - :func:`spectral_band_colours`: display colours of monochromatic stimuli
   (the visible band of the spectrum plot), through the display chain and the
   settings' gamut mapping.
 - :func:`planckian_locus_xy`, :func:`chromaticity_diagram`: the lines and
-  points of the chromaticity diagram (CIE 15:2004 section 7.3).
+  points of the chromaticity diagram ([CIE15] section 7.3).
 - :func:`planck_curve`, :func:`efficiency_overlays`: the spectrum plot.
 - :func:`magnitude_ladder`: the magnitudes of the brightness strip.
 
@@ -19,9 +19,8 @@ The sky preview (demo cluster and its picture) is :mod:`starkiln.engine.plotdata
 
 References
 ----------
-CIE 15:2004 Colorimetry, 3rd ed. (locus, Planckian radiators, summation);
-Planck (1901); G. Wyszecki & W. S. Stiles (1982), *Color Science*, 2nd ed.,
-Wiley, section 3.11 (mired).
+[CIE15] (locus, Planckian radiators, summation);
+[Planck1901]; [WyszeckiStiles1982], section 3.11 (mired).
 """
 
 from __future__ import annotations
@@ -43,7 +42,7 @@ from starkiln.engine.colour.spectrum import peak_wavelength_nm, planck_radiance
 from starkiln.engine.colour.cie_data import wavelengths_nm
 from starkiln.engine.colour.whites import resolve_white
 
-#: The visible band marked on the spectrum plot, nm (CIE 15:2004 tabulates 380-780 nm as the
+#: The visible band marked on the spectrum plot, nm ([CIE15] tabulates 380-780 nm as the
 #: range of the visible spectrum that matters for colorimetry; common practice).
 VISIBLE_BAND_NM = (380.0, 780.0)
 #: Default range of the temperature slider and strips, K: brown-dwarf-cool to O-star-hot
@@ -77,7 +76,7 @@ class MiredScale:
 
     References
     ----------
-    Wyszecki & Stiles (1982), section 3.11: equal mired differences are roughly
+    [WyszeckiStiles1982], section 3.11: equal mired differences are roughly
     equally perceptible along the Planckian locus (common practice).
 
     Examples
@@ -150,7 +149,7 @@ def spectral_band_colours(settings: Settings, wavelength_nm=None) -> BandColours
     """Display colours of monochromatic light, gamut-mapped by the settings' method.
 
     The tristimulus values of a monochromatic stimulus are the observer's
-    colour-matching functions at its wavelength (CIE 15:2004 section 7.1);
+    colour-matching functions at its wavelength ([CIE15] section 7.1);
     they go through the render path's display chain (adaptation from the
     scene white, display matrix, gamut mapping) and the display's transfer
     function. The band is shown at full brightness: max-channel normalisation
@@ -177,7 +176,7 @@ def spectral_band_colours(settings: Settings, wavelength_nm=None) -> BandColours
 
     References
     ----------
-    CIE 15:2004 sections 7.1 and 7.3; SMPTE RP 177-1993; the gamut methods of
+    [CIE15] sections 7.1 and 7.3; [RP177]; the gamut methods of
     :mod:`starkiln.engine.colour.gamut`.
     """
     wl = (np.arange(VISIBLE_BAND_NM[0], VISIBLE_BAND_NM[1] + 0.5)
@@ -218,7 +217,7 @@ def planckian_locus_xy(observer: str, temperature_K) -> np.ndarray:
 
     References
     ----------
-    CIE 15:2004 sections 3.1 and 7.3; Planck (1901).
+    [CIE15] sections 3.1 and 7.3; [Planck1901].
 
     Examples
     --------
@@ -283,7 +282,7 @@ def chromaticity_diagram(settings: Settings, temperature_min_K: float = 1000.0,
 
     References
     ----------
-    CIE 15:2004 section 7.3 (spectral locus, purple boundary, Planckian locus).
+    [CIE15] section 7.3 (spectral locus, purple boundary, Planckian locus).
     """
     obs = settings.observer
     locus = spectral_locus_xy(obs)
@@ -330,7 +329,7 @@ def spectrum_plot_wavelengths_nm(step_outside_nm: float = 5.0,
 
     References
     ----------
-    CIE 15:2004 (380-780 nm, the range that matters for colorimetry).
+    [CIE15] (380-780 nm, the range that matters for colorimetry).
     """
     lo, hi = SPECTRUM_PLOT_RANGE_NM
     a, b = VISIBLE_BAND_NM
@@ -357,7 +356,7 @@ def planck_curve(temperature_K: float, wavelength_nm) -> PlanckCurve:
 
     References
     ----------
-    Planck (1901); CODATA 2018 (Wien's constant), via :mod:`starkiln.engine.colour.spectrum`.
+    [Planck1901]; [CODATA2018] (Wien's constant), via :mod:`starkiln.engine.colour.spectrum`.
     """
     t = float(check_temperature(temperature_K))
     wl = np.asarray(wavelength_nm, dtype=np.float64)
@@ -381,7 +380,7 @@ def efficiency_overlays(observer: str = "cie1931") -> dict[str, tuple[np.ndarray
 
     References
     ----------
-    CIE S 010:2004 / ISO 23539:2005 (V, V'); CIE 15:2004 Tables T.4, T.5 (CMFs).
+    [CIES010] (V, V'); [CIE15] Tables T.4, T.5 (CMFs).
     """
     wl = wavelengths_nm()
     table = cmfs(observer)
@@ -399,7 +398,7 @@ def magnitude_ladder(settings: Settings, step: float = 1.0) -> np.ndarray:
 
     References
     ----------
-    Pogson (1856) magnitude scale; :mod:`starkiln.engine.eye.vision` (tone curve ends).
+    [Pogson1856] magnitude scale; :mod:`starkiln.engine.eye.vision` (tone curve ends).
     """
     bright = float(settings.magnitude_bright)
     faint = float(settings.magnitude_faint)

@@ -11,7 +11,7 @@ Pure numpy, so it is tested without a display.
 
 References
 ----------
-RFC 4180 (CSV); J. P. Snyder (1987), *Map Projections: A Working Manual*, USGS
+[RFC4180]; [Snyder1987], *Map Projections: A Working Manual*, USGS
 Professional Paper 1395, p. 164 (gnomonic projection); common practice for
 drawing a point source as a small Gaussian spot.
 """
@@ -61,7 +61,7 @@ def load_demo_cluster(path=None) -> Cluster:
 
     References
     ----------
-    RFC 4180 (CSV); the data are invented (``assets/make_demo_cluster.py``).
+    [RFC4180]; the data are invented (``assets/make_demo_cluster.py``).
     """
     if path is None:
         from starkiln.assets import asset_path
@@ -132,7 +132,7 @@ def sky_image(settings: Settings, cluster: Cluster, width_px: int, height_px: in
 
     References
     ----------
-    Snyder (1987), *Map Projections: A Working Manual*, USGS PP 1395, p. 164
+    [Snyder1987], *Map Projections: A Working Manual*, USGS PP 1395, p. 164
     (gnomonic projection); :func:`starkiln.engine.pipeline.render.render` for the colours.
     """
     w, h = int(width_px), int(height_px)

@@ -2,7 +2,7 @@
 
 Two published relations, both for the Gaia (E)DR3 photometric system:
 
-- **BP-RP -> Teff**: A. Mucciarelli, M. Bellazzini & D. Massari (2021),
+- **BP-RP -> Teff**: [Mucciarelli2021],
   "Exploiting the Gaia EDR3 photometry to derive stellar temperatures",
   A&A 653, A90, eq. 1 and Table 1 (dwarf stars, colour BP-RP)::
 
@@ -19,7 +19,7 @@ Two published relations, both for the Gaia (E)DR3 photometric system:
   unless a value is passed; at [Fe/H] = -1 the temperature of a given
   colour changes by about +1 % (blue end) to -3 % (red end).
 
-- **G -> V**: M. Riello et al. (2021), "Gaia Early Data Release 3:
+- **G -> V**: [Riello2021], "Gaia Early Data Release 3:
   Photometric content and validation", A&A 649, A3, Appendix C, Table C.2
   (relation with Johnson-Cousins V)::
 
@@ -31,9 +31,8 @@ Two published relations, both for the Gaia (E)DR3 photometric system:
 
 The check values printed in the two papers could not be consulted here, so
 the tests check the relations against an independent published sequence
-instead (E. Mamajek's "Modern Mean Dwarf Stellar Color and Effective
-Temperature Sequence", the maintained form of Pecaut & Mamajek 2013, ApJS
-208, 9, Table 5), within the stated scatter of each relation.
+instead ([Mamajek2024], "A Modern Mean Dwarf Stellar Color and Effective
+Temperature Sequence", the maintained form of [PecautMamajek2013] Table 5), within the stated scatter of each relation.
 """
 
 from __future__ import annotations
@@ -42,7 +41,7 @@ import numpy as np
 
 from starkiln.engine.errors import InputRangeError
 
-#: Mucciarelli, Bellazzini & Massari (2021) Table 1, dwarfs, BP-RP (from memory).
+#: [Mucciarelli2021] Table 1, dwarfs, BP-RP (from memory).
 MBM21_DWARF_BP_RP = (0.4929, 0.5092, -0.0353, 0.0192, -0.0020, -0.0395)
 #: Valid colour range of that relation (from memory of Table 1).
 BP_RP_CALIBRATED_MIN = 0.39
@@ -50,7 +49,7 @@ BP_RP_CALIBRATED_MAX = 1.50
 #: Dispersion of that relation, K (from memory of Table 1).
 MBM21_DWARF_SIGMA_K = 61.0
 
-#: Riello et al. (2021) Table C.2: G - V as a cubic in BP-RP (from memory).
+#: [Riello2021] Table C.2: G - V as a cubic in BP-RP (from memory).
 RIELLO21_G_MINUS_V = (-0.02704, 0.01424, -0.2156, 0.01426)
 #: Valid colour range of the G - V relation (from memory of Table C.2).
 BP_RP_G_TO_V_MIN = -0.5
@@ -77,8 +76,8 @@ def bp_rp_in_range(bp_rp, extrapolate: bool = False) -> np.ndarray:
     bp_rp : array_like
         Dereddened Gaia BP-RP colours, mag.
     extrapolate : bool
-        False: the published calibration range 0.39-1.50 (Mucciarelli et al.
-        2021, Table 1, from memory). True: the wider range -0.5 to 5.0 that
+        False: the published calibration range 0.39-1.50 ([Mucciarelli2021]
+        Table 1, from memory). True: the wider range -0.5 to 5.0 that
         Starkiln accepts for appearance-only extrapolation.
 
     Returns
@@ -117,8 +116,7 @@ def temperature_from_bp_rp(bp_rp, feh=0.0, extrapolate: bool = False) -> np.ndar
 
     References
     ----------
-    A. Mucciarelli, M. Bellazzini & D. Massari (2021), A&A 653, A90, eq. 1 and
-    Table 1 (dwarfs, BP-RP); coefficients from memory (module docstring).
+    [Mucciarelli2021] eq. 1 and Table 1 (dwarfs, BP-RP); coefficients from memory (module docstring).
 
     Examples
     --------
@@ -163,7 +161,7 @@ def g_minus_v(bp_rp) -> np.ndarray:
 
     References
     ----------
-    M. Riello et al. (2021), A&A 649, A3, Table C.2 (coefficients from memory).
+    [Riello2021], A&A 649, A3, Table C.2 (coefficients from memory).
 
     Examples
     --------
@@ -198,7 +196,7 @@ def v_from_g(g_mag, bp_rp) -> np.ndarray:
 
     References
     ----------
-    M. Riello et al. (2021), A&A 649, A3, Table C.2 (see :func:`g_minus_v`).
+    [Riello2021], A&A 649, A3, Table C.2 (see :func:`g_minus_v`).
 
     Examples
     --------

@@ -1,13 +1,13 @@
 """Where a star's temperature comes from: kelvin, a B-V colour index, or a spectral class.
 
 - Effective temperature in kelvin, supported range 500-100 000 K.
-- B-V (Johnson) through Ballesteros (2012), EPL 97, 34008, eq. 14:
+- B-V (Johnson) through [Ballesteros2012], EPL 97, 34008, eq. 14:
   ``T = 4600 K * (1 / (0.92 (B-V) + 1.7) + 1 / (0.92 (B-V) + 0.62))``,
   accepted for -0.40 <= B-V <= 2.00 (the range of normal stars; the formula
   diverges at B-V = -0.674).
-- Main-sequence spectral classes O5V-M8V through E. Mamajek, "A Modern Mean
+- Main-sequence spectral classes O5V-M8V through [Mamajek2024], "A Modern Mean
   Dwarf Stellar Color and Effective Temperature Sequence", version 2024.05.15
-  (the maintained form of Pecaut & Mamajek 2013, ApJS 208, 9, Table 5), column
+  (the maintained form of [PecautMamajek2013] Table 5), column
   Teff, copied from the table file as its author publishes it. Decimal
   subclasses interpolate linearly in temperature between the tabulated
   neighbours, which include the half subclasses the table lists (O5.5, B0.5,
@@ -27,7 +27,7 @@ TEMPERATURE_MAX_K = 100000.0
 BV_MIN = -0.40
 BV_MAX = 2.00
 
-#: Main-sequence effective temperatures (K) of the whole subclasses, Mamajek (2024.05.15).
+#: Main-sequence effective temperatures (K) of the whole subclasses, [Mamajek2024].
 SPECTRAL_CLASS_TEFF_K = {
     "O5": 41400, "O6": 39800, "O7": 37900, "O8": 35100, "O9": 33300,
     "B0": 31400, "B1": 26000, "B2": 20600, "B3": 17000, "B4": 16400,
@@ -96,7 +96,7 @@ def temperature_from_bv(bv) -> np.ndarray:
 
     References
     ----------
-    F. J. Ballesteros (2012), "New insights into black bodies", EPL 97, 34008, eq. 14.
+    [Ballesteros2012], "New insights into black bodies", EPL 97, 34008, eq. 14.
 
     Examples
     --------
@@ -118,8 +118,8 @@ def temperature_from_spectral_class(text: str) -> float:
 
     References
     ----------
-    E. Mamajek, mean dwarf sequence, version 2024.05.15 (Pecaut & Mamajek 2013,
-    ApJS 208, 9, Table 5); see the module docstring.
+    [Mamajek2024] (mean dwarf sequence, version 2024.05.15; the maintained form of
+    [PecautMamajek2013] Table 5); see the module docstring.
 
     Examples
     --------

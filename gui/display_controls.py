@@ -1,0 +1,218 @@
+"""The display controls: the display tab (preset, demo dome or custom profile) and the editor.
+
+Every option list is read from the engine (presets, transfer functions); a profile is read and
+written by :mod:`starkiln.engine.colour.displays` and handed to
+:meth:`starkiln.gui.model.WindowModel.change`, which validates. A rejected value is shown under
+its control and the settings stay as they were.
+"""
+
+from __future__ import annotations
+
+from PySide6 import QtCore, QtWidgets
+
+from starkiln.engine.colour import displays as engine_displays
+from starkiln.gui.fields import INPUT_ERRORS, Choice, ErrorLine, Form, parse_number
+from starkiln.gui.model import demo_display, demo_display_path
+
+DEMO_DISPLAY = "demo-dome"
+CUSTOM_DISPLAY = "custom"
+
+DISPLAY_LABELS = {
+    "srgb": "sRGB", "display-p3": "Display P3", "dci-p3": "DCI-P3",
+    "rec2020": "Rec. 2020", "rec2100-pq": "Rec. 2100 PQ",
+    DEMO_DISPLAY: "Harbourlight dome (demo)", CUSTOM_DISPLAY: "Custom profile",
+}
+
+
+class DisplayTab(Form):
+    """Display preset or custom profile; open, edit and save JSON display profiles."""
+
+    message = QtCore.Signal(str, str)  # title, text: for a message box
+
+    def __init__(self, model, parent=None):
+        super().__init__(parent)
+        self.model = model
+        options = tuple(engine_displays.PRESETS) + (DEMO_DISPLAY, CUSTOM_DISPLAY)
+        self.display = self.row("Display",
+                                Choice("display", options, self._choose, DISPLAY_LABELS),
+                                "Primaries, white, transfer function and peak luminance")
+        buttons = QtWidgets.QWidget(self)
+        row = QtWidgets.QHBoxLayout(buttons)
+        row.setContentsMargins(0, 0, 0, 0)
+        self.edit_button = QtWidgets.QPushButton("Edit\u2026", buttons)
+        self.open_button = QtWidgets.QPushButton("Open profile\u2026", buttons)
+        self.save_button = QtWidgets.QPushButton("Save profile\u2026", buttons)
+        for b in (self.edit_button, self.open_button, self.save_button):
+            row.addWidget(b)
+        self.edit_button.setObjectName("display-edit")
+        self.open_button.setObjectName("display-open")
+        self.save_button.setObjectName("display-save")
+        self.form.addRow(buttons)
+        self.error = ErrorLine(self)
+        self.error.setObjectName("error-display")
+        self.form.addRow(self.error)
+        self.summary = self.note("")
+        self.summary.setObjectName("display-summary")
+        self.summary.setTextInteractionFlags(QtCore.Qt.TextInteractionFlag.TextSelectableByMouse)
+        self.edit_button.clicked.connect(self.edit)
+        self.open_button.clicked.connect(self._open_dialog)
+        self.save_button.clicked.connect(self._save_dialog)
+        self.editor = None
+        self.refresh()
+
+    def _choose(self, key: str) -> None:
+        if key == CUSTOM_DISPLAY:
+            self.edit()
+            self.refresh()
+            return
+        if key == DEMO_DISPLAY:
+            self.open_profile(demo_display_path())
+            return
+        self.model.change("display", display=engine_displays.PRESETS[key])
+
+    def open_profile(self, path) -> bool:
+        """Load a JSON display profile; a bad file gives a message box and changes nothing."""
+        try:
+            self.model.open_display_profile(path, origin="display")
+        except INPUT_ERRORS as exc:
+            self.error.show_error(str(exc))
+            self.message.emit("Display profile not loaded", str(exc))
+            self.refresh()
+            return False
+        self.error.clear_error()
+        return True
+
+    def save_profile(self, path) -> bool:
+        """Write the current display as a JSON profile (atomically)."""
+        from starkiln.engine.colour.displays import save_display_profile
+
+        try:
+            save_display_profile(self.model.settings.display, path)
+        except (INPUT_ERRORS + (OSError,)) as exc:
+            self.message.emit("Display profile not saved", str(exc))
+            return False
+        return True
+
+    def _open_dialog(self) -> None:
+        path, _ = QtWidgets.QFileDialog.getOpenFileName(
+            self, "Open a display profile", str(demo_display_path().parent),
+            "Display profiles (*.json)")
+        if path:
+            self.open_profile(path)
+
+    def _save_dialog(self) -> None:
+        path, _ = QtWidgets.QFileDialog.getSaveFileName(
+            self, "Save the display profile", "display.json", "Display profiles (*.json)")
+        if path:
+            self.save_profile(path)
+
+    def edit(self) -> "DisplayEditor":
+        """Open the profile editor (non-modal) on the current display."""
+        if self.editor is None:
+            self.editor = DisplayEditor(self.model, self)
+        self.editor.load(self.model.settings.display)
+        self.editor.show()
+        self.editor.raise_()
+        return self.editor
+
+    def refresh(self, force: bool = False) -> None:
+        """Show the model's display."""
+        d = self.model.settings.display
+        key = next((k for k, v in engine_displays.PRESETS.items() if v == d), None)
+        if key is None:
+            key = DEMO_DISPLAY if d == demo_display() else CUSTOM_DISPLAY
+        self.display.set_value(key)
+        tf = f"gamma {d.gamma:g}" if d.transfer == "gamma" else d.transfer
+        self.summary.setText(
+            f"{d.name}\nred {d.red_xy[0]:.4f}, {d.red_xy[1]:.4f}   green {d.green_xy[0]:.4f}, "
+            f"{d.green_xy[1]:.4f}\nblue {d.blue_xy[0]:.4f}, {d.blue_xy[1]:.4f}   white "
+            f"{d.white_xy[0]:.4f}, {d.white_xy[1]:.4f}\n{tf}, "
+            f"peak {d.peak_luminance_cd_m2:g} cd/m\u00b2")
+        if self.editor is not None and self.editor.isVisible() and force:
+            self.editor.load(d)
+
+
+class DisplayEditor(QtWidgets.QDialog):
+    """Edit a display profile: primaries, white, transfer, gamma, peak; apply, open, save."""
+
+    def __init__(self, model, parent=None):
+        super().__init__(parent)
+        self.setObjectName("display-editor")
+        self.setWindowTitle("Display profile")
+        self.model = model
+        form = QtWidgets.QFormLayout(self)
+        self.name = QtWidgets.QLineEdit(self)
+        self.name.setObjectName("field-display-name")
+        form.addRow("Name", self.name)
+        self.fields: dict[str, QtWidgets.QLineEdit] = {}
+        for key, label in (("red", "Red primary x, y"), ("green", "Green primary x, y"),
+                           ("blue", "Blue primary x, y"), ("white", "White x, y")):
+            w = QtWidgets.QWidget(self)
+            row = QtWidgets.QHBoxLayout(w)
+            row.setContentsMargins(0, 0, 0, 0)
+            for axis in ("x", "y"):
+                e = QtWidgets.QLineEdit(w)
+                e.setObjectName(f"field-{key}-{axis}")
+                e.setFixedWidth(80)
+                row.addWidget(e)
+                self.fields[f"{key}_{axis}"] = e
+            row.addStretch(1)
+            form.addRow(label, w)
+        self.transfer = QtWidgets.QComboBox(self)
+        self.transfer.setObjectName("choice-transfer")
+        for t in engine_displays.TRANSFERS:
+            self.transfer.addItem(t, t)
+        form.addRow("Transfer function", self.transfer)
+        for key, label in (("gamma", "Gamma (with 'gamma')"),
+                           ("peak", "Peak luminance, cd/m\u00b2")):
+            e = QtWidgets.QLineEdit(self)
+            e.setObjectName(f"field-{key}")
+            e.setFixedWidth(80)
+            self.fields[key] = e
+            form.addRow(label, e)
+        self.error = ErrorLine(self)
+        self.error.setObjectName("error-display-editor")
+        form.addRow(self.error)
+        buttons = QtWidgets.QDialogButtonBox(self)
+        self.apply_button = buttons.addButton("Apply",
+                                              QtWidgets.QDialogButtonBox.ButtonRole.ApplyRole)
+        self.close_button = buttons.addButton("Close",
+                                              QtWidgets.QDialogButtonBox.ButtonRole.RejectRole)
+        self.apply_button.setObjectName("display-apply")
+        self.apply_button.clicked.connect(self.apply)
+        self.close_button.clicked.connect(self.reject)
+        form.addRow(buttons)
+
+    def load(self, d) -> None:
+        """Fill the fields from a display."""
+        self.name.setText(d.name)
+        for key in ("red", "green", "blue", "white"):
+            x, y = getattr(d, f"{key}_xy")
+            self.fields[f"{key}_x"].setText(f"{x:g}")
+            self.fields[f"{key}_y"].setText(f"{y:g}")
+        self.transfer.setCurrentIndex(max(self.transfer.findData(d.transfer), 0))
+        self.fields["gamma"].setText(f"{d.gamma:g}")
+        self.fields["peak"].setText(f"{d.peak_luminance_cd_m2:g}")
+        self.error.clear_error()
+
+    def fields_values(self) -> dict:
+        """The display fields as typed (``name``, ``red_xy``... ``peak_luminance_cd_m2``);
+        raises StarkilnError for a field that is not a number."""
+        labels = {"gamma": "gamma", "peak": "peak luminance"}
+        v = {k: parse_number(e.text(), labels.get(k, k.replace("_", " ")))
+             for k, e in self.fields.items()}
+        return {"name": self.name.text().strip() or "custom",
+                "red_xy": (v["red_x"], v["red_y"]), "green_xy": (v["green_x"], v["green_y"]),
+                "blue_xy": (v["blue_x"], v["blue_y"]), "white_xy": (v["white_x"], v["white_y"]),
+                "transfer": self.transfer.currentData(), "gamma": v["gamma"],
+                "peak_luminance_cd_m2": v["peak"]}
+
+    def apply(self) -> bool:
+        """Validate (the engine does) and use the edited display; errors stay in the dialog."""
+        try:
+            self.model.change_display("display", **self.fields_values())
+        except INPUT_ERRORS as exc:
+            self.error.show_error(str(exc))
+            return False
+        self.error.clear_error()
+        return True
