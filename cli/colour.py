@@ -93,7 +93,16 @@ def cmd_colour(args, out) -> int:
         ("chromaticity x, y", "{:.5f}, {:.5f}".format(*record["xy"])),
         ("display linear", "{:.4f} {:.4f} {:.4f}".format(*record["rgb_linear"])),
         ("display encoded", "{:.4f} {:.4f} {:.4f}".format(*record["rgb_encoded"])),
-        ("hex", record["hex"]),
+    ]
+    if args.magnitude is None:
+        rows.append(("hex", record["hex"]))
+    else:  # both colours, labelled: the star's own colour and what night vision leaves of it
+        full = render(settings, temperature)
+        enc = "{:.4f} {:.4f} {:.4f}"
+        rows += [("full colour", f"{full.hex()}  (encoded {enc.format(*full.rgb_encoded)})"),
+                 (f"at magnitude {record['magnitude']:g}",
+                  f"{record['hex']}  (encoded {enc.format(*record['rgb_encoded'])})")]
+    rows += [
         ("inside gamut", "yes" if record["in_gamut"] else f"no (mapped by {settings.gamut})"),
         ("white / display", f"{settings.scene_white} -> {settings.display.name} "
                             f"({settings.adaptation})"),
@@ -126,7 +135,7 @@ def cmd_displays(args, out) -> int:
         tf = f"gamma {d.gamma:g}" if d.transfer == "gamma" else d.transfer
         out.write(f"{name:<11} white {d.white_xy[0]:.4f},{d.white_xy[1]:.4f}  {tf:<9} "
                   f"{d.peak_luminance_cd_m2:g} cd/m2  {PRESET_NOTES[name]}\n")
-    out.write("also: a JSON display profile (see README, 'Display profiles')\n")
+    out.write("also: a JSON display profile (see docs/formats.md, 'Display profiles (JSON)')\n")
     return 0
 
 
