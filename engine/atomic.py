@@ -37,19 +37,21 @@ def format_for_extension(path, formats: dict[str, str], kind: str) -> str:
     return formats[suffix]
 
 
-def check_writable(path, overwrite: bool) -> Path:
+def check_writable(path, overwrite: bool, folder_output: bool = False) -> Path:
     """Validate an output path before any work; every refusal names the path as given.
 
     Accepted: a path to a regular file (existing only with ``overwrite``) in an existing,
-    writable folder. Refused: a folder, a FIFO, device or socket, a path whose parent is a
-    file, a missing or read-only folder.
+    writable folder; with ``folder_output`` (an output that is itself a folder, such as a
+    partitioned dataset) an existing folder in its place instead. Refused: a folder (unless
+    ``folder_output``), a FIFO, device or socket, a path whose parent is a file, a missing or
+    read-only folder.
     """
     path = Path(path)
     folder = path.parent if str(path.parent) else Path(".")
-    if path.is_dir():
+    if path.is_dir() and not folder_output:
         raise StarkilnError(f"{path} is a folder; accepted: a file path, such as "
                             f"{str(path / ('NAME' + (path.suffix or '.ext')))!r}")
-    if path.exists() and not path.is_file():
+    if path.exists() and not path.is_file() and not (folder_output and path.is_dir()):
         raise StarkilnError(f"{path} is not a regular file (a FIFO, device or socket); "
                             "accepted: a path to a regular file")
     if folder.exists() and not folder.is_dir():

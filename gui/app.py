@@ -73,8 +73,8 @@ def screenshot(out, settings_path=None, temperature_K=None, size=(1280, 800),
     out = Path(out)
     if out.suffix.lower() != ".png":
         raise StarkilnError(f"--screenshot {out}: the picture is saved as .png")
+    settings, t = _settings_and_temperature(settings_path, temperature_K)  # bad values first
     check_writable(out, overwrite=overwrite)
-    settings, t = _settings_and_temperature(settings_path, temperature_K)
     from PySide6 import QtWidgets
 
     if QtWidgets.QApplication.instance() is None and not os.environ.get("QT_QPA_PLATFORM"):

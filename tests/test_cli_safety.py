@@ -400,3 +400,18 @@ def test_bad_command_line_is_one_line_and_changes_nothing(line, bad_input_folder
     assert code == 2, (line, out, err)
     assert _one_line_error(err), (line, err)
     assert _snapshot(bad_input_folder) == before
+
+
+def test_folder_outputs_accept_a_folder_but_still_refuse_a_fifo(tmp_path):
+    # --engine dask writes a folder of parts: there an existing folder is the output itself.
+    out = tmp_path / "parts"
+    out.mkdir()
+    with pytest.raises(StarkilnError, match="--force"):
+        check_writable(out, overwrite=False, folder_output=True)
+    assert check_writable(out, overwrite=True, folder_output=True) == out
+    with pytest.raises(StarkilnError, match="is a folder"):
+        check_writable(out, overwrite=True)
+    fifo = tmp_path / "pipe"
+    os.mkfifo(fifo)
+    with pytest.raises(StarkilnError, match="not a regular file"):
+        check_writable(fifo, overwrite=True, folder_output=True)
