@@ -99,7 +99,16 @@ def cmd_colour(args, out) -> int:
         ("chromaticity x, y", "{:.5f}, {:.5f}".format(*record["xy"])),
         ("display linear", "{:.4f} {:.4f} {:.4f}".format(*record["rgb_linear"])),
         ("display encoded", "{:.4f} {:.4f} {:.4f}".format(*record["rgb_encoded"])),
-        ("hex", record["hex"]),
+    ]
+    if args.magnitude is None:
+        rows.append(("hex", record["hex"]))
+    else:  # both colours, labelled: the star's own colour and what night vision leaves of it
+        full = render(settings, temperature)
+        enc = "{:.4f} {:.4f} {:.4f}"
+        rows += [("full colour", f"{full.hex()}  (encoded {enc.format(*full.rgb_encoded)})"),
+                 (f"at magnitude {record['magnitude']:g}",
+                  f"{record['hex']}  (encoded {enc.format(*record['rgb_encoded'])})")]
+    rows += [
         ("inside gamut", "yes" if record["in_gamut"] else f"no (mapped by {settings.gamut})"),
         ("white / display", f"{settings.scene_white} -> {settings.display.name} "
                             f"({settings.adaptation})"),

@@ -9,16 +9,19 @@ line on stderr and exit code 2.
 
 from __future__ import annotations
 
+import argparse
 import errno
 import os
+import signal
 import sys
+import threading
 
-from starkiln.cli import catalogue, colour, exports
+from starkiln.cli import catalogue, colour, exports, settings_cmd
 from starkiln.cli.options import EXIT_BAD_INPUT, Parser, number
 from starkiln import __version__
 from starkiln.engine.errors import StarkilnError
 
-COMMAND_MODULES = (colour, exports, catalogue)
+COMMAND_MODULES = (colour, exports, catalogue, settings_cmd)
 
 
 def build_parser() -> argparse.ArgumentParser:
@@ -27,6 +30,8 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("-V", "--version", action="version", version=f"starkiln {__version__}")
     p.add_argument("--screenshot", metavar="OUT.png",
                    help="with no command: render the window offscreen at 1280 x 800 into OUT.png")
+    p.add_argument("--force", dest="window_force", action="store_true", default=None,
+                   help="with --screenshot: overwrite OUT.png if it exists")
     p.add_argument("--settings", dest="window_settings", metavar="FILE.toml",
                    help="with no command: open the window with these settings")
     p.add_argument("--temperature", dest="window_temperature", type=number, metavar="K",
@@ -39,17 +44,52 @@ def build_parser() -> argparse.ArgumentParser:
 
 #: Options that belong to the window only; with a subcommand they are an error, not ignored.
 WINDOW_OPTIONS = (("screenshot", "--screenshot"), ("window_settings", "--settings"),
-                  ("window_temperature", "--temperature"))
+                  ("window_temperature", "--temperature"), ("window_force", "--force"))
+
+
+class Terminated(BaseException):
+    """SIGTERM arrived: raised in the main thread so every ``atomic_path`` removes its
+    temporary file on the way out (a BaseException, like KeyboardInterrupt, so that no
+    ``except Exception`` swallows it)."""
+
+
+def _on_sigterm(signum, frame):
+    raise Terminated()
+
+
+def _install_sigterm():
+    """Turn SIGTERM into :class:`Terminated` while a command runs; returns the old handler
+    (None where signals cannot be set: another thread, or no SIGTERM)."""
+    if threading.current_thread() is not threading.main_thread() or not hasattr(signal, "SIGTERM"):
+        return None
+    try:
+        return signal.signal(signal.SIGTERM, _on_sigterm)
+    except (ValueError, OSError):
+        return None
 
 
 def main(argv=None) -> int:
     """Entry point of the ``starkiln`` console script; returns the exit code.
 
     Exit codes: 0 done; 2 bad input or an output that could not be written (one line on
-    stderr naming the value or file and what is accepted); 130 interrupted. A closed or
+    stderr naming the value or file and what is accepted; also a run stopped by SIGTERM,
+    after its unfinished output is removed); 130 interrupted (Ctrl-C). A closed or
     broken standard output (``starkiln whites | head -c1``) ends the command quietly.
     """
     argv = sys.argv[1:] if argv is None else argv
+    previous = _install_sigterm()
+    try:
+        return _run(argv)
+    except Terminated:
+        return _fail("stopped by SIGTERM; any unfinished output was removed and earlier "
+                     "files are unchanged")
+    finally:
+        if previous is not None:
+            signal.signal(signal.SIGTERM, previous)
+
+
+def _run(argv) -> int:
+    """Parse and dispatch; every failure becomes one line (see :func:`main`)."""
     try:
         args = build_parser().parse_args(argv)
         if args.command is None:
@@ -72,9 +112,16 @@ def main(argv=None) -> int:
         return _fail(str(exc))
     except BrokenPipeError:
         return _quiet_broken_pipe()
+    except ImportError as exc:
+        # A signal that lands while a C extension initialises arrives as its cause.
+        if isinstance(exc.__cause__, Terminated):
+            raise exc.__cause__ from None
+        if not isinstance(exc.__cause__, KeyboardInterrupt):
+            return _fail(f"a module Starkiln needs could not be loaded ({exc}); accepted: "
+                         "a complete installation (pip install starkiln)")
+        return _interrupted()
     except KeyboardInterrupt:
-        sys.stderr.write("starkiln: interrupted\n")
-        return 130
+        return _interrupted()
     except RecursionError:
         return _fail("an input file is nested too deeply to read (a JSON or TOML file with "
                      "thousands of nested brackets?); accepted: ordinary settings and profiles")
@@ -106,6 +153,16 @@ def _fail(message: str) -> int:
     except (OSError, ValueError, AttributeError):
         pass
     return EXIT_BAD_INPUT
+
+
+def _interrupted() -> int:
+    """Ctrl-C: the unfinished output is already removed (``atomic_path``); exit 130
+    (128 + SIGINT, common practice for shells)."""
+    try:
+        sys.stderr.write("starkiln: interrupted\n")
+    except (OSError, ValueError, AttributeError):
+        pass
+    return 130
 
 
 def _quiet_broken_pipe() -> int:

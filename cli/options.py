@@ -47,10 +47,14 @@ def positive_int(text: str) -> int:
 
 
 def add_colour_options(p: argparse.ArgumentParser) -> None:
-    """Options shared by every command that renders colours."""
+    """Options shared by every command that renders colours: one per settings field.
+
+    :data:`SETTING_OPTIONS` maps every :class:`Settings` field to its option; a field that
+    can be switched off has a second spelling (``--naked-eye``, ``--no-compensate``).
+    """
     g = p.add_argument_group("colour settings (override --settings)")
     g.add_argument("--settings", metavar="FILE.toml", help="start from a saved settings file")
-    g.add_argument("--white", metavar="WHITE",
+    g.add_argument("--white", "--scene-white", dest="white", metavar="WHITE",
                    help="scene white: D50 D55 D65 D75 E DCI, daylight:<K>, blackbody:<K>, xy:<x>,<y>")
     g.add_argument("--display", metavar="NAME|PROFILE.json",
                    help="display preset (see 'starkiln displays') or a JSON display profile")
@@ -60,11 +64,17 @@ def add_colour_options(p: argparse.ArgumentParser) -> None:
     g.add_argument("--observer", metavar="NAME", help="cie1931 (default) or cie1964")
     g.add_argument("--normalisation", "--normalization", dest="normalisation", metavar="MODE",
                    help="max-channel (default) or luminance")
+    g.add_argument("--luminance-y", dest="luminance_Y", type=number, metavar="Y",
+                   help="relative luminance of every star with --normalisation luminance, "
+                        "0 < Y <= 1 (default 0.5)")
     v = p.add_argument_group("night vision (applies when magnitudes are given)")
     v.add_argument("--vision", metavar="MODEL",
                    help="mesopic (default: CIE 191 cone weight) or none (full colour, camera look)")
-    v.add_argument("--aperture-mm", type=number, metavar="D",
-                   help="instrument aperture in mm (default: naked eye)")
+    instrument = v.add_mutually_exclusive_group()
+    instrument.add_argument("--aperture-mm", type=number, metavar="D",
+                            help="instrument aperture in mm (default: naked eye)")
+    instrument.add_argument("--naked-eye", action="store_true", default=None,
+                            help="no instrument: clears an aperture from --settings")
     v.add_argument("--transmission", type=number, metavar="T",
                    help="instrument transmission, 0 < T <= 1 (default 1)")
     v.add_argument("--pupil-mm", type=number, metavar="d", help="dark-adapted pupil, mm (default 7)")
@@ -77,8 +87,23 @@ def add_colour_options(p: argparse.ArgumentParser) -> None:
                    help="magnitude shown at intensity 0 (default 6.5)")
     v.add_argument("--night-tint", type=number, metavar="S",
                    help="0-1, cool tint of faint stars (a rendering convention; default 0)")
-    v.add_argument("--compensate", action="store_true", default=None,
-                   help="pre-boost chroma for a dark dome at the display's peak luminance")
+    v.add_argument("--compensate", action=argparse.BooleanOptionalAction, default=None,
+                   help="pre-boost chroma for a dark dome at the display's peak luminance "
+                        "(--no-compensate: off, the default)")
+
+
+#: Every settings field -> its command-line option (the argparse ``dest`` is the option's
+#: name without dashes, except ``--white`` and ``--luminance-y``).
+SETTING_OPTIONS = {
+    "observer": "--observer", "scene_white": "--white", "adaptation": "--adaptation",
+    "display": "--display", "gamut": "--gamut", "normalisation": "--normalisation",
+    "luminance_Y": "--luminance-y", "vision": "--vision", "pupil_mm": "--pupil-mm",
+    "aperture_mm": "--aperture-mm", "transmission": "--transmission",
+    "blur_spot_arcmin": "--blur-spot-arcmin", "intensity_curve": "--intensity-curve",
+    "magnitude_bright": "--magnitude-bright", "magnitude_faint": "--magnitude-faint",
+    "night_tint": "--night-tint", "compensate": "--compensate",
+}
+_DESTS = {"scene_white": "white"}
 
 
 def settings_from_args(args) -> "Settings":
@@ -87,17 +112,10 @@ def settings_from_args(args) -> "Settings":
 
     base = load_settings(args.settings) if getattr(args, "settings", None) else Settings()
     changes = {}
-    for opt, key in (("white", "scene_white"), ("display", "display"),
-                     ("adaptation", "adaptation"), ("gamut", "gamut"),
-                     ("observer", "observer"), ("normalisation", "normalisation"),
-                     ("vision", "vision"), ("aperture_mm", "aperture_mm"),
-                     ("transmission", "transmission"), ("pupil_mm", "pupil_mm"),
-                     ("blur_spot_arcmin", "blur_spot_arcmin"),
-                     ("intensity_curve", "intensity_curve"),
-                     ("magnitude_bright", "magnitude_bright"),
-                     ("magnitude_faint", "magnitude_faint"), ("night_tint", "night_tint"),
-                     ("compensate", "compensate")):
-        value = getattr(args, opt, None)
+    for key in SETTING_OPTIONS:
+        value = getattr(args, _DESTS.get(key, key), None)
         if value is not None:
             changes[key] = value
+    if getattr(args, "naked_eye", None):
+        changes["aperture_mm"] = None
     return base.replace(**changes) if changes else base

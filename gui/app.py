@@ -60,8 +60,10 @@ def _settings_and_temperature(settings_path, temperature_K):
 
 
 def screenshot(out, settings_path=None, temperature_K=None, size=(1280, 800),
-               theme: str | None = None) -> Path:
+               theme: str | None = None, overwrite: bool = False) -> Path:
     """Render the window offscreen at ``size`` and save it as a PNG (atomically).
+
+    An existing ``out`` is replaced only with ``overwrite`` (``--force``), as every output.
 
     Uses the ``offscreen`` Qt platform unless ``QT_QPA_PLATFORM`` names another
     (or a QApplication exists already). No window state is read or written.
@@ -71,8 +73,8 @@ def screenshot(out, settings_path=None, temperature_K=None, size=(1280, 800),
     out = Path(out)
     if out.suffix.lower() != ".png":
         raise StarkilnError(f"--screenshot {out}: the picture is saved as .png")
-    check_writable(out, overwrite=True)
-    settings, t = _settings_and_temperature(settings_path, temperature_K)
+    settings, t = _settings_and_temperature(settings_path, temperature_K)  # bad values first
+    check_writable(out, overwrite=overwrite)
     from PySide6 import QtWidgets
 
     if QtWidgets.QApplication.instance() is None and not os.environ.get("QT_QPA_PLATFORM"):
@@ -132,9 +134,13 @@ def run(args) -> int:
     settings_path = getattr(args, "window_settings", None)
     temperature_K = getattr(args, "window_temperature", None)
     if shot:
-        out = screenshot(shot, settings_path, temperature_K)
+        out = screenshot(shot, settings_path, temperature_K,
+                         overwrite=bool(getattr(args, "window_force", None)))
         sys.stdout.write(f"wrote {out}\n")
         return 0
+    if getattr(args, "window_force", None):
+        raise StarkilnError("--force applies to --screenshot only; accepted: "
+                            "'starkiln --screenshot OUT.png --force'")
     settings, t = _settings_and_temperature(settings_path, temperature_K)
     if not _has_display():
         raise StarkilnError("no display found (DISPLAY is not set); to render the window "

@@ -38,7 +38,7 @@ from starkiln.engine.errors import StarkilnError
 def _check_output_folder(output: Path, overwrite: bool) -> None:
     from starkiln.engine.atomic import check_writable
 
-    check_writable(output, overwrite)
+    check_writable(output, overwrite, folder_output=True)
     if output.exists() and not output.is_dir():
         raise StarkilnError(f"{output} exists and is not a folder; --engine dask writes a "
                             "folder of Parquet parts")

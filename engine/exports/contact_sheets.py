@@ -11,7 +11,8 @@ appears, so a 4096-swatch sheet is drawn in well under a second.
 
 References
 ----------
-[Pillow] ``ImageDraw.text`` / ``ImageFont.load_default`` (bundled font).
+[Pillow] ``ImageDraw.text`` / ``ImageFont.load_default`` (bundled font); titles in any script
+through :mod:`starkiln.engine.exports.sheet_text`.
 """
 
 from __future__ import annotations
@@ -19,6 +20,8 @@ from __future__ import annotations
 import numpy as np
 
 from typing import TYPE_CHECKING
+
+from starkiln.engine.exports.sheet_text import STAND_IN, draw_text, missing_glyphs
 
 if TYPE_CHECKING:  # the palette type for annotations; palettes import this module
     from starkiln.engine.exports.palettes import Palette
@@ -60,11 +63,15 @@ def _layout(n: int, columns: int | None):
     return cols, cell_w, cell_h, width, height
 
 
+#: Font sizes (pixels) of the title line and of the labels.
+TITLE_SIZE, LABEL_SIZE = 15, 12
+
+
 def _fonts():
     from PIL import ImageFont
 
     try:
-        return ImageFont.load_default(size=15), ImageFont.load_default(size=12)
+        return ImageFont.load_default(size=TITLE_SIZE), ImageFont.load_default(size=LABEL_SIZE)
     except TypeError:  # Pillow without FreeType sizes
         font = ImageFont.load_default()
         return font, font
@@ -208,10 +215,14 @@ def sheet_strips(palette: Palette, name: str | None = None, columns: int | None 
 
     head = Image.new("RGB", (width, top), SHEET_BACKGROUND)
     draw = ImageDraw.Draw(head)
-    draw.text((SHEET_MARGIN, SHEET_MARGIN), name or palette.default_name(), fill=SHEET_TEXT,
-              font=title_font)
-    draw.text((SHEET_MARGIN, SHEET_MARGIN + 21), palette.title(), fill=SHEET_FAINT_TEXT,
-              font=font)
+    title, subtitle = name or palette.default_name(), palette.title()
+    # Titles may be in any script: a font per character (sheet_text), never empty boxes.
+    draw_text(draw, (SHEET_MARGIN, SHEET_MARGIN), title, SHEET_TEXT, TITLE_SIZE)
+    draw_text(draw, (SHEET_MARGIN, SHEET_MARGIN + 21), subtitle, SHEET_FAINT_TEXT, LABEL_SIZE)
+    missing = sorted(set(missing_glyphs(title, TITLE_SIZE) + missing_glyphs(subtitle, LABEL_SIZE)))
+    footer = FOOTER if not missing else (
+        FOOTER + "; no font here has " + " ".join(STAND_IN.format(ord(c)) for c in missing)
+        + ", drawn as its code")
     yield np.asarray(head)
     for r in range(rows):
         strip = np.empty((cell_h, width, 3), dtype=np.uint8)
@@ -225,7 +236,7 @@ def sheet_strips(palette: Palette, name: str | None = None, columns: int | None 
     # The footer band; its text line starts SHEET_MARGIN + 4 above the bottom edge.
     foot_h = height - top - rows * cell_h
     foot = Image.new("RGB", (width, foot_h), SHEET_BACKGROUND)
-    ImageDraw.Draw(foot).text((SHEET_MARGIN, foot_h - SHEET_MARGIN - 4), FOOTER,
+    ImageDraw.Draw(foot).text((SHEET_MARGIN, foot_h - SHEET_MARGIN - 4), footer,
                               fill=SHEET_FAINT_TEXT, font=font)
     yield np.asarray(foot)
 
