@@ -132,7 +132,10 @@ def colour_catalogue_dask(input_spec, output, plan: CataloguePlan, *, overwrite:
     output = Path(output)
     _check_output_folder(output, overwrite)
     refuse_same_file(files, output, folder_output=True)
-    if output.exists() and not output.is_symlink():
+    if output.is_symlink():
+        raise StarkilnError(f"{output} is a symbolic link; accepted: a folder path that is "
+                            "not a link (--force replaces a folder, never a link's target)")
+    if output.exists():
         check_replaceable(output)
     try:
         schema_in = pq.read_schema(files[0])
