@@ -37,7 +37,7 @@ from starkiln.engine.catalogue.plan import EXTRAPOLATED, STATUSES, CataloguePlan
 from starkiln.engine.catalogue.streaming import CsvWriter, StreamSource, parquet_writer
 from starkiln.engine.errors import StarkilnError
 
-#: CSV files larger than this are streamed through pyarrow instead of read whole by astropy.
+#: CSV files larger than this are read in blocks (streamed) instead of whole.
 CSV_STREAM_BYTES = 32 * 1024 * 1024
 DEFAULT_CHUNK_ROWS = 1 << 17
 
@@ -223,8 +223,6 @@ def _run_astropy_guarded(path, fmt_in, output, fmt_out, plan, overwrite, progres
 
     table = read_astropy(path, fmt_in)
     check_columns(list(table.colnames), plan, str(path))
-    if fmt_out not in ("parquet", "csv"):
-        check_astropy_names(list(table.colnames) + plan.output_columns, str(path), fmt_out)
     n = len(table)
     plan = plan.for_rows(n)
     values = {name: numpy_values(table[name]) for name in plan.input_columns}

@@ -293,7 +293,10 @@ class CsvWriter:
     one line per row ending in ``\\n``; the header is the column names, written the same way.
 
     Both catalogue paths (small files and streamed ones) write CSV through this class, so a
-    table comes out byte for byte the same whichever path it takes.
+    table comes out byte for byte the same whichever path it takes. A batch in which no cell
+    needs quotes is written by ``pyarrow.csv.write_csv`` with ``quoting_style="none"`` (the
+    same text: numbers through the same cast, text as it is; pyarrow refuses the batch when
+    a cell needs quotes), the others cell by cell.
 
     Parameters
     ----------
@@ -305,8 +308,10 @@ class CsvWriter:
 
     def __init__(self, path, schema):
         import pyarrow as pa
+        import pyarrow.csv as pcsv
 
-        self._fh = open(path, "wb")
+        self._sink = pa.OSFile(str(path), "wb")
+        self._plain = pcsv.WriteOptions(include_header=False, quoting_style="none")
         self._write_lines([pa.array([name], pa.string()) for name in schema.names])
 
     def _write_lines(self, columns):
@@ -322,14 +327,28 @@ class CsvWriter:
         data = pc.binary_join_element_wise(lines, "", "\n").cast(pa.large_string())
         bounds = np.frombuffer(data.buffers()[1], dtype=np.int64)[
             data.offset: data.offset + len(data) + 1]
-        self._fh.write(memoryview(data.buffers()[2])[int(bounds[0]): int(bounds[-1])])
+        self._sink.write(memoryview(data.buffers()[2])[int(bounds[0]): int(bounds[-1])])
 
     def write_batch(self, batch):
         """Append the rows of a RecordBatch or Table."""
-        self._write_lines(list(batch.columns))
+        import pyarrow.csv as pcsv
+
+        import pyarrow as pa
+
+        if batch.num_rows == 0:
+            return
+        # pyarrow refuses (ArrowInvalid) a cell holding a comma, a quote or a line break
+        # when asked for no quotes: then this batch is written cell by cell.
+        buf = pa.BufferOutputStream()
+        try:
+            pcsv.write_csv(batch, buf, self._plain)
+        except (pa.ArrowInvalid, pa.ArrowNotImplementedError, pa.ArrowTypeError):
+            self._write_lines(list(batch.columns))
+        else:
+            self._sink.write(buf.getvalue())
 
     write_table = write_batch
 
     def close(self):
         """Finish the file."""
-        self._fh.close()
+        self._sink.close()
