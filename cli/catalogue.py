@@ -42,7 +42,8 @@ def add_parsers(sub) -> None:
                    help="V (Johnson, default) or G (Gaia G -> V by Riello et al. 2021, "
                         "needs --bp-rp-column)")
     o = p.add_argument_group("output and engine")
-    o.add_argument("--force", action="store_true", help="overwrite OUT if it exists")
+    o.add_argument("--force", action="store_true", help="overwrite OUT if it exists (never an input; with --engine dask only "
+                        "a folder an earlier run wrote, marked by .starkiln-parts.json)")
     o.add_argument("--prefix", default="", metavar="TEXT",
                    help="put TEXT before the names of the new columns (if IN has an 'r' ...)")
     o.add_argument("--exact", action="store_true",

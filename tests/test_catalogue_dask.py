@@ -8,6 +8,7 @@ Outputs are read back with pyarrow (the reference Parquet reader).
 from __future__ import annotations
 
 import os
+from pathlib import Path
 
 import numpy as np
 import pytest
@@ -47,8 +48,10 @@ def make_parts(folder, n_files=3, rows=4000, seed=3):
 
 
 def read_parts(path):
-    files = sorted(os.listdir(path))
+    # The parts, and beside them the folder's mark (a hidden manifest, see test_catalogue_safety).
+    files = sorted(f for f in os.listdir(path) if f != ".starkiln-parts.json")
     assert files == [f"part.{i:05d}.parquet" for i in range(len(files))]
+    assert (Path(path) / ".starkiln-parts.json").is_file()
     return pq.read_table(path).to_pandas(types_mapper=pd.ArrowDtype)
 
 
@@ -97,16 +100,19 @@ def test_existing_scheduler_address_and_force(tmp_path):
     with distributed.LocalCluster(n_workers=1, threads_per_worker=1, processes=False,
                                   dashboard_address=None) as cluster:
         out = tmp_path / "out"
-        out.mkdir()
-        (out / "stale.parquet").write_bytes(b"old")
+        # An earlier run's folder (more parts than this run writes): --force replaces it.
+        colour_catalogue_dask(make_parts(tmp_path / "earlier", n_files=3, rows=300), out, plan,
+                              scheduler=cluster.scheduler_address)
+        stale = "part.00002.parquet"
+        assert (out / stale).exists()
         with pytest.raises(Exception, match="--force"):
             colour_catalogue_dask(src, out, plan, scheduler=cluster.scheduler_address)
         colour_catalogue_dask(str(src / "*.parquet"), out, plan,
                               scheduler=cluster.scheduler_address, overwrite=True)
-    assert not (out / "stale.parquet").exists()
+    assert not (out / stale).exists()
     assert_same(tmp_path / "local.parquet", out)
     # No temporary folder is left beside the output.
-    assert sorted(os.listdir(tmp_path)) == ["in", "local.parquet", "out"]
+    assert sorted(os.listdir(tmp_path)) == ["earlier", "in", "local.parquet", "out"]
 
 
 def test_cli_local_cluster_on_loopback(tmp_path, capsys):

@@ -208,6 +208,10 @@ def check_columns(names: list[str], plan: CataloguePlan, where: str = "input") -
         what = "column" if len(missing) == 1 else "columns"
         raise StarkilnError(f"{where}: no {what} {', '.join(repr(m) for m in missing)}; "
                             f"columns found: {found}")
+    twice = [n for n in plan.input_columns if names.count(n) > 1]
+    if twice:
+        raise StarkilnError(f"{where}: column(s) {', '.join(repr(n) for n in twice)} appear "
+                            "more than once; accepted: one column of each name the plan reads")
     clash = [n for n in plan.output_columns if n in names]
     if clash:
         raise StarkilnError(f"{where}: already has column(s) {', '.join(clash)}; choose a "

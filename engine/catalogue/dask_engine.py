@@ -4,9 +4,12 @@
 partitions (files in natural order); every partition goes through
 :func:`starkiln.engine.catalogue.colouring.colour_partition` (which calls the same
 :func:`starkiln.engine.catalogue.colouring.colour_values` as the single-machine path) and is
-written by its worker as ``part.NNNNN.parquet`` into a temporary folder
-beside the output; when every part is written, the folder is renamed to the
-output name. Read in order, the parts hold the rows of the single-machine
+written by its worker as ``part.NNNNN.parquet`` into a new folder beside the
+output (made by ``mkdir``, so it follows the umask); when every part is written,
+the manifest :data:`starkiln.engine.catalogue.output_guard.MANIFEST_NAME` that lists
+them is added and the folder is renamed to the output name. ``--force`` replaces
+only a folder a run like this wrote (marked, nothing else in it), and never an
+input (:mod:`starkiln.engine.catalogue.output_guard`). Read in order, the parts hold the rows of the single-machine
 output, in the same order, with the same values.
 
 The scheduler is a ``distributed.LocalCluster`` on this machine (loopback
@@ -20,7 +23,6 @@ from __future__ import annotations
 import dataclasses
 import os
 import shutil
-import tempfile
 import time
 from pathlib import Path
 
@@ -29,6 +31,9 @@ import numpy as np
 from starkiln.engine.catalogue.colouring import colour_partition
 from starkiln.engine.catalogue.columns import output_schema
 from starkiln.engine.catalogue.formats import FORMATS, first_line, format_of, input_files
+from starkiln.engine.catalogue.output_guard import (check_replaceable, folder_beside,
+                                                    refuse_same_file, remove_marked_folder,
+                                                    write_manifest)
 from starkiln.engine.catalogue.plan import STATUSES, CataloguePlan, status_counts
 from starkiln.engine.catalogue.run import Summary, progress_bar
 from starkiln.engine.catalogue.streaming import parquet_writer
@@ -126,6 +131,12 @@ def colour_catalogue_dask(input_spec, output, plan: CataloguePlan, *, overwrite:
                                 "glob of .parquet files)")
     output = Path(output)
     _check_output_folder(output, overwrite)
+    refuse_same_file(files, output, folder_output=True)
+    if output.is_symlink():
+        raise StarkilnError(f"{output} is a symbolic link; accepted: a folder path that is "
+                            "not a link (--force replaces a folder, never a link's target)")
+    if output.exists():
+        check_replaceable(output)
     try:
         schema_in = pq.read_schema(files[0])
     except Exception as exc:
@@ -174,8 +185,7 @@ def colour_catalogue_dask(input_spec, output, plan: CataloguePlan, *, overwrite:
         cluster = LocalCluster(n_workers=workers, threads_per_worker=1, processes=processes,
                                dashboard_address=None, **where)
         client = Client(cluster)
-    parent = output.parent if str(output.parent) else Path(".")
-    tmp = Path(tempfile.mkdtemp(dir=parent, prefix=f".{output.name}."))
+    tmp = folder_beside(output)
     try:
         with dask.config.set({"dataframe.convert-string": False}):
             kwargs = {"blocksize": blocksize} if blocksize else {}
@@ -184,14 +194,16 @@ def colour_catalogue_dask(input_spec, output, plan: CataloguePlan, *, overwrite:
             meta = colour_partition(ddf._meta, plan)
             coloured = ddf.map_partitions(colour_partition, plan, meta=meta)
             parts = coloured.to_delayed()
-        tasks = [dask.delayed(write_part)(p, str(tmp / f"part.{i:05d}.parquet"), schema)
-                 for i, p in enumerate(parts)]
+        names = [f"part.{i:05d}.parquet" for i in range(len(parts))]
+        tasks = [dask.delayed(write_part)(p, str(tmp / name), schema)
+                 for name, p in zip(names, parts)]
         futures = client.compute(tasks)
         counts = np.zeros(len(STATUSES), dtype=np.int64)
         with progress_bar(len(futures), progress, unit="part") as bar:
             for fut in as_completed(futures):
                 counts += fut.result()
                 bar.update(1)
+        write_manifest(tmp, names, plan)
         _replace_folder(tmp, output, overwrite)
     except BaseException:
         shutil.rmtree(tmp, ignore_errors=True)
@@ -206,13 +218,22 @@ def colour_catalogue_dask(input_spec, output, plan: CataloguePlan, *, overwrite:
 
 
 def _replace_folder(tmp: Path, output: Path, overwrite: bool) -> None:
-    """Rename the finished temporary folder to ``output`` (replacing an old one)."""
-    if output.exists():
+    """Rename the finished folder ``tmp`` to ``output``; an old output (checked again here:
+    marked, nothing unlisted) is moved aside first and only its listed files are deleted."""
+    if output.exists() or output.is_symlink():
         if not overwrite:
             raise StarkilnError(f"{output} exists; pass --force to overwrite it")
-        old = Path(tempfile.mkdtemp(dir=output.parent, prefix=f".{output.name}.old."))
+        if output.is_symlink() or not output.is_dir():
+            raise StarkilnError(f"{output} is not a folder; --engine dask writes a folder of "
+                                "Parquet parts")
+        names = check_replaceable(output)
+        old = folder_beside(output, "old")
         os.replace(output, old / output.name)
         os.replace(tmp, output)
-        shutil.rmtree(old, ignore_errors=True)
+        remove_marked_folder(old / output.name, names)
+        try:
+            os.rmdir(old)
+        except OSError:
+            pass
     else:
         os.replace(tmp, output)

@@ -139,7 +139,10 @@ def first_line(exc: BaseException) -> str:
     are one line naming the value and what is accepted, with this line in brackets.
     """
     text = str(exc).strip().splitlines()
-    return text[0] if text else type(exc).__name__
+    line = text[0] if text else type(exc).__name__
+    # Readers quote the bytes they choked on: keep the line printable and short.
+    line = "".join(c if c.isprintable() else "?" for c in line)
+    return line if len(line) <= 160 else line[:157] + "..."
 
 
 def arrow_to_astropy(table):
@@ -167,9 +170,10 @@ def _arrow_to_astropy(table):
     import pyarrow as pa
     from astropy.table import Column, MaskedColumn, Table
 
+    check_astropy_names(table.column_names)
     cols = []
-    for name in table.column_names:
-        arr = table.column(name).combine_chunks()
+    for index, name in enumerate(table.column_names):
+        arr = table.column(index).combine_chunks()
         if pa.types.is_dictionary(arr.type):
             arr = arr.cast(arr.type.value_type)
         mask = None
@@ -256,13 +260,83 @@ def read_astropy(path: Path, fmt: str):
     import warnings
 
     try:
-        with warnings.catch_warnings(), astropy_guard():
-            warnings.simplefilter("ignore")
+        with warnings.catch_warnings(record=True) as caught, astropy_guard():
+            warnings.simplefilter("always")
             from astropy.table import Table
 
-            return Table.read(str(path), format=_ASTROPY_FORMATS[fmt])
+            if fmt == "votable":  # the names as written (Table.read renames repeats)
+                from astropy.io.votable import parse
+
+                vot = parse(str(path)).get_first_table()
+                names = [f.name for f in vot.fields]
+                table = vot.to_table(use_names_over_ids=True)
+            else:
+                table = Table.read(str(path), format=_ASTROPY_FORMATS[fmt])
+                names = _ecsv_names(path) if fmt == "ecsv" else list(table.colnames)
+        cut = [w for w in caught if "truncated" in str(w.message)]
+        if cut:  # astropy reads what is there of a cut FITS file and only warns
+            raise StarkilnError(f"{path}: cannot read as {fmt.upper()} (the file is cut "
+                                f"short: {first_line(cut[0].message)})")
+    except StarkilnError:
+        raise
     except Exception as exc:  # astropy raises many kinds for unreadable files
         raise StarkilnError(f"{path}: cannot read as {fmt.upper()} ({first_line(exc)})") from None
+    check_astropy_names(names, str(path))
+    if list(table.colnames) != names:  # astropy renamed a column some other way
+        raise StarkilnError(f"{path}: column names {names} would be read as "
+                            f"{list(table.colnames)}; accepted: unique names")
+    return table
+
+
+def _ecsv_names(path: Path) -> list[str]:
+    """The column names an ECSV header declares (its YAML ``datatype`` list)."""
+    import yaml
+
+    lines = []
+    with open(path, encoding="utf-8") as fh:
+        for line in fh:
+            if not line.startswith("#"):
+                break
+            lines.append(line[1:].removeprefix(" "))
+    text = "".join(lines)
+    header = yaml.safe_load(text.split("---", 1)[1]) if "---" in text else None
+    return [str(d["name"]) for d in header["datatype"]]
+
+
+def check_astropy_names(names, where: str = "table", fmt: str | None = None) -> None:
+    """Refuse column names astropy would change: repeated or empty names (astropy renames a
+    repeated name to ``NAME_1``/``NAME_2``, and cannot write an empty one).
+
+    Parameters
+    ----------
+    names : list of str
+        Column names, in order.
+    where : str
+        What to name in the message (the input file).
+    fmt : str, optional
+        The output format, named in the message.
+
+    Raises
+    ------
+    starkiln.engine.errors.StarkilnError
+        One line naming the repeated or empty names.
+    """
+    seen, repeated = set(), []
+    for n in names:
+        if n in seen and n not in repeated:
+            repeated.append(n)
+        seen.add(n)
+    empty = [i + 1 for i, n in enumerate(names) if not str(n).strip()]
+    if not repeated and not empty:
+        return
+    into = f" into {fmt.upper()}" if fmt else ""
+    what = []
+    if repeated:
+        what.append("repeated column name(s) " + ", ".join(repr(n) for n in repeated))
+    if empty:
+        what.append("empty column name(s) at position(s) " + ", ".join(map(str, empty)))
+    raise StarkilnError(f"{where}: {'; '.join(what)} cannot be carried{into} unchanged; "
+                        "accepted: unique, non-empty names (CSV and Parquet output keep them)")
 
 
 def write_astropy(table, tmp: Path, fmt: str) -> None:
@@ -281,4 +355,9 @@ def write_astropy(table, tmp: Path, fmt: str) -> None:
 
     with warnings.catch_warnings(), astropy_guard():
         warnings.simplefilter("ignore")
-        table.write(str(tmp), format=_ASTROPY_FORMATS[fmt], overwrite=True)
+        try:
+            table.write(str(tmp), format=_ASTROPY_FORMATS[fmt], overwrite=True)
+        except UnicodeEncodeError:  # FITS holds ASCII text only (FITS Standard 4.0, 7.3.3)
+            raise StarkilnError(f"a text column holds characters that are not ASCII, and "
+                                f"{fmt.upper()} text is ASCII only; accepted: ASCII text, or "
+                                "another output format (CSV, ECSV, VOTable, Parquet)") from None

@@ -1,11 +1,15 @@
 """Colouring a catalogue file on this machine: read, colour every row, write atomically.
 
 :func:`colour_catalogue` picks the route by format: Parquet files (one, a
-folder or a glob) and CSV files above :data:`CSV_STREAM_BYTES` are streamed in
-chunks of ``chunk_rows`` rows through pyarrow
-(:mod:`starkiln.engine.catalogue.streaming`), so memory stays flat whatever the
-row count when the output is Parquet or CSV; other files are read whole by
-astropy (:mod:`starkiln.engine.catalogue.formats`) and coloured chunk by chunk.
+folder or a glob) and CSV files go through pyarrow
+(:mod:`starkiln.engine.catalogue.streaming`; every CSV column read as text, kept
+exactly as written). CSV files above :data:`CSV_STREAM_BYTES` and Parquet are
+streamed in chunks of ``chunk_rows`` rows, so memory stays flat whatever the
+row count when the output is Parquet or CSV; ECSV, FITS and VOTable files are
+read whole by astropy (:mod:`starkiln.engine.catalogue.formats`) and coloured
+chunk by chunk. CSV output is written by one writer whatever the route. The
+output may not be one of the inputs
+(:func:`starkiln.engine.catalogue.output_guard.refuse_same_file`).
 Every chunk goes through the same per-chunk function
 (:func:`starkiln.engine.catalogue.colouring.colour_values`); every write goes
 through :mod:`starkiln.engine.atomic` (a temporary file beside the output,
@@ -25,13 +29,15 @@ import numpy as np
 from starkiln.engine.catalogue.colouring import colour_arrow, colour_values
 from starkiln.engine.catalogue.columns import check_columns, numpy_values, output_schema
 from starkiln.engine.catalogue.formats import (astropy_guard, astropy_to_arrow,
-                                               arrow_to_astropy, format_of, input_files,
-                                               read_astropy, write_astropy)
+                                               arrow_to_astropy, check_astropy_names,
+                                               format_of, input_files, read_astropy,
+                                               write_astropy)
+from starkiln.engine.catalogue.output_guard import refuse_same_file
 from starkiln.engine.catalogue.plan import EXTRAPOLATED, STATUSES, CataloguePlan, status_counts
-from starkiln.engine.catalogue.streaming import CsvTypeDrift, CsvWriter, StreamSource, parquet_writer
+from starkiln.engine.catalogue.streaming import CsvWriter, StreamSource, parquet_writer
 from starkiln.engine.errors import StarkilnError
 
-#: CSV files larger than this are streamed through pyarrow instead of read whole by astropy.
+#: CSV files larger than this are read in blocks (streamed) instead of whole.
 CSV_STREAM_BYTES = 32 * 1024 * 1024
 DEFAULT_CHUNK_ROWS = 1 << 17
 
@@ -132,38 +138,35 @@ def colour_catalogue(input_spec, output, plan: CataloguePlan, *, overwrite: bool
     if fmts or (len(files) > 1 and fmt_in != "parquet"):
         raise StarkilnError(f"{input_spec}: a folder or glob must hold Parquet files only")
     fmt_out = format_of(output, "output")
+    if Path(output).is_dir():
+        raise StarkilnError(f"{output} is a folder; accepted: a file path (a folder of parts "
+                            "only with --engine dask)")
     check_writable(output, overwrite)
+    refuse_same_file(files, output)
     if csv_stream_bytes is None:
         csv_stream_bytes = CSV_STREAM_BYTES
-    streamed = fmt_in == "parquet" or (fmt_in == "csv"
-                                       and files[0].stat().st_size > csv_stream_bytes)
-    if streamed:
+    if fmt_in in ("parquet", "csv"):
+        whole = fmt_in == "csv" and files[0].stat().st_size <= csv_stream_bytes
         rows, counts = _run_stream(files, fmt_in, Path(output), fmt_out, plan, overwrite,
-                                   progress, int(chunk_rows))
+                                   progress, int(chunk_rows), whole)
     else:
         rows, counts = _run_astropy(files[0], fmt_in, Path(output), fmt_out, plan, overwrite,
                                     progress, int(chunk_rows))
     return Summary(rows, status_counts(counts), time.perf_counter() - t0, str(output))
 
 
-def _run_stream(files, fmt_in, output, fmt_out, plan, overwrite, progress, chunk_rows):
+def _run_stream(files, fmt_in, output, fmt_out, plan, overwrite, progress, chunk_rows,
+                whole=False):
     from starkiln.engine.atomic import atomic_path
 
-    source = StreamSource(files, fmt_in, plan, chunk_rows)
+    source = StreamSource(files, fmt_in, plan, chunk_rows, whole=whole)
     schema = output_schema(source.schema, plan, str(files[0]))
+    if fmt_out not in ("parquet", "csv"):
+        check_astropy_names(schema.names, str(files[0]), fmt_out)
     plan = plan.for_rows(source.num_rows)
     source.plan = plan
     with atomic_path(output, overwrite) as tmp:
-        for attempt in (0, 1):
-            try:
-                return _stream_once(source, schema, tmp, fmt_out, plan, progress)
-            except CsvTypeDrift:
-                if attempt:
-                    raise StarkilnError(f"{files[0]}: cannot read as CSV (column types "
-                                        "change within the file)") from None
-                source = source.text_version()
-                schema = output_schema(source.schema, plan, str(files[0]))
-    raise AssertionError("unreachable")  # pragma: no cover
+        return _stream_once(source, schema, tmp, fmt_out, plan, progress)
 
 
 def _stream_once(source, schema, tmp, fmt_out, plan, progress):
@@ -207,10 +210,6 @@ def _stream_once(source, schema, tmp, fmt_out, plan, progress):
     return rows, counts
 
 
-def _float32_text(value) -> str:
-    return str(np.float32(value))
-
-
 def _run_astropy(path, fmt_in, output, fmt_out, plan, overwrite, progress, chunk_rows):
     with astropy_guard():
         return _run_astropy_guarded(path, fmt_in, output, fmt_out, plan, overwrite, progress,
@@ -245,12 +244,10 @@ def _run_astropy_guarded(path, fmt_in, output, fmt_out, plan, overwrite, progres
             table[name] = MaskedColumn(data, mask=blank)
         table[plan.output_columns[4]] = np.array(STATUSES)[codes] if n else \
             np.array([], dtype="<U22")
-        if fmt_out == "csv":  # shortest text of the float32 values, not of their float64 form
-            for name in plan.output_columns[:4]:
-                table[name].format = _float32_text
-        if fmt_out == "parquet":  # the same writer as the streamed path (nulls, not masks)
+        if fmt_out in ("parquet", "csv"):  # the same writers as the streamed path
             arrow = astropy_to_arrow(table)
-            writer = parquet_writer(tmp, arrow.schema)
+            writer = parquet_writer(tmp, arrow.schema) if fmt_out == "parquet" else \
+                CsvWriter(tmp, arrow.schema)
             try:
                 writer.write_table(arrow)
             finally:
