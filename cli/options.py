@@ -72,11 +72,11 @@ def add_colour_options(p: argparse.ArgumentParser) -> None:
                    help="mesopic (default: CIE 191 cone weight) or none (full colour, camera look)")
     instrument = v.add_mutually_exclusive_group()
     instrument.add_argument("--aperture-mm", type=number, metavar="D",
-                            help="instrument aperture in mm (default: naked eye)")
+                            help="instrument aperture in mm, 1-100000 (default: naked eye)")
     instrument.add_argument("--naked-eye", action="store_true", default=None,
                             help="no instrument: clears an aperture from --settings")
     v.add_argument("--transmission", type=number, metavar="T",
-                   help="instrument transmission, 0 < T <= 1 (default 1)")
+                   help="instrument transmission, 0.0001-1 (default 1)")
     v.add_argument("--pupil-mm", type=number, metavar="d", help="dark-adapted pupil, mm (default 7)")
     v.add_argument("--blur-spot-arcmin", type=number, metavar="A",
                    help="diameter of the effective star image, arcmin (default 6)")

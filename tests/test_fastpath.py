@@ -219,3 +219,34 @@ def test_cache_key_follows_code_anywhere_in_the_engine(tmp_path, monkeypatch):
     before = cache_file(settings)
     module.write_text("STEP_NM = 5.0\n")
     assert cache_file(settings) != before
+
+
+@pytest.mark.parametrize("damage", ["truncated", "empty", "not-a-zip", "nan"])
+def test_damaged_disk_cache_is_rebuilt_with_one_note(tmp_path, monkeypatch, capsys, damage):
+    # Issue 10: a truncated or corrupt cache is rebuilt with one line, never a traceback.
+    monkeypatch.setenv("STARKILN_CACHE_DIR", str(tmp_path))
+    settings = Settings(display="rec2020", gamut="scale")
+    colour_grid.cache_clear()
+    try:
+        first = colour_grid(settings)
+        path = cache_file(settings, False)
+        data = path.read_bytes()
+        if damage == "truncated":
+            path.write_bytes(data[: len(data) // 2])
+        elif damage == "empty":
+            path.write_bytes(b"")
+        elif damage == "not-a-zip":
+            path.write_bytes(b"this is not a numpy archive" * 10)
+        else:
+            bad = dict(np.load(path))
+            bad["values"] = np.full_like(bad["values"], np.nan)
+            np.savez(path, **bad)
+        capsys.readouterr()
+        colour_grid.cache_clear()
+        again = colour_grid(settings)
+    finally:
+        colour_grid.cache_clear()
+    err = capsys.readouterr().err.strip().splitlines()
+    assert len(err) == 1 and err[0].startswith("starkiln: note: colour grid cache")
+    np.testing.assert_array_equal(again.values, first.values)
+    assert np.load(cache_file(settings, False))["values"].shape == first.values.shape

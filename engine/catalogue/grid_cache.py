@@ -79,19 +79,33 @@ def cache_file(settings: Settings, with_magnitude: bool = False) -> Path:
 
 
 def _load_cached(settings: Settings, path: Path) -> ColourGrid | None:
+    """The cached grid, or None when there is none; a damaged file (truncated, not a zip,
+    wrong arrays) is reported in one line on stderr and rebuilt by the caller."""
+    import sys
+
+    from starkiln.engine.colour.cie_data import NPZ_READ_ERRORS
+
+    if not path.is_file():
+        return None
     try:
         with np.load(path) as data:
             mags = data["magnitude_nodes"] if "magnitude_nodes" in data else None
             slopes = data["slopes"] if "slopes" in data else None
             cells = data["exact_cells"] if "exact_cells" in data else None
-            return ColourGrid(settings, data["mired_nodes"], mags, data["values"], slopes,
+            grid = ColourGrid(settings, data["mired_nodes"], mags, data["values"], slopes,
                               cells)
-    except (OSError, KeyError, ValueError):
+        if not (np.all(np.isfinite(grid.values)) and np.all(np.isfinite(grid.mired_nodes))):
+            raise ValueError("values that are not finite")
+        return grid
+    except (*NPZ_READ_ERRORS, TypeError, IndexError) as exc:
+        problem = f"{type(exc).__name__}: {exc}".splitlines()[0][:120]
+        sys.stderr.write(f"starkiln: note: colour grid cache {path} is unreadable ({problem}); "
+                         "rebuilding it\n")
         return None
 
 
 def _save_cached(grid: ColourGrid, path: Path) -> None:
-    from starkiln.engine.colour.cie_data import write_npz_atomic
+    from starkiln.engine.atomic import write_npz_atomic
 
     arrays = {"mired_nodes": grid.mired_nodes, "values": grid.values}
     for name in ("magnitude_nodes", "slopes", "exact_cells"):
