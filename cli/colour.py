@@ -125,7 +125,8 @@ def cmd_whites(args, out) -> int:
 
     notes = {"D50": "CIE daylight, 5003 K (print viewing)", "D55": "CIE daylight, 5503 K",
              "D65": "CIE daylight, 6504 K (sRGB, Rec. 2020 white)", "D75": "CIE daylight, 7504 K",
-             "E": "equal-energy white", "DCI": "digital-cinema projector white (SMPTE RP 431-2)"}
+             "E": "equal-energy white", "DCI": "digital-cinema projector white (SMPTE RP 431-2)",
+             "ACES": "ACES white, about D60 (SMPTE ST 2065-1)"}
     for name in WHITE_PRESETS:
         w = resolve_white(name, "cie1931")
         out.write(f"{name:<5} x={w.xy[0]:.5f} y={w.xy[1]:.5f}  {notes[name]}\n")
@@ -134,13 +135,19 @@ def cmd_whites(args, out) -> int:
 
 
 def cmd_displays(args, out) -> int:
-    """``starkiln displays``: the display presets."""
-    from starkiln.engine.colour.displays import PRESET_NOTES, PRESETS
+    """``starkiln displays``: the display presets, then the scene-linear working spaces."""
+    from starkiln.engine.colour.displays import (PRESET_NOTES, PRESETS, WORKING_SPACE_NOTES,
+                                                 WORKING_SPACES)
 
+    out.write("displays (display-referred code values):\n")
     for name, d in PRESETS.items():
         tf = f"gamma {d.gamma:g}" if d.transfer == "gamma" else d.transfer
-        out.write(f"{name:<11} white {d.white_xy[0]:.4f},{d.white_xy[1]:.4f}  {tf:<9} "
+        out.write(f"  {name:<11} white {d.white_xy[0]:.4f},{d.white_xy[1]:.4f}  {tf:<9} "
                   f"{d.peak_luminance_cd_m2:g} cd/m2  {PRESET_NOTES[name]}\n")
+    out.write("working spaces (scene-linear, no transfer function, no gamut clip):\n")
+    for name, d in WORKING_SPACES.items():
+        out.write(f"  {name:<11} white {d.white_xy[0]:.5f},{d.white_xy[1]:.5f}  "
+                  f"{WORKING_SPACE_NOTES[name]}\n")
     out.write("also: a JSON display profile (see docs/formats.md, 'Display profiles (JSON)')\n")
     return 0
 

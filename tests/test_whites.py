@@ -63,7 +63,14 @@ def test_equal_energy_and_dci():
     # CIE 15:2004 section 3.1: E has x = y = 1/3; SMPTE RP 431-2:2011: DCI (0.314, 0.351).
     assert resolve_white("E").xy == pytest.approx((1 / 3, 1 / 3), abs=1e-15)
     assert resolve_white("dci").xy == pytest.approx((0.314, 0.351), abs=1e-15)
-    assert set(WHITE_PRESETS) == {"D50", "D55", "D65", "D75", "E", "DCI"}
+    assert set(WHITE_PRESETS) == {"D50", "D55", "D65", "D75", "E", "DCI", "ACES"}
+
+
+def test_aces_white_against_colour_science(colour):
+    # SMPTE ST 2065-1: the ACES white x = 0.32168, y = 0.33767 (colour-science's ACEScg and
+    # ACES2065-1 colourspaces carry the same whitepoint).
+    for space in (colour.models.RGB_COLOURSPACE_ACESCG, colour.models.RGB_COLOURSPACE_ACES2065_1):
+        assert resolve_white("ACES").xy == pytest.approx(tuple(space.whitepoint), abs=1e-12)
 
 
 def test_daylight_6504_against_colour_locus_formula(colour):

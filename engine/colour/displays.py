@@ -44,9 +44,13 @@ from pathlib import Path
 import numpy as np
 
 from starkiln.engine.colour.observers import xy_to_XYZ
+from starkiln.engine.colour.whites import ACES_WHITE_XY
 from starkiln.engine.errors import SettingsError, finite_number, plain_type_name, shown_value
 
 TRANSFERS = ("srgb", "gamma", "linear", "pq")
+#: What a target is: a ``display`` (display-referred code values) or a ``working-space``
+#: (scene-linear RGB of a render or compositing pipeline, no transfer function).
+KINDS = ("display", "working-space")
 PROFILE_FORMAT = 1
 
 
@@ -62,18 +66,32 @@ class Display:
     transfer: str = "srgb"
     gamma: float = 2.2
     peak_luminance_cd_m2: float = 80.0
+    kind: str = "display"  # or "working-space": scene-linear, primaries may lie outside the locus
 
     def __post_init__(self):
         if not isinstance(self.name, str):
             raise SettingsError(f"display name {self.name!r} is {plain_type_name(self.name)}; "
                                 "accepted: text")
         where = f"display {self.name!r}"
+        if self.kind not in KINDS:
+            raise SettingsError(f"{where}: kind {shown_value(self.kind)} unknown; accepted: "
+                                f"{', '.join(KINDS)}")
+        working = self.kind == "working-space"
         for field in ("red_xy", "green_xy", "blue_xy", "white_xy"):
             pair = xy_pair(getattr(self, field), f"{where}: {field}", text=True)
-            if not (0.0 < pair[0] < 1.0 and 0.0 < pair[1] < 1.0 and pair[0] + pair[1] <= 1.0 + 1e-12):
+            if working and field != "white_xy":
+                # Working-space primaries may be imaginary (ACES AP0's blue has y < 0): any
+                # finite point of the xy plane with y != 0 ([ST2065-1]).
+                if not (abs(pair[0]) < 10.0 and abs(pair[1]) < 10.0 and pair[1] != 0.0):
+                    raise SettingsError(f"{where}: {field} {list(pair)} is not a usable "
+                                        "primary (finite x, y with y != 0)")
+            elif not (0.0 < pair[0] < 1.0 and 0.0 < pair[1] < 1.0 and pair[0] + pair[1] <= 1.0 + 1e-12):
                 raise SettingsError(f"{where}: {field} {list(pair)} is not a chromaticity "
                                     "(0 < x, 0 < y, x + y <= 1)")
             object.__setattr__(self, field, pair)
+        if working and self.transfer != "linear":
+            raise SettingsError(f"{where}: a working space is scene-linear; accepted transfer: "
+                                "linear")
         if not isinstance(self.transfer, str) or self.transfer not in TRANSFERS:
             raise SettingsError(f"{where}: transfer {self.transfer!r} unknown; accepted: "
                                 f"{', '.join(TRANSFERS)}")
@@ -108,7 +126,7 @@ class Display:
             "white_xy": list(d["white_xy"]),
             "transfer": transfer,
             "peak_luminance_cd_m2": self.peak_luminance_cd_m2,
-        }
+        } | ({"kind": self.kind} if self.kind != "display" else {})
 
     @property
     def rgb_to_XYZ(self) -> np.ndarray:
@@ -184,7 +202,7 @@ def _check_keys(data: dict, known, where: str, not_a_table: str = "must be a tab
 
 #: Keys of the ``[display]`` table of a settings file (the fields of :class:`Display`).
 TABLE_KEYS = ("name", "red_xy", "green_xy", "blue_xy", "white_xy", "transfer", "gamma",
-              "peak_luminance_cd_m2")
+              "peak_luminance_cd_m2", "kind")
 
 
 def display_from_table(data: dict, where: str = "display") -> Display:
@@ -221,6 +239,8 @@ def display_from_table(data: dict, where: str = "display") -> Display:
     for k in ("gamma", "peak_luminance_cd_m2"):
         if k in data:
             kw[k] = _typed(data[k], float, f"{where}: {k}", "a number")
+    if "kind" in data:
+        kw["kind"] = _typed(data["kind"], str, f"{where}: kind", ", ".join(KINDS))
     try:
         return Display(**kw)
     except SettingsError as exc:
@@ -253,6 +273,31 @@ PRESETS: dict[str, Display] = {
     "rec2100-pq": Display("rec2100-pq", *_BT2020, D65_4DIGIT, "pq", 2.2, 1000.0),
 }
 
+_AP0 = ((0.7347, 0.2653), (0.0, 1.0), (0.0001, -0.0770))  # [ST2065-1]
+_AP1 = ((0.713, 0.293), (0.165, 0.830), (0.128, 0.044))  # [S-2014-004] (ACEScg)
+
+#: Scene-linear working spaces, targets beside the displays: no transfer function, no gamut
+#: clip unless one is asked for. Peak luminance is the reference white's, for the night-vision
+#: model's dome compensation only.
+WORKING_SPACES: dict[str, Display] = {
+    "lin-srgb": Display("lin-srgb", (0.64, 0.33), (0.30, 0.60), (0.15, 0.06), D65_4DIGIT,
+                        "linear", 2.2, 100.0, "working-space"),
+    "lin-p3-d65": Display("lin-p3-d65", *_P3, D65_4DIGIT, "linear", 2.2, 100.0, "working-space"),
+    "lin-rec2020": Display("lin-rec2020", *_BT2020, D65_4DIGIT, "linear", 2.2, 100.0,
+                           "working-space"),
+    "acescg": Display("acescg", *_AP1, ACES_WHITE_XY, "linear", 2.2, 100.0, "working-space"),
+    "aces2065-1": Display("aces2065-1", *_AP0, ACES_WHITE_XY, "linear", 2.2, 100.0,
+                          "working-space"),
+}
+
+WORKING_SPACE_NOTES = {
+    "lin-srgb": "scene-linear, Rec. 709 / sRGB primaries, D65 (ITU-R BT.709)",
+    "lin-p3-d65": "scene-linear, P3 primaries, D65 (SMPTE EG 432-1)",
+    "lin-rec2020": "scene-linear, Rec. 2020 primaries, D65 (ITU-R BT.2020)",
+    "acescg": "ACEScg: scene-linear, ACES AP1 primaries, ACES white (Academy S-2014-004)",
+    "aces2065-1": "ACES2065-1: scene-linear, ACES AP0 primaries, ACES white (SMPTE ST 2065-1)",
+}
+
 PRESET_NOTES = {
     "srgb": "IEC 61966-2-1 monitors and the web",
     "display-p3": "P3 primaries, D65 white, sRGB curve (wide-gamut monitors)",
@@ -279,7 +324,7 @@ def display_from_profile(data: dict, source: str = "profile") -> Display:
     RFC 8259 (JSON); the field sources in the module docstring.
     """
     known = ("starkiln_display", "name", "primaries_xy", "white_xy", "transfer",
-             "peak_luminance_cd_m2", "note")
+             "peak_luminance_cd_m2", "note", "kind")
     _check_keys(data, known, source, "a display profile must be a JSON object")
     version = data.get("starkiln_display", PROFILE_FORMAT)
     if isinstance(version, bool) or not isinstance(version, int) or version != PROFILE_FORMAT:
@@ -317,8 +362,9 @@ def display_from_profile(data: dict, source: str = "profile") -> Display:
     name = _typed(data.get("name", Path(source).stem), str, f"{source}: name", "text")
     if "note" in data:
         _typed(data["note"], str, f"{source}: note", "text")
+    kind = _typed(data.get("kind", "display"), str, f"{source}: kind", ", ".join(KINDS))
     try:
-        return Display(name, *pairs, white, fn, gamma, peak)
+        return Display(name, *pairs, white, fn, gamma, peak, kind)
     except SettingsError as exc:
         raise SettingsError(f"{source}: {exc}") from None
 
@@ -379,10 +425,13 @@ def get_display(spec) -> Display:
     text = str(spec).strip()
     if text.lower() in PRESETS:
         return PRESETS[text.lower()]
+    if text.lower() in WORKING_SPACES:
+        return WORKING_SPACES[text.lower()]
     if text.lower().endswith(".json"):
         return load_display_profile(text)
-    raise SettingsError(f"unknown display {text!r}; accepted: {', '.join(PRESETS)} or a "
-                        "path to a .json display profile")
+    raise SettingsError(f"unknown display {text!r}; accepted: {', '.join(PRESETS)}, the "
+                        f"working spaces {', '.join(WORKING_SPACES)}, or a path to a .json "
+                        "display profile")
 
 
 # --- transfer functions --------------------------------------------------------------------

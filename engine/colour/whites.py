@@ -69,7 +69,9 @@ _D_NOMINAL_K = {"D50": 5000.0, "D55": 5500.0, "D65": 6500.0, "D75": 7500.0}
 _C2_RATIO = 1.4388 / 1.4380
 #: DCI projector white ([RP431-2], section 7.8).
 DCI_WHITE_XY = (0.314, 0.351)
-WHITE_PRESETS = ("D50", "D55", "D65", "D75", "E", "DCI")
+#: ACES white, x = 0.32168, y = 0.33767 ([ST2065-1]; about D60, not a CIE daylight).
+ACES_WHITE_XY = (0.32168, 0.33767)
+WHITE_PRESETS = ("D50", "D55", "D65", "D75", "E", "DCI", "ACES")
 DAYLIGHT_RANGE_K = (4000.0, 25000.0)
 
 
@@ -210,7 +212,7 @@ def resolve_white(spec: str, observer: str = "cie1931") -> White:
     text = str(spec).strip()
     head, sep, rest = text.partition(":")
     key = head.strip().upper()
-    accepted = ("accepted: D50, D55, D65, D75, E, DCI, daylight:<4000-25000 K>, "
+    accepted = ("accepted: D50, D55, D65, D75, E, DCI, ACES, daylight:<4000-25000 K>, "
                 "blackbody:<500-100000 K>, xy:<x>,<y>")
     if not sep:
         if key in _D_NOMINAL_K:
@@ -220,6 +222,8 @@ def resolve_white(spec: str, observer: str = "cie1931") -> White:
             return White("E", (1.0 / 3.0, 1.0 / 3.0))
         if key == "DCI":
             return White("DCI", DCI_WHITE_XY)
+        if key == "ACES":
+            return White("ACES", ACES_WHITE_XY)
         raise SettingsError(f"unknown white {text!r}; {accepted}")
     kind = head.strip().lower()
     if kind == "daylight":

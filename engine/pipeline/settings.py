@@ -182,7 +182,8 @@ class Settings:
             v = getattr(self, f.name)
             if isinstance(v, Display):
                 v = {k: (list(x) if isinstance(x, tuple) else x)
-                     for k, x in dataclasses.asdict(v).items()}
+                     for k, x in dataclasses.asdict(v).items()
+                     if not (k == "kind" and x == "display")}  # files of displays unchanged
             if v is None:
                 continue  # TOML has no null: an absent key means the default (None)
             d[f.name] = v
