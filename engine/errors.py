@@ -123,6 +123,36 @@ def read_text_file(path, kind: str) -> str:
                             f"at offset {exc.start}); accepted: a UTF-8 text file") from None
 
 
+def parse_json(text: str, where: str, accepted: str, error=None):
+    """Parse JSON text, or raise a one-line error naming ``where`` (never a traceback).
+
+    Parameters
+    ----------
+    text : str
+        The JSON text.
+    where : str
+        What the message names first (``"dome.json"``, ``"out.png: 'starkiln' metadata"``).
+    accepted : str
+        What an over-deep document should have been (``"a display profile as in the user
+        guide (a few levels)"``).
+    error : type, optional
+        The :class:`StarkilnError` subclass to raise (default :class:`SettingsError`).
+
+    References
+    ----------
+    [RFC8259] (JSON); Python's ``json`` module raises RecursionError for very deep nesting.
+    """
+    import json
+
+    error = SettingsError if error is None else error
+    try:
+        return json.loads(text)
+    except json.JSONDecodeError as exc:
+        raise error(f"{where}: not valid JSON (line {exc.lineno}: {exc.msg})") from None
+    except RecursionError:
+        raise error(f"{where}: nested too deeply to read; accepted: {accepted}") from None
+
+
 def shown_value(value) -> str:
     """A parsed file value as a message shows it: ``true``/``false`` as in TOML and JSON, else
     its ``repr`` (text quoted, lists and tables as written).

@@ -379,17 +379,11 @@ def load_display_profile(path) -> Display:
     ----------
     RFC 8259 (JSON).
     """
-    from starkiln.engine.errors import read_text_file
+    from starkiln.engine.errors import parse_json, read_text_file
 
     path = Path(path)
-    text = read_text_file(path, "display profile")
-    try:
-        data = json.loads(text)
-    except json.JSONDecodeError as exc:
-        raise SettingsError(f"{path}: not valid JSON (line {exc.lineno}: {exc.msg})") from None
-    except RecursionError:
-        raise SettingsError(f"{path}: nested too deeply to read; accepted: a display profile "
-                            "as in the user guide (a few levels)") from None
+    data = parse_json(read_text_file(path, "display profile"), str(path),
+                      "a display profile as in the user guide (a few levels)")
     return display_from_profile(data, str(path))
 
 

@@ -259,14 +259,10 @@ def _scan_png_text(reader, want: bytes):
 
 def read_embedded_json(path, key: str = "starkiln") -> dict:
     """The JSON object stored under ``key`` (see :func:`read_embedded_text`)."""
-    text = read_embedded_text(path, key)
-    try:
-        data = json.loads(text)
-    except json.JSONDecodeError as exc:
-        raise StarkilnError(f"{path}: {key!r} metadata is not valid JSON ({exc.msg})") from None
-    except RecursionError:
-        raise StarkilnError(f"{path}: {key!r} metadata is nested too deeply to read; accepted: "
-                            "the metadata 'starkiln lut' writes") from None
+    from starkiln.engine.errors import parse_json
+
+    data = parse_json(read_embedded_text(path, key), f"{path}: {key!r} metadata",
+                      "the metadata 'starkiln lut' writes", StarkilnError)
     if not isinstance(data, dict):
         raise StarkilnError(f"{path}: {key!r} metadata is not a JSON object")
     return data
