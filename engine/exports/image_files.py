@@ -20,7 +20,6 @@ characters, a null separator, Latin-1 text); [OpenEXR] technical introduction
 
 from __future__ import annotations
 
-import json
 from pathlib import Path
 
 import numpy as np
