@@ -37,6 +37,8 @@ when the platform reports none, common practice for desktop monitors).
 
 from __future__ import annotations
 
+from functools import lru_cache
+
 import numpy as np
 
 from starkiln.engine.colour.displays import (D65_4DIGIT, PRESETS, TRANSFERS, Display,
@@ -91,10 +93,19 @@ def monitor_matrix(display: Display, monitor: Display) -> np.ndarray | None:
     ----------
     [RP177] section 3.3; [Lam1985]; [ICC1] Annex E (from memory).
     """
+    return _matrix(display, monitor)
+
+
+@lru_cache(maxsize=32)
+def _matrix(display: Display, monitor: Display) -> np.ndarray | None:
+    """:func:`monitor_matrix`, kept per pair (a slider step converts a few colours only, and
+    building the matrix would cost more than using it)."""
     if _same_colorimetry(display, monitor):
         return None
     adapt = adaptation_matrix(display.white_XYZ, monitor.white_XYZ, MONITOR_ADAPTATION)
-    return monitor.XYZ_to_rgb @ adapt @ display.rgb_to_XYZ
+    m = monitor.XYZ_to_rgb @ adapt @ display.rgb_to_XYZ
+    m.flags.writeable = False
+    return m
 
 
 def monitor_rgb_8bit(rgb_linear_display, display, monitor=SRGB_MONITOR):
