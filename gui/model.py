@@ -367,11 +367,6 @@ class WindowModel:
         """The monitor the window paints on (the swatches' colours are for it)."""
         return self._monitor
 
-    @property
-    def monitor_source(self) -> str:
-        """How the monitor was found (``"assumed; the platform reports none"``...)."""
-        return self._monitor_source
-
     def monitor_clipped_count(self) -> int:
         """How many swatches the monitor cannot show: the current and night swatches, the
         magnitude strip's and the temperature strip's cells, clipped by the monitor."""
