@@ -36,6 +36,10 @@ def build_parser() -> argparse.ArgumentParser:
                    help="with no command: open the window with these settings")
     p.add_argument("--temperature", dest="window_temperature", type=number, metavar="K",
                    help="with no command: open the window at this temperature")
+    p.add_argument("--monitor", dest="window_monitor", metavar="NAME|PROFILE.json",
+                   help="with no command: the monitor the window paints for (a display preset "
+                        "or a .json display profile; default: what the platform reports, else "
+                        "sRGB)")
     sub = p.add_subparsers(dest="command", parser_class=Parser)
     for module in COMMAND_MODULES:
         module.add_parsers(sub)
@@ -44,7 +48,8 @@ def build_parser() -> argparse.ArgumentParser:
 
 #: Options that belong to the window only; with a subcommand they are an error, not ignored.
 WINDOW_OPTIONS = (("screenshot", "--screenshot"), ("window_settings", "--settings"),
-                  ("window_temperature", "--temperature"), ("window_force", "--force"))
+                  ("window_temperature", "--temperature"), ("window_force", "--force"),
+                  ("window_monitor", "--monitor"))
 
 
 class Terminated(BaseException):

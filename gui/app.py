@@ -2,7 +2,7 @@
 
 :func:`run` is called by :func:`starkiln.cli.main._launch_window` with the parsed
 top-level arguments (``screenshot``, ``window_settings``,
-``window_temperature``). Bad input raises :class:`starkiln.engine.errors.StarkilnError`,
+``window_temperature``, ``window_monitor``). Bad input raises :class:`starkiln.engine.errors.StarkilnError`,
 which the command line prints as one line with exit code 2.
 """
 
@@ -59,8 +59,17 @@ def _settings_and_temperature(settings_path, temperature_K):
     return settings, t
 
 
+def _monitor(spec):
+    """The ``--monitor`` display, or None (the window asks the platform)."""
+    if not spec:
+        return None
+    from starkiln.engine.colour.monitor import load_monitor
+
+    return load_monitor(spec)
+
+
 def screenshot(out, settings_path=None, temperature_K=None, size=(1280, 800),
-               theme: str | None = None, overwrite: bool = False) -> Path:
+               theme: str | None = None, overwrite: bool = False, monitor=None) -> Path:
     """Render the window offscreen at ``size`` and save it as a PNG (atomically).
 
     An existing ``out`` is replaced only with ``overwrite`` (``--force``), as every output.
@@ -74,6 +83,7 @@ def screenshot(out, settings_path=None, temperature_K=None, size=(1280, 800),
     if out.suffix.lower() != ".png":
         raise StarkilnError(f"--screenshot {out}: the picture is saved as .png")
     settings, t = _settings_and_temperature(settings_path, temperature_K)  # bad values first
+    monitor = _monitor(monitor)
     check_writable(out, overwrite=overwrite)
     from PySide6 import QtWidgets
 
@@ -90,7 +100,7 @@ def screenshot(out, settings_path=None, temperature_K=None, size=(1280, 800),
             sys.stderr.write(message + "\n")
 
     previous = QtCore.qInstallMessageHandler(quiet)
-    window = MainWindow(settings, t, store=None)
+    window = MainWindow(settings, t, store=None, monitor=monitor)
     if theme:
         window.set_theme(theme)
     window.statusBar().clearMessage()
@@ -133,22 +143,25 @@ def run(args) -> int:
     shot = getattr(args, "screenshot", None)
     settings_path = getattr(args, "window_settings", None)
     temperature_K = getattr(args, "window_temperature", None)
+    monitor_spec = getattr(args, "window_monitor", None)
     if shot:
         out = screenshot(shot, settings_path, temperature_K,
-                         overwrite=bool(getattr(args, "window_force", None)))
+                         overwrite=bool(getattr(args, "window_force", None)),
+                         monitor=monitor_spec)
         sys.stdout.write(f"wrote {out}\n")
         return 0
     if getattr(args, "window_force", None):
         raise StarkilnError("--force applies to --screenshot only; accepted: "
                             "'starkiln --screenshot OUT.png --force'")
     settings, t = _settings_and_temperature(settings_path, temperature_K)
+    monitor = _monitor(monitor_spec)
     if not _has_display():
         raise StarkilnError("no display found (DISPLAY is not set); to render the window "
                             "offscreen use 'starkiln --screenshot OUT.png'")
     app = application()
     from starkiln.gui.window import MainWindow
 
-    window = MainWindow(settings, t, store=user_store())
+    window = MainWindow(settings, t, store=user_store(), monitor=monitor)
     previous = sys.excepthook
     sys.excepthook = _excepthook
     window.show()

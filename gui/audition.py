@@ -141,10 +141,12 @@ class AuditionPanel(QtWidgets.QWidget):
     def refresh_strip(self) -> None:
         """Show the strip's cells for the current settings (the model's plot data)."""
         plots = self.model.plots
-        tips = [f"{t:.0f} K  {h}" + ("" if ok else "  (outside gamut, mapped)")
-                for t, h, ok in zip(plots.strip_temperature_K, plots.strip_hex,
-                                    plots.strip.in_gamut)]
-        self.strip.set_cells(plots.strip_rgb_8bit, tooltips=tips)
+        tips = [f"{t:.0f} K  {h}" + ("" if ok else "  (outside gamut, mapped)") +
+                ("  (clipped for this monitor)" if cut else "")
+                for t, h, ok, cut in zip(plots.strip_temperature_K, plots.strip_hex,
+                                         plots.strip.in_gamut, plots.strip_monitor_clipped)]
+        self.strip.set_cells(plots.strip_monitor_rgb_8bit, tooltips=tips,
+                             clipped=plots.strip_monitor_clipped)
         self._mark()
 
     # -- user input ----------------------------------------------------------------------

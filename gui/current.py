@@ -1,6 +1,7 @@
 """The current colour: the large swatch, its readouts, the night inset, the magnitude strip.
 
-Everything shown is the window model's :attr:`starkiln.gui.model.WindowModel.colour`.
+Everything shown is the window model's :attr:`starkiln.gui.model.WindowModel.colour`: the
+swatches paint its monitor colours (``monitor_*``), the readouts show the chosen display's.
 """
 
 from __future__ import annotations
@@ -76,7 +77,8 @@ class CurrentColourPanel(QtWidgets.QWidget):
         layout.addLayout(row)
         layout.addWidget(ladder_title)
         layout.addWidget(self.magnitude_strip)
-        for event in (model.events.temperature, model.events.magnitude, model.events.settings):
+        for event in (model.events.temperature, model.events.magnitude, model.events.settings,
+                      model.events.monitor):
             event.connect(lambda _change: self._show())
         self._show()
 
@@ -99,8 +101,9 @@ class CurrentColourPanel(QtWidgets.QWidget):
         rgb8 = c.rgb_8bit
         ok = bool(r.in_gamut)
         gamut = self.model.settings.gamut
-        self.swatch.set_colour(rgb8, not ok, badge=f"outside gamut, mapped by {gamut}",
-                               caption=f"{c.temperature_K:.0f} K")
+        self.swatch.set_colour(c.monitor_rgb_8bit, not ok,
+                               badge=f"outside gamut, mapped by {gamut}",
+                               caption=f"{c.temperature_K:.0f} K", clipped=c.monitor_clipped)
         ro = self.readouts
         ro.set_value("hex", c.hex)
         ro.set_value("8bit", " ".join(f"{int(v):3d}" for v in rgb8))
@@ -116,7 +119,8 @@ class CurrentColourPanel(QtWidgets.QWidget):
             "  dome ok" if bool(reached) else "  dome short")
         ro.set_value("intensity", f"{float(m.intensity):.3f}{dome}",
                      alert=reached is not None and not bool(reached))
-        self.night_swatch.set_colour(c.dimmed_rgb_8bit)
+        self.night_swatch.set_colour(c.monitor_dimmed_rgb_8bit,
+                                     clipped=c.monitor_dimmed_clipped)
         self._show_ladder(c)
 
     def _show_ladder(self, c) -> None:
@@ -126,6 +130,7 @@ class CurrentColourPanel(QtWidgets.QWidget):
         tips = [f"magnitude {m:g}: intensity {i:.3f}, cone weight {c:.3f}, "
                 f"saturation {sa:.3f}" for m, i, c, sa in
                 zip(mags, lr.intensity, lr.cone_weight, lr.saturation)]
-        strip.set_cells(c.ladder_rgb_8bit, labels=labels, tooltips=tips)
+        strip.set_cells(c.monitor_ladder_rgb_8bit, labels=labels, tooltips=tips,
+                        clipped=c.monitor_ladder_clipped)
         index = int(np.argmin(np.abs(mags - c.magnitude)))
         strip.set_marker(index)

@@ -36,6 +36,7 @@ class DisplayTab(Form):
         self.display = self.row("Display",
                                 Choice("display", options, self._choose, DISPLAY_LABELS),
                                 "Primaries, white, transfer function and peak luminance")
+        self._add_working_spaces()
         buttons = QtWidgets.QWidget(self)
         row = QtWidgets.QHBoxLayout(buttons)
         row.setContentsMargins(0, 0, 0, 0)
@@ -60,7 +61,25 @@ class DisplayTab(Form):
         self.editor = None
         self.refresh()
 
+    def _add_working_spaces(self) -> None:
+        """The scene-linear working spaces as their own group at the end of the picker."""
+        combo = self.display.combo
+        combo.insertSeparator(combo.count())
+        combo.addItem("Working spaces (scene-linear)", None)
+        header = combo.model().item(combo.count() - 1)
+        header.setEnabled(False)
+        for key in engine_displays.WORKING_SPACES:
+            combo.addItem(f"  {key}", key)
+            combo.setItemData(combo.count() - 1, engine_displays.WORKING_SPACE_NOTES[key],
+                              QtCore.Qt.ItemDataRole.ToolTipRole)
+
     def _choose(self, key: str) -> None:
+        if key is None:  # the group's heading
+            self.refresh()
+            return
+        if key in engine_displays.WORKING_SPACES:
+            self.model.change("display", display=engine_displays.WORKING_SPACES[key])
+            return
         if key == CUSTOM_DISPLAY:
             self.edit()
             self.refresh()
@@ -119,6 +138,7 @@ class DisplayTab(Form):
         """Show the model's display."""
         d = self.model.settings.display
         key = next((k for k, v in engine_displays.PRESETS.items() if v == d), None)
+        key = key or next((k for k, v in engine_displays.WORKING_SPACES.items() if v == d), None)
         if key is None:
             key = DEMO_DISPLAY if d == demo_display() else CUSTOM_DISPLAY
         self.display.set_value(key)

@@ -28,6 +28,13 @@ rendered directly.
 
 References
 ----------
+The monitor. Every colour the window paints is converted from the chosen display's colours to
+the monitor's colour space by :func:`starkiln.engine.colour.monitor.monitor_rgb_8bit` (the
+``monitor_*`` fields below); the readouts keep the chosen display's values. The window tells
+the model which monitor it is on (:meth:`WindowModel.set_monitor`); sRGB is assumed until then.
+
+References
+----------
 Mired scale: [WyszeckiStiles1982] section 3.11. Colours:
 :func:`starkiln.engine.pipeline.render.render`; plot data: :mod:`starkiln.engine.plotdata.plots`
 and :mod:`starkiln.engine.plotdata.sky`.
@@ -43,7 +50,8 @@ from typing import Callable
 
 import numpy as np
 
-from starkiln.engine.colour.displays import load_display_profile
+from starkiln.engine.colour.displays import Display, load_display_profile
+from starkiln.engine.colour.monitor import SRGB_MONITOR, monitor_rgb_8bit, rendered_on_monitor
 from starkiln.engine.colour.temperature_axis import temperature_to_mired
 from starkiln.engine.errors import InputRangeError, StarkilnError
 from starkiln.engine.eye.vision import check_magnitude
@@ -70,6 +78,13 @@ STRIP_TICKS_K = (1000, 1500, 2000, 3000, 4000, 5000, 6500, 10000, 40000)
 #: Wavelengths of the spectrum plot's curve: 2 nm in the visible band, 10 nm outside.
 SPECTRUM_STEP_BAND_NM = 2.0
 SPECTRUM_STEP_OUTSIDE_NM = 10.0
+
+
+#: The status bar's words for the monitor when the platform gives no colour space.
+MONITOR_ASSUMED = "assumed; the platform reports none"
+#: Names the status bar gives the preset monitors.
+MONITOR_LABELS = {"srgb": "sRGB", "display-p3": "Display P3", "dci-p3": "DCI-P3",
+                  "rec2020": "Rec. 2020", "rec2100-pq": "Rec. 2100 PQ"}
 
 
 # -- events ------------------------------------------------------------------------------------
@@ -124,6 +139,8 @@ class ModelEvents:
     settings : value the new :class:`~starkiln.engine.pipeline.settings.Settings`.
     plots : value the new :class:`PlotData` (emitted after ``settings``).
     rejected : value the :class:`~starkiln.engine.errors.StarkilnError`; nothing changed.
+    monitor : value the new monitor :class:`~starkiln.engine.colour.displays.Display` (the
+        colours and plot data are already converted; ``plots`` follows).
     """
 
     def __init__(self):
@@ -132,6 +149,7 @@ class ModelEvents:
         self.settings = Event("settings")
         self.plots = Event("plots")
         self.rejected = Event("rejected")
+        self.monitor = Event("monitor")
 
 
 # -- derived state -----------------------------------------------------------------------------
@@ -142,7 +160,10 @@ class CurrentColour:
     ``plain`` is the render without a magnitude (the swatch), ``at_magnitude``
     at the current magnitude (night vision, tone curve), ``ladder`` at each of
     ``ladder_magnitudes`` (the brightness strip). The 8-bit values are
-    :func:`starkiln.engine.pipeline.render.to_8bit` of the display-encoded colours.
+    :func:`starkiln.engine.pipeline.render.to_8bit` of the display-encoded colours (the
+    readouts); the ``monitor_*`` values are what the swatches paint
+    (:func:`starkiln.engine.colour.monitor.monitor_rgb_8bit`), with whether the monitor had to
+    clip each colour.
     """
 
     temperature_K: float
@@ -156,6 +177,12 @@ class CurrentColour:
     dimmed_rgb_8bit: np.ndarray
     dimmed_hex: str
     ladder_rgb_8bit: np.ndarray
+    monitor_rgb_8bit: np.ndarray
+    monitor_clipped: bool
+    monitor_dimmed_rgb_8bit: np.ndarray
+    monitor_dimmed_clipped: bool
+    monitor_ladder_rgb_8bit: np.ndarray
+    monitor_ladder_clipped: np.ndarray
 
 
 @dataclasses.dataclass(frozen=True)
@@ -169,6 +196,9 @@ class PlotData:
     overlays : V, V' and the colour-matching functions (spectrum plot overlays).
     diagram : the chromaticity diagram's lines and points.
     strip_temperature_K, strip, strip_rgb_8bit, strip_hex : the temperature strip's cells.
+    monitor : the monitor the ``*_monitor_*`` colours are for.
+    strip_monitor_rgb_8bit, strip_monitor_clipped : the strip's cells on the monitor.
+    band_monitor_rgb_8bit : the band's colours on the monitor.
     """
 
     settings: Settings
@@ -179,6 +209,10 @@ class PlotData:
     strip: Rendered
     strip_rgb_8bit: np.ndarray
     strip_hex: np.ndarray
+    monitor: Display
+    strip_monitor_rgb_8bit: np.ndarray
+    strip_monitor_clipped: np.ndarray
+    band_monitor_rgb_8bit: np.ndarray
 
 
 @dataclasses.dataclass(frozen=True)
@@ -239,6 +273,10 @@ class WindowModel:
     scale : MiredScale, optional
         The slider's positions; default 1000-40000 K at
         :data:`POSITIONS_PER_MIRED` positions per mired.
+    monitor : Display, optional
+        The monitor the window paints on (default sRGB, assumed).
+    monitor_source : str
+        How the monitor was found, for the status bar.
 
     Raises
     ------
@@ -249,8 +287,11 @@ class WindowModel:
     def __init__(self, settings: Settings | None = None,
                  temperature_K: float = DEFAULT_TEMPERATURE_K,
                  magnitude: float = DEFAULT_MAGNITUDE, idle: Callable | None = None,
-                 scale: MiredScale | None = None):
+                 scale: MiredScale | None = None, monitor: Display | None = None,
+                 monitor_source: str = MONITOR_ASSUMED):
         self.events = ModelEvents()
+        self._monitor = monitor if monitor is not None else SRGB_MONITOR
+        self._monitor_source = monitor_source
         self.slider_scale = scale if scale is not None else MiredScale(
             mired_per_step=1.0 / POSITIONS_PER_MIRED)
         self._slider_temperature_K = self.slider_scale.temperatures_K()
@@ -320,6 +361,42 @@ class WindowModel:
     def slider_fraction(self) -> float:
         """Where the current temperature lies along the slider, 0..1 (clipped)."""
         return self._fraction
+
+    @property
+    def monitor(self) -> Display:
+        """The monitor the window paints on (the swatches' colours are for it)."""
+        return self._monitor
+
+    def monitor_clipped_count(self) -> int:
+        """How many swatches the monitor cannot show: the current and night swatches, the
+        magnitude strip's and the temperature strip's cells, clipped by the monitor."""
+        c, p = self._colour, self._plots
+        return int(c.monitor_clipped) + int(c.monitor_dimmed_clipped) + \
+            int(np.count_nonzero(c.monitor_ladder_clipped)) + \
+            int(np.count_nonzero(p.strip_monitor_clipped))
+
+    def monitor_status(self) -> str:
+        """Status-bar text: which monitor, how it was found, and how many swatches it clips."""
+        name = MONITOR_LABELS.get(self._monitor.name, self._monitor.name)
+        n = self.monitor_clipped_count()
+        clipped = ("no swatch clipped" if n == 0 else
+                   f"{n} swatch{'es' if n != 1 else ''} clipped for this monitor (marked)")
+        return f"monitor: {name} ({self._monitor_source}) \u00b7 {clipped}"
+
+    def set_monitor(self, monitor: Display, source: str, origin: str = "monitor") -> None:
+        """Paint for ``monitor`` from now on (``source``: how it was found, for the status)."""
+        if not isinstance(monitor, Display) or monitor.kind != "display":
+            exc = StarkilnError(f"monitor {monitor!r} is not a display; accepted: a display "
+                                "preset or a .json display profile")
+            self._report(origin, exc)
+            raise exc
+        if monitor == self._monitor and source == self._monitor_source:
+            return
+        self._monitor, self._monitor_source = monitor, str(source)
+        self._colour = self._colour_for(self._settings, self._temperature_K, self._magnitude)
+        self._plots = self._plots_for(self._settings)
+        self.events.monitor.emit(origin, monitor)
+        self.events.plots.emit(origin, self._plots)
 
     @property
     def strip_cell(self) -> int:
@@ -487,9 +564,10 @@ class WindowModel:
         cluster = self.cluster
         if cluster is None:
             raise StarkilnError(self._cluster_error)
-        key = (self._settings, int(width_px), int(height_px))
+        key = (self._settings, self._monitor, int(width_px), int(height_px))
         if self._sky is None or self._sky[0] != key:
-            self._sky = (key, sky_image(self._settings, cluster, width_px, height_px))
+            self._sky = (key, sky_image(self._settings, cluster, width_px, height_px,
+                                        monitor=self._monitor))
         return self._sky[1]
 
     def pick_star(self, index: int, origin: str = "sky") -> None:
@@ -563,33 +641,43 @@ class WindowModel:
         table = self._table
         return _current_colour(float(table.temperature_K[position]), table.magnitude,
                                table.plain.take(position), table.night.take(position),
-                               magnitude_ladder(table.settings))
+                               magnitude_ladder(table.settings), self._monitor)
 
-    @staticmethod
-    def _colour_for(settings: Settings, t: float, magnitude: float) -> CurrentColour:
+    def _colour_for(self, settings: Settings, t: float, magnitude: float) -> CurrentColour:
         mags = magnitude_ladder(settings)
         plain = render(settings, t)
         # one call: the current magnitude first, then the strip's magnitudes
         both = render(settings, np.full(mags.size + 1, t), np.concatenate([[magnitude], mags]))
-        return _current_colour(t, magnitude, plain, both, mags)
+        return _current_colour(t, magnitude, plain, both, mags, self._monitor)
 
     def _plots_for(self, settings: Settings) -> PlotData:
         strip = render(settings, self._strip_temperature_K)
-        return PlotData(settings=settings, band=spectral_band_colours(settings),
+        band = spectral_band_colours(settings)
+        strip_8bit, strip_clipped = rendered_on_monitor(strip, self._monitor)
+        return PlotData(settings=settings, band=band,
                         overlays=efficiency_overlays(settings.observer),
                         diagram=chromaticity_diagram(settings),
                         strip_temperature_K=self._strip_temperature_K, strip=strip,
-                        strip_rgb_8bit=to_8bit(strip.rgb_encoded), strip_hex=strip.hex())
+                        strip_rgb_8bit=to_8bit(strip.rgb_encoded), strip_hex=strip.hex(),
+                        monitor=self._monitor, strip_monitor_rgb_8bit=strip_8bit,
+                        strip_monitor_clipped=strip_clipped,
+                        band_monitor_rgb_8bit=monitor_rgb_8bit(band.rgb_linear, settings.display,
+                                                               self._monitor)[0])
 
 
 def _current_colour(t: float, magnitude: float, plain: Rendered, both: Rendered,
-                    mags: np.ndarray) -> CurrentColour:
+                    mags: np.ndarray, monitor: Display) -> CurrentColour:
     """``both`` holds the render at ``magnitude`` first, then at each of ``mags``."""
     at = both.take(0)
     ladder = both.take(slice(1, None))
+    m8, mc = rendered_on_monitor(plain, monitor)
+    d8, dc = rendered_on_monitor(at, monitor, dimmed=True)
+    l8, lc = rendered_on_monitor(ladder, monitor, dimmed=True)
     return CurrentColour(
         temperature_K=t, magnitude=magnitude, plain=plain, at_magnitude=at,
         ladder_magnitudes=mags, ladder=ladder, rgb_8bit=to_8bit(plain.rgb_encoded),
         hex=str(plain.hex()), dimmed_rgb_8bit=to_8bit(at.rgb_dimmed_encoded),
         dimmed_hex=str(to_hex(at.rgb_dimmed_encoded)),
-        ladder_rgb_8bit=to_8bit(ladder.rgb_dimmed_encoded))
+        ladder_rgb_8bit=to_8bit(ladder.rgb_dimmed_encoded), monitor_rgb_8bit=m8,
+        monitor_clipped=bool(mc), monitor_dimmed_rgb_8bit=d8, monitor_dimmed_clipped=bool(dc),
+        monitor_ladder_rgb_8bit=l8, monitor_ladder_clipped=lc)

@@ -193,11 +193,12 @@ class SpectrumView(pg.PlotWidget):
         band = plots.band
         a, b = VISIBLE_BAND_NM
         grad = QtGui.QLinearGradient(a, 0.0, b, 0.0)
-        for wl, rgb in zip(band.wavelength_nm, band.rgb_8bit):
+        for wl, rgb in zip(band.wavelength_nm, plots.band_monitor_rgb_8bit):  # on the monitor
             grad.setColorAt((wl - a) / (b - a), QtGui.QColor(int(rgb[0]), int(rgb[1]),
                                                              int(rgb[2])))
         self.curve.set_band_brush(QtGui.QBrush(grad))
         self.band_colours = band
+        self.band_monitor_rgb_8bit = plots.band_monitor_rgb_8bit  # what the brush paints
         curves = plots.overlays
         for key, (_label, parts) in OVERLAYS.items():
             for item, part in zip(self.overlays[key], parts):
@@ -372,7 +373,7 @@ class ChromaticityView(pg.PlotWidget):
         xy = c.plain.xy
         self._star_xy = (float(xy[0]), float(xy[1]))
         self.star.setPos(self._star_xy[0], self._star_xy[1])
-        rgb = tuple(int(v) for v in c.rgb_8bit)
+        rgb = tuple(int(v) for v in c.monitor_rgb_8bit)  # converted to the monitor
         if rgb != self._star_rgb:  # a new fill re-renders the symbol; moving does not
             self._star_rgb = rgb
             self.star.setBrush(QtGui.QColor(*rgb))

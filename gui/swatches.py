@@ -1,7 +1,10 @@
 """Swatches: the current colour, its readouts, and the strips across temperature and magnitude.
 
-Pixels are filled with the 8-bit values the engine gives
-(:func:`starkiln.engine.colour.quantisation.to_8bit` of ``rgb_encoded``), unchanged.
+Pixels are filled with the 8-bit values the window model gives, unchanged: the chosen
+display's colours converted to the monitor by the engine
+(:func:`starkiln.engine.colour.monitor.monitor_rgb_8bit`). A colour the monitor had to clip
+gets a small corner mark (:func:`draw_clip_mark`), drawn in the theme's muted colour so that it
+stays quiet in a dark room.
 """
 
 from __future__ import annotations
@@ -18,6 +21,19 @@ def qcolor(rgb8) -> QtGui.QColor:
     return QtGui.QColor(r, g, b)
 
 
+def draw_clip_mark(p: QtGui.QPainter, rect: QtCore.QRect, theme: Theme, size: int = 9) -> None:
+    """The "clipped for this monitor" mark: a small triangle in the bottom-right corner."""
+    size = max(3, min(size, rect.width() // 2, rect.height() // 2))
+    x, y = rect.right() + 1, rect.bottom() + 1
+    tri = QtGui.QPolygon([QtCore.QPoint(x - size, y), QtCore.QPoint(x, y),
+                          QtCore.QPoint(x, y - size)])
+    p.save()
+    p.setPen(QtCore.Qt.PenStyle.NoPen)
+    p.setBrush(QtGui.QColor(theme.muted))
+    p.drawPolygon(tri)
+    p.restore()
+
+
 class ColourSwatch(QtWidgets.QWidget):
     """A flat patch of one colour, with a visible badge when the colour was outside the gamut."""
 
@@ -30,6 +46,7 @@ class ColourSwatch(QtWidgets.QWidget):
         self.setAttribute(QtCore.Qt.WidgetAttribute.WA_OpaquePaintEvent)
         self._colour = QtGui.QColor(0, 0, 0)
         self._out_of_gamut = False
+        self._clipped = False
         self._badge = ""
         self._caption = ""
         self._theme = DIM
@@ -41,10 +58,12 @@ class ColourSwatch(QtWidgets.QWidget):
         self.update()
 
     def set_colour(self, rgb8, out_of_gamut: bool = False, badge: str = "",
-                   caption: str = "") -> None:
-        """Show ``rgb8`` (three 8-bit values); ``out_of_gamut`` draws the badge text ``badge``."""
+                   caption: str = "", clipped: bool = False) -> None:
+        """Show ``rgb8`` (three 8-bit values); ``out_of_gamut`` draws the badge text ``badge``;
+        ``clipped`` (the monitor cannot show the colour) draws the corner mark."""
         self._colour = qcolor(rgb8)
         self._out_of_gamut = bool(out_of_gamut)
+        self._clipped = bool(clipped)
         self._badge = badge
         self._caption = caption
         self.update()
@@ -52,6 +71,11 @@ class ColourSwatch(QtWidgets.QWidget):
     def colour(self) -> QtGui.QColor:
         """The colour shown."""
         return QtGui.QColor(self._colour)
+
+    @property
+    def clipped(self) -> bool:
+        """Whether the corner mark is shown (the monitor clipped this colour)."""
+        return self._clipped
 
     def paintEvent(self, event):  # noqa: N802 - Qt API
         p = QtGui.QPainter(self)
@@ -78,6 +102,8 @@ class ColourSwatch(QtWidgets.QWidget):
             p.setPen(QtGui.QPen(QtGui.QColor(t.error), 2))
             for k in range(0, 22, 6):
                 p.drawLine(r.right() - 22 + k, r.top() + 1, r.right(), r.top() + 23 - k)
+        if self._clipped:
+            draw_clip_mark(p, r.adjusted(0, 0, -1, -1), t, 12)
         if self._caption:
             font.setBold(False)
             p.setFont(font)
@@ -111,6 +137,7 @@ class SwatchStrip(QtWidgets.QWidget):
                            QtWidgets.QSizePolicy.Policy.Fixed)
         self.setCursor(QtCore.Qt.CursorShape.PointingHandCursor)
         self._cells = np.zeros((0, 3), np.uint8)
+        self._clipped = np.zeros(0, bool)
         self._labels: list[str] = []
         self._tooltips: list[str] = []
         self._ticks: list[tuple[float, str]] = []
@@ -130,15 +157,19 @@ class SwatchStrip(QtWidgets.QWidget):
         self._theme = theme
         self._invalidate()
 
-    def set_cells(self, rgb8: np.ndarray, labels=None, tooltips=None) -> None:
-        """Cells' 8-bit colours (N, 3), optional text under each cell and tooltips."""
+    def set_cells(self, rgb8: np.ndarray, labels=None, tooltips=None, clipped=None) -> None:
+        """Cells' 8-bit colours (N, 3), optional text under each cell and tooltips; ``clipped``
+        (N,) marks the cells the monitor could not show."""
         cells = np.asarray(rgb8, dtype=np.uint8).reshape(-1, 3)
         labels = list(labels or [])
         self._tooltips = list(tooltips or [])
+        marks = np.zeros(len(cells), bool) if clipped is None else \
+            np.asarray(clipped, bool).reshape(-1)
         if cells.shape == self._cells.shape and np.array_equal(cells, self._cells) and \
-                labels == self._labels:
+                labels == self._labels and np.array_equal(marks, self._clipped):
             return
         self._cells = cells
+        self._clipped = marks
         self._labels = labels
         self._invalidate()
 
@@ -165,6 +196,10 @@ class SwatchStrip(QtWidgets.QWidget):
     def cell_count(self) -> int:
         """Number of cells."""
         return int(self._cells.shape[0])
+
+    def cell_clipped(self, index: int) -> bool:
+        """Whether cell ``index`` carries the clipped mark."""
+        return bool(self._clipped[index])
 
     def cell_colour(self, index: int) -> tuple[int, int, int]:
         """The 8-bit colour of a cell."""
@@ -213,6 +248,8 @@ class SwatchStrip(QtWidgets.QWidget):
         n = self.cell_count
         for i in range(n):
             p.fillRect(self.cell_rect(i), qcolor(self._cells[i]))
+        for i in np.flatnonzero(self._clipped[:n]):
+            draw_clip_mark(p, self.cell_rect(int(i)), t, 7)
         p.setPen(QtGui.QColor(t.muted))
         font = self.font()
         font.setPointSizeF(max(font.pointSizeF() - 1.5, 6.5))

@@ -17,6 +17,12 @@ recent settings files, and the last session (settings as TOML, temperature,
 magnitude). Files are read and written by the engine through the model (TOML
 settings, JSON display profiles); problems come back as one-line messages in a
 message box.
+
+The monitor. Every colour the window paints is converted by the engine from the chosen
+display's colours to the monitor's colour space: the screen's ``QColorSpace`` where Qt gives
+one (:func:`platform_monitor`), else sRGB, assumed; ``--monitor`` and View > Monitor choose one.
+The status bar says which, and how many swatches the monitor had to clip (those carry a corner
+mark).
 """
 
 from __future__ import annotations
@@ -26,6 +32,8 @@ from typing import TYPE_CHECKING
 
 from PySide6 import QtCore, QtGui, QtWidgets
 
+from starkiln.engine.colour.displays import PRESETS, Display
+from starkiln.engine.colour.monitor import SRGB_MONITOR, monitor_from_primaries
 from starkiln.engine.errors import StarkilnError
 from starkiln.gui.audition import AuditionPanel
 from starkiln.gui.controls import CAUTION, LookPanel
@@ -33,7 +41,7 @@ from starkiln.gui.current import CurrentColourPanel
 from starkiln.gui.fields import INPUT_ERRORS
 from starkiln.gui.plots import OVERLAYS, ChromaticityView, SpectrumView
 from starkiln.gui.model import DEFAULT_MAGNITUDE, DEFAULT_TEMPERATURE_K, WindowModel
-from starkiln.gui.model import settings_from_toml
+from starkiln.gui.model import MONITOR_ASSUMED, MONITOR_LABELS, settings_from_toml
 from starkiln.gui.sky import SkyPreview
 from starkiln.gui.theme import DEFAULT_THEME, THEMES, apply_theme
 
@@ -43,6 +51,53 @@ if TYPE_CHECKING:
 APP_TITLE = "Starkiln \u2014 star colours"
 MAX_RECENT = 8
 SCREENSHOT_SIZE = (1280, 800)
+MONITOR_CHOSEN = "chosen"
+MONITOR_FROM_PLATFORM = "as the platform reports"
+
+#: Qt's names of primaries and transfer functions -> the engine's
+#: (:data:`starkiln.engine.colour.monitor.NAMED_PRIMARIES`, the display transfers). Names, not
+#: colours: the colour space itself is built by the engine.
+_QT_PRIMARIES = {"SRgb": "srgb", "AdobeRgb": "adobe-rgb", "DciP3D65": "dci-p3-d65",
+                 "ProPhotoRgb": "prophoto-rgb", "Bt2020": "bt2020"}
+_QT_TRANSFERS = {"Linear": "linear", "Gamma": "gamma", "SRgb": "srgb", "St2084": "pq"}
+
+
+def monitor_from_colour_space(space) -> tuple[Display, str]:
+    """The monitor's Display and how it was found, from a ``QtGui.QColorSpace``.
+
+    Named primaries and the linear, gamma, sRGB and ST 2084 transfers are read (the engine's
+    :func:`starkiln.engine.colour.monitor.monitor_from_primaries` builds the Display); any
+    other colour space gives sRGB, assumed, with the reason.
+    """
+    if space is None or not space.isValid():
+        return SRGB_MONITOR, MONITOR_ASSUMED
+    desc = space.description() or "unnamed"
+    primaries = _QT_PRIMARIES.get(space.primaries().name)
+    transfer = _QT_TRANSFERS.get(space.transferFunction().name)
+    if primaries is None or transfer is None:
+        return SRGB_MONITOR, (f"assumed; the platform's colour space {desc!r} has primaries "
+                              "or a transfer function this window does not read")
+    white = space.whitePoint()
+    try:
+        display = monitor_from_primaries(primaries, (white.x(), white.y()), transfer,
+                                         float(space.gamma()) if transfer == "gamma" else 2.2,
+                                         name=desc)
+    except StarkilnError as exc:
+        return SRGB_MONITOR, f"assumed; the platform's colour space: {exc}"
+    return display, "reported by the platform"
+
+
+def platform_monitor(screen) -> tuple[Display, str]:
+    """The monitor of ``screen`` (a ``QScreen``): its ``colorSpace()`` where this Qt offers one
+    (PySide6 6.11 does not for screens, nor do the offscreen and X11 platforms), else sRGB."""
+    getter = getattr(screen, "colorSpace", None) if screen is not None else None
+    if not callable(getter):
+        return SRGB_MONITOR, MONITOR_ASSUMED
+    try:
+        space = getter()
+    except Exception:  # noqa: BLE001 - a platform plug-in's problem: fall back to sRGB
+        return SRGB_MONITOR, MONITOR_ASSUMED
+    return monitor_from_colour_space(space)
 
 
 def _titled(title: str, widget: QtWidgets.QWidget, extra: QtWidgets.QWidget | None = None,
@@ -70,10 +125,13 @@ class MainWindow(QtWidgets.QMainWindow):
         Start at this temperature.
     store : QtCore.QSettings or None
         Where window state is kept between runs; None keeps nothing.
+    monitor : Display, optional
+        The monitor to paint for (``--monitor``); default the screen's (:func:`platform_monitor`).
     """
 
     def __init__(self, settings: Settings | None = None, temperature_K: float | None = None,
-                 store: QtCore.QSettings | None = None, parent=None):
+                 store: QtCore.QSettings | None = None, parent=None,
+                 monitor: Display | None = None):
         super().__init__(parent)
         self.setObjectName("starkiln-window")
         self.store = store
@@ -86,12 +144,17 @@ class MainWindow(QtWidgets.QMainWindow):
         def idle(fn):  # the model's slider table is built when the event loop is idle
             QtCore.QTimer.singleShot(0, self, fn)
 
+        self.monitor_choice = MONITOR_CHOSEN if monitor is not None else MONITOR_FROM_PLATFORM
+        mon, source = ((monitor, "chosen with --monitor") if monitor is not None else
+                       platform_monitor(QtGui.QGuiApplication.primaryScreen()))
         try:
-            self.model = WindowModel(start, t0, m_restored or DEFAULT_MAGNITUDE, idle=idle)
+            self.model = WindowModel(start, t0, m_restored or DEFAULT_MAGNITUDE, idle=idle,
+                                     monitor=mon, monitor_source=source)
         except StarkilnError:
             if temperature_K is not None:
                 raise
-            self.model = WindowModel(start, DEFAULT_TEMPERATURE_K, DEFAULT_MAGNITUDE, idle=idle)
+            self.model = WindowModel(start, DEFAULT_TEMPERATURE_K, DEFAULT_MAGNITUDE, idle=idle,
+                                     monitor=mon, monitor_source=source)
         self._build()
         self._menus()
         self._connect()
@@ -187,6 +250,12 @@ class MainWindow(QtWidgets.QMainWindow):
         lay.addWidget(self.audition)
         lay.addWidget(self.main_split, 1)
         self.setCentralWidget(central)
+        self.monitor_status = QtWidgets.QLabel(self)
+        self.monitor_status.setObjectName("monitor-status")
+        self.monitor_status.setToolTip(
+            "The swatches, strips, sky and spectrum band are the chosen display's colours "
+            "converted to this monitor; the readouts are the chosen display's values")
+        self.statusBar().addPermanentWidget(self.monitor_status)
         self.summary = QtWidgets.QLabel(self)
         self.summary.setObjectName("settings-summary")
         self.statusBar().addPermanentWidget(self.summary)
@@ -217,6 +286,18 @@ class MainWindow(QtWidgets.QMainWindow):
             a.setCheckable(True)
             group.addAction(a)
             self.theme_actions[key] = a
+        monitors = view.addMenu("Monitor")
+        monitors.setObjectName("menu-monitor")
+        mgroup = QtGui.QActionGroup(self)
+        self.monitor_actions = {}
+        for key, label in [(MONITOR_FROM_PLATFORM, "As the platform reports (else sRGB)")] + \
+                [(k, MONITOR_LABELS.get(k, k)) for k in PRESETS]:
+            a = monitors.addAction(label, lambda k=key: self.set_monitor_choice(k))
+            a.setCheckable(True)
+            mgroup.addAction(a)
+            self.monitor_actions[key] = a
+        monitors.addSeparator()
+        monitors.addAction("From a display profile\u2026", self._monitor_profile_dialog)
         help_ = bar.addMenu("&Help")
         help_.addAction("Night vision: caution", lambda: self.show_message(
             "Night vision", CAUTION, QtWidgets.QMessageBox.Icon.Information))
@@ -229,6 +310,8 @@ class MainWindow(QtWidgets.QMainWindow):
 
     def _connect(self) -> None:
         events = self.model.events
+        for event in (events.temperature, events.magnitude, events.plots, events.monitor):
+            event.connect(lambda _change: self._show_monitor())
         events.settings.connect(lambda _change: self._on_settings())
         events.plots.connect(lambda _change: self.chroma_key.setText(
             self.chromaticity.key_html()))
@@ -241,10 +324,42 @@ class MainWindow(QtWidgets.QMainWindow):
 
     # -- model -> window ---------------------------------------------------------------------
     def _on_settings(self) -> None:
+        self._show_monitor()
         s = self.model.settings
         self.chroma_key.setText(self.chromaticity.key_html())
         self.summary.setText(f"white {s.scene_white} \u2192 {s.display.name} \u00b7 "
                              f"{s.adaptation} \u00b7 gamut {s.gamut} \u00b7 vision {s.vision}")
+
+    def _show_monitor(self) -> None:
+        self.monitor_status.setText(self.model.monitor_status())
+        for key, a in self.monitor_actions.items():
+            a.setChecked(key == self.monitor_choice)
+
+    # -- the monitor -------------------------------------------------------------------------
+    def set_monitor_choice(self, key) -> None:
+        """Paint for a preset monitor (a key of the display presets), a Display, or
+        :data:`MONITOR_FROM_PLATFORM` (the screen's colour space, else sRGB)."""
+        if isinstance(key, Display):
+            self.monitor_choice = MONITOR_CHOSEN
+            self.model.set_monitor(key, "chosen in View > Monitor")
+        elif key == MONITOR_FROM_PLATFORM:
+            self.monitor_choice = key
+            self.model.set_monitor(*platform_monitor(self.screen()))
+        else:
+            self.monitor_choice = key
+            self.model.set_monitor(PRESETS[key], "chosen in View > Monitor")
+        self._show_monitor()
+
+    def _monitor_profile_dialog(self) -> None:
+        from starkiln.engine.colour.monitor import load_monitor
+
+        path, _ = QtWidgets.QFileDialog.getOpenFileName(
+            self, "Monitor display profile", self._last_dir(), "Display profiles (*.json)")
+        if path:
+            try:
+                self.set_monitor_choice(load_monitor(path))
+            except INPUT_ERRORS as exc:
+                self.show_message("Monitor profile not used", str(exc))
 
     def _star_picked(self, index: int) -> None:
         c = self.sky.cluster  # the model has auditioned the star already
@@ -455,6 +570,12 @@ class MainWindow(QtWidgets.QMainWindow):
 
     def showEvent(self, event):  # noqa: N802 - Qt API
         super().showEvent(event)
+        handle = self.windowHandle()
+        if handle is not None and not getattr(self, "_follows_screen", False):
+            self._follows_screen = True  # moved to another screen: ask that one (if not chosen)
+            handle.screenChanged.connect(lambda _screen: self.monitor_choice ==
+                                         MONITOR_FROM_PLATFORM and
+                                         self.set_monitor_choice(MONITOR_FROM_PLATFORM))
         if not self._sized:  # first show, no saved splitter state: side panels at their width
             self._sized = True
             w = self.main_split.width() or self.width()

@@ -78,6 +78,7 @@ def reset_window(w):
             dialog.close()
             dialog.deleteLater()
             setattr(w, name, None)
+    w.set_monitor_choice("as the platform reports")  # offscreen: sRGB, assumed
     m = w.model
     m.set_settings(Settings(), origin="file")
     m.set_magnitude(1.0)

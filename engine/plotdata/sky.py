@@ -103,7 +103,7 @@ class SkyImage:
 
 
 def sky_image(settings: Settings, cluster: Cluster, width_px: int, height_px: int,
-              radius_px=(0.7, 2.6)) -> SkyImage:
+              radius_px=(0.7, 2.6), monitor=None) -> SkyImage:
     """Draw a star list as it would appear on the display, with the current settings.
 
     Each star's colour and intensity come from :func:`starkiln.engine.pipeline.render.render`
@@ -125,6 +125,9 @@ def sky_image(settings: Settings, cluster: Cluster, width_px: int, height_px: in
         Picture size, 16-4096 each.
     radius_px : (float, float)
         Gaussian sigma of the spot, pixels, at the faint and at the bright end.
+    monitor : Display, optional
+        Encode the picture for this monitor instead of the display
+        (:func:`starkiln.engine.colour.monitor.monitor_rgb_8bit`: the window's preview).
 
     Returns
     -------
@@ -173,6 +176,11 @@ def sky_image(settings: Settings, cluster: Cluster, width_px: int, height_px: in
         img[:, c] = np.bincount(index, weights=contrib, minlength=h * w)
     top = img.max(axis=-1, keepdims=True)
     img = np.where(top > 1.0, img / np.maximum(top, 1e-300), img)
-    enc = settings.display.encode(img)
-    pixels = np.ascontiguousarray(to_8bit(enc).reshape(h, w, 3))
+    if monitor is None:
+        rgb8 = to_8bit(settings.display.encode(img))
+    else:
+        from starkiln.engine.colour.monitor import monitor_rgb_8bit
+
+        rgb8 = monitor_rgb_8bit(img, settings.display, monitor)[0]
+    pixels = np.ascontiguousarray(rgb8.reshape(h, w, 3))
     return SkyImage(pixels, x, y, sigma, np.asarray(r.in_gamut))
