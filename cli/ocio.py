@@ -1,7 +1,7 @@
 """``starkiln ocio DISPLAY OUT_DIR``: an OpenColorIO config for a studio's renderer.
 
-One call to :func:`starkiln.engine.exports.ocio_config.write_ocio_config`; the folder is
-checked before anything is built (:func:`starkiln.engine.exports.ocio_config.check_output_folder`).
+One call to :func:`starkiln.engine.exports.ocio_config.write_ocio_config`, which checks the
+folder before anything is built (:func:`starkiln.engine.exports.ocio_config.check_output_folder`).
 """
 
 from __future__ import annotations
@@ -31,13 +31,11 @@ def add_parsers(sub) -> None:
 
 def cmd_ocio(args, out) -> int:
     """``starkiln ocio``: write the config folder and say what to pick in a renderer."""
-    from starkiln.engine.exports.ocio_config import (SCENE_LINEAR, check_output_folder,
-                                                     write_ocio_config)
+    from starkiln.engine.exports.ocio_config import MANIFEST_NAME, SCENE_LINEAR, write_ocio_config
 
-    check_output_folder(args.out_dir, args.force)
     done = write_ocio_config(args.display, args.out_dir, overwrite=args.force,
                              adaptation=args.adaptation, curve=args.curve)
-    out.write(f"wrote {done.path / done.files[0]} ({', '.join(done.files)})\n")
+    out.write(f"wrote {done.path}: {', '.join((*done.files, MANIFEST_NAME))}\n")
     out.write(f"display {done.display_name!r}, view {done.view_name!r}; scene_linear role: "
               f"{SCENE_LINEAR}\n")
     return 0

@@ -79,7 +79,9 @@ VIEW_NAME = "Starkiln colorimetric"
 #: The working space the config's ``scene_linear`` and ``rendering`` roles point at.
 SCENE_LINEAR = "acescg"
 CURVES = ("exact", "sampled")
-#: OCIO names a config version; 2.1 is the first with colour-space aliases ([OCIO]).
+#: The config's ``ocio_profile_version``: 2.1, the first with colour-space aliases, and (from
+#: memory) the built-in ``CURVE - LINEAR_to_ST-2084`` ([OCIO]); checked here with the
+#: installed OpenColorIO only.
 CONFIG_VERSION = (2, 1)
 #: Other names for the working spaces, as OCIO's ACES configs spell them ([OCIO]).
 #: (``acescg`` and ``aces2065-1`` already are those names: OCIO compares names without case.)
@@ -116,8 +118,24 @@ def _ocio():
 
 
 def ocio_display_name(display: Display) -> str:
-    """The display's name as OCIO may hold it: OCIO lists displays and views separated by
-    commas and colons ([OCIO] ``active_displays``), so those become spaces."""
+    """The display's name as OCIO may hold it.
+
+    OCIO lists displays and views separated by commas (and looks by colons) in one string
+    ([OCIO] ``active_displays``, ``active_views``), so those characters become spaces.
+
+    Parameters
+    ----------
+    display : Display
+
+    Returns
+    -------
+    str
+        The name with runs of spaces collapsed (``"display"`` if nothing is left).
+
+    References
+    ----------
+    [OCIO] "Config syntax" (``active_displays``).
+    """
     text = " ".join(display.name.replace(",", " ").replace(":", " ").split())
     return text or "display"
 
@@ -172,20 +190,31 @@ def _transfer_transforms(ocio, display: Display, curve: str):
             return [ocio.MatrixTransform(_matrix44(np.diag([k, k, k]))),
                     ocio.BuiltinTransform("CURVE - LINEAR_to_ST-2084")], {}
     return [ocio.FileTransform(CURVE_NAME, interpolation=ocio.Interpolation.INTERP_LINEAR)], \
-        {CURVE_NAME: sampled_curve_clf(ocio, display)}
+        {CURVE_NAME: sampled_curve_clf(display)}
 
 
-def sampled_curve_clf(ocio, display: Display) -> bytes:
+def sampled_curve_clf(display: Display) -> bytes:
     """The display's transfer function as a CLF 1-D LUT over the 16-bit half-float domain.
 
     Entry ``i`` holds ``display.encode(h)`` for the half value ``h`` whose bits are ``i``
     (clamped to 0-1, as the encoding clamps), so the LUT is dense where curves are steep near
     black; OCIO writes the file ([ST2136-1]), never Starkiln.
 
+    Parameters
+    ----------
+    display : Display
+        Any display; only :meth:`Display.encode` is used, so every transfer it knows works.
+
+    Returns
+    -------
+    bytes
+        The CLF document (UTF-8 XML).
+
     References
     ----------
     [ST2136-1] (CLF, ``halfDomain``); [IEEE754] (binary16).
     """
+    ocio = _ocio()
     half = np.arange(65536, dtype=np.uint16).view(np.float16).astype(np.float64)
     linear = np.clip(np.nan_to_num(half, nan=0.0, posinf=1.0, neginf=0.0), 0.0, 1.0)
     encoded = np.asarray(display.encode(np.repeat(linear[:, None], 3, axis=1)), dtype=np.float64)
@@ -339,6 +368,24 @@ def check_output_folder(out_dir, overwrite: bool) -> Path:
     FIFO or device in its place, an existing folder without ``overwrite``, a folder Starkiln
     did not write (or one with files added), a missing or read-only parent.
 
+    Parameters
+    ----------
+    out_dir : path-like
+        The folder to write.
+    overwrite : bool
+        Whether ``--force`` was given.
+
+    Returns
+    -------
+    pathlib.Path
+
+    Raises
+    ------
+    OutputExistsError
+        The folder exists and ``overwrite`` is false.
+    StarkilnError
+        Any other refusal, one line naming ``out_dir``.
+
     References
     ----------
     Common practice (refuse to replace what the program did not write).
@@ -406,6 +453,7 @@ def write_ocio_config(display, out_dir, overwrite: bool = False, adaptation: str
     """
     ocio = _ocio()
     out = check_output_folder(out_dir, overwrite)
+    display = _display_for_ocio(display)
     config, files, names = build_config(display, adaptation, curve)
     parent = out.parent if str(out.parent) else Path(".")
     tmp = Path(tempfile.mkdtemp(dir=parent, prefix=f".{out.name}.starkiln-{os.getpid()}-",
@@ -424,7 +472,7 @@ def write_ocio_config(display, out_dir, overwrite: bool = False, adaptation: str
                                 f"({' '.join(str(exc).split())})") from None
         _write_file(tmp / CONFIG_NAME, config.serialize().encode("utf-8"))
         written = (CONFIG_NAME, *files)
-        manifest = {"starkiln_ocio": MANIFEST_FORMAT, "display": _display_for_ocio(display).name,
+        manifest = {"starkiln_ocio": MANIFEST_FORMAT, "display": display.name,
                     "ocio_display": names["display"], "view": names["view"],
                     "adaptation": adaptation, "curve": curve, "files": list(written),
                     "opencolorio": ocio.__version__}
