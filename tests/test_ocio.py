@@ -342,6 +342,27 @@ def test_a_failed_write_leaves_the_old_folder_and_no_temporary(tmp_path, monkeyp
     assert entries(tmp_path) == {"studio"}
 
 
+def test_a_folder_a_killed_run_left_is_removed_by_the_next_run(tmp_path):
+    pid = 4_000_000
+    while True:  # a process id no process has (POSIX kill(2) with signal 0: ESRCH)
+        try:
+            os.kill(pid, 0)
+        except ProcessLookupError:
+            break
+        except PermissionError:
+            pass
+        pid += 1
+    left = tmp_path / f".dome.starkiln-{pid}-abcd1234.tmp"
+    left.mkdir()
+    (left / "config.ocio").write_text("half")
+    young = tmp_path / f".dome.starkiln-{pid}-efgh5678.tmp"
+    young.mkdir()
+    old_s = os.stat(left).st_mtime - 3600
+    os.utime(left, (old_s, old_s))
+    ocio_config.write_ocio_config("srgb", tmp_path / "dome")
+    assert entries(tmp_path) == {"dome", young.name}  # a young one may still be running
+
+
 def test_bad_options_are_named(tmp_path):
     with pytest.raises(StarkilnError, match="adaptation 'sideways'"):
         ocio_config.write_ocio_config("srgb", tmp_path / "o", adaptation="sideways")

@@ -58,7 +58,7 @@ from pathlib import Path
 
 import numpy as np
 
-from starkiln.engine.atomic import OutputExistsError, new_file_mode
+from starkiln.engine.atomic import OutputExistsError, new_file_mode, remove_stale_temporaries
 from starkiln.engine.colour.displays import (D65_4DIGIT, PRESETS, WORKING_SPACE_NOTES,
                                              WORKING_SPACES, Display, get_display)
 from starkiln.engine.colour.observers import xy_to_XYZ
@@ -431,6 +431,9 @@ def write_ocio_config(display, out_dir, overwrite: bool = False, adaptation: str
     is validated (``Config.validate()``) there and checked to build its view's processor, then
     the folder is renamed into place. With ``overwrite`` an earlier folder of Starkiln's is
     renamed aside first, and removed once the new one is in place (put back if that fails).
+    Any failure, Ctrl-C or SIGTERM removes the temporary folder; one that SIGKILL left is
+    removed by a later run once it is a minute old and its process is gone
+    (:func:`starkiln.engine.atomic.remove_stale_temporaries`).
 
     Parameters
     ----------
@@ -456,6 +459,7 @@ def write_ocio_config(display, out_dir, overwrite: bool = False, adaptation: str
     display = _display_for_ocio(display)
     config, files, names = build_config(display, adaptation, curve)
     parent = out.parent if str(out.parent) else Path(".")
+    remove_stale_temporaries(parent, folders=True)  # what a killed run left (SIGKILL)
     tmp = Path(tempfile.mkdtemp(dir=parent, prefix=f".{out.name}.starkiln-{os.getpid()}-",
                                 suffix=".tmp"))
     old = None
