@@ -39,6 +39,7 @@ SCRIPTS = [
     ("gui", "bench_gui.py", []),
     ("catalogue", "bench_catalogue.py", []),
     ("palette", "bench_palette.py", []),
+    ("ocio", "bench_ocio.py", []),
 ]
 
 

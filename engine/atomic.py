@@ -86,12 +86,15 @@ def _process_gone(pid: int) -> bool:
     return False
 
 
-def remove_stale_temporaries(folder, now: float | None = None) -> list[Path]:
+def remove_stale_temporaries(folder, now: float | None = None,
+                             folders: bool = False) -> list[Path]:
     """Remove temporary files a killed Starkiln left in ``folder``; return what was removed.
 
     Only regular files whose name matches :data:`TEMPORARY_NAME`, whose owner process no
     longer runs and that are older than :data:`STALE_AFTER_S` are removed; nothing else is
-    touched, and a file that cannot be removed is left alone.
+    touched, and a file that cannot be removed is left alone. With ``folders``, a folder so
+    named (an output that is itself a folder, built under a temporary name) is removed with
+    what it holds, on the same conditions.
 
     References
     ----------
@@ -109,10 +112,16 @@ def remove_stale_temporaries(folder, now: float | None = None) -> list[Path]:
             continue
         try:
             info = entry.stat(follow_symlinks=False)
-            if (not stat.S_ISREG(info.st_mode) or now - info.st_mtime < STALE_AFTER_S
-                    or not _process_gone(int(m["pid"]))):
+            is_folder = folders and stat.S_ISDIR(info.st_mode)
+            if ((not stat.S_ISREG(info.st_mode) and not is_folder)
+                    or now - info.st_mtime < STALE_AFTER_S or not _process_gone(int(m["pid"]))):
                 continue
-            os.unlink(entry.path)
+            if is_folder:
+                import shutil
+
+                shutil.rmtree(entry.path)
+            else:
+                os.unlink(entry.path)
             removed.append(Path(entry.path))
         except OSError:
             continue
