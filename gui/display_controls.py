@@ -122,7 +122,7 @@ class DisplayTab(Form):
         if key is None:
             key = DEMO_DISPLAY if d == demo_display() else CUSTOM_DISPLAY
         self.display.set_value(key)
-        tf = f"gamma {d.gamma:g}" if d.transfer == "gamma" else d.transfer
+        tf = d.transfer_label
         self.summary.setText(
             f"{d.name}\nred {d.red_xy[0]:.4f}, {d.red_xy[1]:.4f}   green {d.green_xy[0]:.4f}, "
             f"{d.green_xy[1]:.4f}\nblue {d.blue_xy[0]:.4f}, {d.blue_xy[1]:.4f}   white "
@@ -205,6 +205,8 @@ class DisplayEditor(QtWidgets.QDialog):
                 "red_xy": (v["red_x"], v["red_y"]), "green_xy": (v["green_x"], v["green_y"]),
                 "blue_xy": (v["blue_x"], v["blue_y"]), "white_xy": (v["white_x"], v["white_y"]),
                 "transfer": self.transfer.currentData(), "gamma": v["gamma"],
+                # a table's samples are kept from the current display (the editor shows none)
+                **({} if self.transfer.currentData() == "table" else {"transfer_samples": ()}),
                 "peak_luminance_cd_m2": v["peak"]}
 
     def apply(self) -> bool:

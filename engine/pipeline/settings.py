@@ -183,7 +183,8 @@ class Settings:
             if isinstance(v, Display):
                 v = {k: (list(x) if isinstance(x, tuple) else x)
                      for k, x in dataclasses.asdict(v).items()
-                     if not (k == "kind" and x == "display")}  # files of displays unchanged
+                     if not (k == "kind" and x == "display")  # files of displays unchanged
+                     and not (k == "transfer_samples" and not x)}
             if v is None:
                 continue  # TOML has no null: an absent key means the default (None)
             d[f.name] = v
