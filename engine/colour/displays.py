@@ -600,9 +600,17 @@ def table_encode(linear, samples) -> np.ndarray:
     :func:`table_decode` by linear interpolation; a flat run of equal samples maps to its
     lowest code value (module docstring; [ICC1] section 10.6)."""
     codes, s = _table_arrays(samples)
-    # np.interp needs increasing abscissae: keep the first (lowest code value) of equal samples
-    values, first = np.unique(s, return_index=True)
-    return np.interp(_unit(linear), values, codes[first])
+    v = _unit(linear)
+    values = np.unique(s)  # the distinct outputs, increasing; a run of equal samples is one
+    first = np.searchsorted(s, values, side="left")  # each run's first and last sample
+    last = np.searchsorted(s, values, side="right") - 1
+    if values.size == 1:
+        return np.zeros_like(v)
+    k = np.minimum(np.searchsorted(values, v, side="right") - 1, values.size - 2)
+    t = (v - values[k]) / (values[k + 1] - values[k])
+    # between runs k and k + 1 the curve rises from run k's last sample to run k + 1's first
+    code = codes[last[k]] + t * (codes[first[k + 1]] - codes[last[k]])
+    return np.where(t <= 0.0, codes[first[k]], np.where(t >= 1.0, codes[first[k + 1]], code))
 
 
 def encode(rgb_linear, transfer: str, gamma: float = 2.2, peak_cd_m2: float = 100.0,

@@ -205,6 +205,32 @@ def fit_transfer(code_values: np.ndarray, linear: np.ndarray, table=None,
             "transfer_samples": tuple(float(s) for s in samples), "error": 0.0}
 
 
+def chromaticity_of(XYZ) -> tuple[float, float]:
+    """xy of tristimulus values ([CIE15] eq. 7.3) as a pair of floats; a point past the
+    x + y = 1 edge by less than 1e-4 (a primary on the spectral edge, read back through
+    rounded tags or readings) is moved onto it, keeping x / y.
+
+    Parameters
+    ----------
+    XYZ : array-like
+        Tristimulus values, any scale.
+
+    Returns
+    -------
+    tuple of float
+
+    References
+    ----------
+    [CIE15] eq. 7.3.
+    """
+    X, Y, Z = (float(v) for v in XYZ)
+    total = X + Y + Z
+    x, y = X / total, Y / total
+    if 1.0 < x + y <= 1.0 + 1e-4:
+        x, y = x / (x + y), y / (x + y)
+    return x, y
+
+
 def _xyz(pair) -> np.ndarray:
     """The XYZ half of a Pillow (XYZ, xyY) tag pair."""
     return np.array(pair[0], dtype=np.float64)
@@ -237,7 +263,6 @@ def display_from_icc(path, name: str | None = None) -> ImportedProfile:
     from PIL import ImageCms
 
     from starkiln.engine.colour.displays import Display
-    from starkiln.engine.colour.observers import XYZ_to_xy
     from starkiln.engine.colour.whites import adaptation_matrix
 
     path = Path(path)
@@ -283,9 +308,8 @@ def display_from_icc(path, name: str | None = None) -> ImportedProfile:
         notes.append("no chromatic adaptation tag: colorants adapted back from D50 with "
                      "Bradford (ICC.1 Annex E)")
     primaries_XYZ = back @ colorant_XYZ
-    red, green, blue = (tuple(float(v) for v in XYZ_to_xy(primaries_XYZ[:, i]))
-                        for i in range(3))
-    white = tuple(float(v) for v in XYZ_to_xy(white_XYZ))
+    red, green, blue = (chromaticity_of(primaries_XYZ[:, i]) for i in range(3))
+    white = chromaticity_of(white_XYZ)
     if info.luminance is not None:
         peak = float(info.luminance[0][1])
     else:

@@ -14,7 +14,8 @@ The primaries and the white are the readings' chromaticities ([CIE15] eq. 7.3); 
 luminance is the white's Y in cd/m2. With a grey ramp the tone curve is the ramp's relative
 luminance ``Y / Y_white`` against its code values, with code 0 giving 0 and code 1 the
 white: a pure power is kept when one fits every reading within 0.01 (readings are noisy), else
-a ``table`` transfer of 33 samples interpolated linearly from the readings. Without a ramp the
+a ``table`` transfer: the readings themselves when their code values, with 0 and 1, are
+equally spaced, otherwise 33 samples interpolated linearly from them. Without a ramp the
 sRGB curve is assumed ([IEC61966-2-1]) and said in a note.
 
 An additive display gives ``X_R + X_G + X_B = X_W`` (and so for Y and Z); when the sum differs
@@ -157,7 +158,11 @@ def _ramp_transfer(ramp, white_Y: float, source: str) -> tuple[dict, list]:
         notes.append("the grey ramp falls somewhere as the code value rises: made "
                      "non-decreasing")
         y = np.maximum.accumulate(y)
-    table = np.interp(np.linspace(0.0, 1.0, RAMP_TABLE_SAMPLES), codes, y)
+    steps = np.diff(codes)
+    if codes.size <= 4096 and np.all(steps > 0) and np.ptp(steps) < 1e-6:
+        table = y  # equally spaced readings (0 and 1 included): the table is the readings
+    else:
+        table = np.interp(np.linspace(0.0, 1.0, RAMP_TABLE_SAMPLES), codes, y)
     fit = fit_transfer(codes, y, table, tolerance=RAMP_GAMMA_TOLERANCE)
     return fit, notes
 
@@ -190,10 +195,10 @@ def display_from_readings(text: str, source: str = "readings", name: str | None 
     [CIE15] eq. 7.3; [IEC61966-2-1]; module docstring.
     """
     from starkiln.engine.colour.displays import Display, in_triangle
-    from starkiln.engine.colour.observers import XYZ_to_xy
+    from starkiln.engine.colour.icc_profiles import chromaticity_of
 
     patches, ramp = read_readings(text, source)
-    xy = {p: tuple(float(v) for v in XYZ_to_xy(patches[p])) for p in PRIMARY_PATCHES}
+    xy = {p: chromaticity_of(patches[p]) for p in PRIMARY_PATCHES}
     triangle = np.array([xy["red"], xy["green"], xy["blue"]])
     if not in_triangle(np.array(xy["white"]), triangle):
         raise SettingsError(f"{source}: the white reading ({xy['white'][0]:.4f}, "
