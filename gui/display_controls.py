@@ -8,6 +8,8 @@ its control and the settings stay as they were.
 
 from __future__ import annotations
 
+from pathlib import Path
+
 from PySide6 import QtCore, QtWidgets
 
 from starkiln.engine.colour import displays as engine_displays
@@ -129,7 +131,7 @@ class DisplayTab(Form):
         from starkiln.engine.errors import read_text_file
 
         def build(p):
-            return display_from_readings(read_text_file(p, "readings file"), str(p))
+            return display_from_readings(read_text_file(Path(p), "readings file"), str(p))
 
         return self._use_built(build, path)
 
