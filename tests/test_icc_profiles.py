@@ -67,15 +67,19 @@ def test_littlecms_srgb_gives_the_srgb_preset(lcms_srgb):
     assert d.transfer == "srgb"
 
 
-@pytest.mark.parametrize("make", ["lcms-srgb", "gamma-2.2"])
+TOE_CURVE = 0.02 * np.linspace(0, 1, 17) + 0.98 * np.linspace(0, 1, 17) ** 2.6
+
+
+@pytest.mark.parametrize("make", ["lcms-srgb", "gamma-2.2", "table"])
 def test_1000_colours_agree_with_littlecms(make, lcms_srgb, tmp_path):
     """LittleCMS's transform (profile -> Lab D50, 8-bit, unoptimised) and the imported display
     (decode, its RGB -> XYZ, Bradford to D50 by colour-science, CIELAB by colour-science)
     agree within one 8-bit Lab code (1/255 of the L range; 1 unit of a*, b*)."""
     import colour
 
+    trc = ib.curv_gamma(2.2) if make == "gamma-2.2" else ib.curv_table(TOE_CURVE)
     path = lcms_srgb if make == "lcms-srgb" else _write(
-        tmp_path, "g22.icc", ib.matrix_trc(SRGB_XY, D65_XY, ib.curv_gamma(2.2)))
+        tmp_path, "p.icc", ib.matrix_trc(SRGB_XY, D65_XY, trc))
     d = display_from_icc(path).display
     rgb8 = np.random.default_rng(11).integers(0, 256, (1000, 3), dtype=np.uint8)
     t = ImageCms.buildTransform(ImageCms.getOpenProfile(str(path)),

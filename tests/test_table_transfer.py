@@ -133,3 +133,34 @@ def test_render_and_colour_query_use_the_table(tmp_path):
     assert out.returncode == 0, out.stderr
     np.testing.assert_allclose(json.loads(out.stdout)["rgb_encoded"], r.rgb_encoded, atol=1e-6)
     assert get_display(str(tmp_path / "t.json")) == d
+
+
+def test_catalogue_grid_holds_its_bound_under_a_table_transfer():
+    # the catalogue's fast path (an interpolated grid over render) stays within its CIEDE2000
+    # bound under the kinks a table transfer has at every sample (colour-science referee,
+    # tests/test_fastpath.py); the invented dome readings give the table
+    from starkiln.assets import asset_path
+    from starkiln.engine.catalogue.grid_build import build_colour_grid
+    from starkiln.engine.colour.measured import display_from_readings
+    from starkiln.engine.pipeline.render import render
+    import colour
+
+    from test_fastpath import DELTA_E_BOUND
+
+    def lab(encoded):  # the format's definition ([ICC1] 10.6), then colour-science throughout
+        d = settings.display
+        v = np.clip(encoded, 0.0, 1.0)
+        linear = np.interp(v, np.linspace(0, 1, len(d.transfer_samples)), d.transfer_samples)
+        space = colour.RGB_Colourspace("dome", np.array([d.red_xy, d.green_xy, d.blue_xy]),
+                                       np.array(d.white_xy))
+        return colour.XYZ_to_Lab(colour.RGB_to_XYZ(linear, space), np.array(d.white_xy))
+
+    dome = display_from_readings(asset_path("dome_readings.csv").read_text(), "dome").display
+    assert dome.transfer == "table"
+    settings = Settings(display=dome)
+    grid = build_colour_grid(settings)
+    t = np.exp(np.random.default_rng(8).uniform(np.log(500.0), np.log(100000.0), 20000))
+    exact = render(settings, t).rgb_encoded
+    fast = np.stack(grid.lookup(t)[:3], axis=-1)
+    de = colour.difference.delta_E_CIE2000(lab(exact), lab(fast))
+    assert de.max() <= DELTA_E_BOUND, de.max()

@@ -135,7 +135,9 @@ def read_trc(data: bytes, offset: int, size: int, code_values: np.ndarray, what:
                                 f"{ACCEPTED}")
         p = [v / 65536.0 for v in struct.unpack(f">{counts[function]}i",
                                                 tag[12:12 + 4 * counts[function]])]
-        g, a, b, c, d, e, f = (p + [0.0] * 7)[:1] + (p[1:] + [1.0, 0.0, 0.0, 0.0, 0.0, 0.0])[:6]
+        named = dict(zip("gabcdef", p))  # the parameters in the order of [ICC1] Table 68
+        g, a, b = named["g"], named.get("a", 1.0), named.get("b", 0.0)
+        c, d, e, f = (named.get(k, 0.0) for k in "cdef")
         x = code_values
         if function == 0:
             y = np.power(x, g)
