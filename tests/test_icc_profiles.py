@@ -51,7 +51,7 @@ def test_the_test_writer_reads_back_through_littlecms():
     grey = np.arange(256, dtype=np.uint8)
     img = Image.fromarray(np.repeat(grey[None, :, None], 3, axis=2), "RGB")
     t = ImageCms.buildTransform(ImageCms.getOpenProfile(io.BytesIO(data)),
-                                ImageCms.createProfile("LAB"), "RGB", "LAB", flags=0x100)
+                                ImageCms.createProfile("LAB"), "RGB", "LAB", flags=ImageCms.Flags.NOOPTIMIZE)
     L8 = np.asarray(ImageCms.applyTransform(img, t))[0, :, 0].astype(float)
     Y = (grey / 255.0) ** (563 / 256)
     L = np.where(Y > (6 / 29) ** 3, 116 * np.cbrt(Y) - 16, Y * (29 / 3) ** 3)
@@ -83,7 +83,7 @@ def test_1000_colours_agree_with_littlecms(make, lcms_srgb, tmp_path):
     d = display_from_icc(path).display
     rgb8 = np.random.default_rng(11).integers(0, 256, (1000, 3), dtype=np.uint8)
     t = ImageCms.buildTransform(ImageCms.getOpenProfile(str(path)),
-                                ImageCms.createProfile("LAB"), "RGB", "LAB", flags=0x100)
+                                ImageCms.createProfile("LAB"), "RGB", "LAB", flags=ImageCms.Flags.NOOPTIMIZE)
     raw = np.asarray(ImageCms.applyTransform(Image.fromarray(rgb8[None], "RGB"), t))[0]
     lcms = np.column_stack([raw[:, 0].astype(float) * 100 / 255, raw[:, 1].view(np.int8),
                             raw[:, 2].view(np.int8)]).astype(float)
