@@ -25,7 +25,23 @@ def add_parsers(sub) -> None:
     add_colour_options(c)
 
     sub.add_parser("whites", help="list the scene-white presets")
-    sub.add_parser("displays", help="list the display presets")
+    d = sub.add_parser("displays", help="list the display presets; import or measure a display",
+                       description="List the display presets and working spaces; with "
+                                   "'import' or 'measure', write a JSON display profile.")
+    dsub = d.add_subparsers(dest="displays_command", metavar="{import,measure}")
+    imp = dsub.add_parser("import", help="a JSON display profile from an ICC display profile",
+                          description="Read a matrix/TRC ICC display profile (v2 or v4) and "
+                                      "write it as a JSON display profile.")
+    imp.add_argument("profile", metavar="PROFILE.icc", help="the ICC display profile")
+    meas = dsub.add_parser("measure", help="a JSON display profile from colorimeter readings",
+                           description="Build a JSON display profile from readings of the "
+                                       "red, green, blue and white patches (and a grey ramp); "
+                                       "columns in docs/formats.md.")
+    meas.add_argument("readings", metavar="READINGS.csv", help="the readings (CSV)")
+    for q in (imp, meas):
+        q.add_argument("-o", "--out", required=True, metavar="PROFILE.json",
+                       help="the JSON display profile to write")
+        q.add_argument("--force", action="store_true", help="overwrite OUT if it exists")
 
 
 def _temperature_from_args(args) -> float:
@@ -134,21 +150,66 @@ def cmd_whites(args, out) -> int:
     return 0
 
 
+def _describe_written(display, path, out) -> None:
+    """Two lines on what a written profile holds."""
+    d = display
+    out.write(f"wrote {path}: {d.name!r}\n")
+    out.write(f"  red {d.red_xy[0]:.4f},{d.red_xy[1]:.4f}  green {d.green_xy[0]:.4f},"
+              f"{d.green_xy[1]:.4f}  blue {d.blue_xy[0]:.4f},{d.blue_xy[1]:.4f}  white "
+              f"{d.white_xy[0]:.4f},{d.white_xy[1]:.4f}  {d.transfer_label}  "
+              f"{d.peak_luminance_cd_m2:g} cd/m2\n")
+
+
+def cmd_displays_import(args, out) -> int:
+    """``starkiln displays import PROFILE.icc -o PROFILE.json``: one call to the engine."""
+    from starkiln.engine.colour.icc_profiles import import_icc_profile
+
+    imported = import_icc_profile(args.profile, args.out, overwrite=args.force)
+    _describe_written(imported.display, args.out, out)
+    for note in imported.notes:
+        out.write(f"  note: {note}\n")
+    return 0
+
+
+def cmd_displays_measure(args, out) -> int:
+    """``starkiln displays measure READINGS.csv -o PROFILE.json``: one call to the engine;
+    its warnings (a display that is not additive) go to stderr, one line each, exit 0."""
+    import sys
+
+    from starkiln.engine.colour.measured import measure_display_profile
+
+    measured = measure_display_profile(args.readings, args.out, overwrite=args.force)
+    for warning in measured.warnings:
+        sys.stderr.write(f"starkiln: warning: {warning}\n")
+    _describe_written(measured.display, args.out, out)
+    for note in measured.notes:
+        out.write(f"  note: {note}\n")
+    return 0
+
+
 def cmd_displays(args, out) -> int:
-    """``starkiln displays``: the display presets, then the scene-linear working spaces."""
+    """``starkiln displays``: the display presets, then the scene-linear working spaces;
+    ``displays import`` and ``displays measure`` write a JSON display profile."""
+    sub = getattr(args, "displays_command", None)
+    if sub == "import":
+        return cmd_displays_import(args, out)
+    if sub == "measure":
+        return cmd_displays_measure(args, out)
     from starkiln.engine.colour.displays import (PRESET_NOTES, PRESETS, WORKING_SPACE_NOTES,
                                                  WORKING_SPACES)
 
     out.write("displays (display-referred code values):\n")
     for name, d in PRESETS.items():
-        tf = f"gamma {d.gamma:g}" if d.transfer == "gamma" else d.transfer
+        tf = d.transfer_label
         out.write(f"  {name:<11} white {d.white_xy[0]:.4f},{d.white_xy[1]:.4f}  {tf:<9} "
                   f"{d.peak_luminance_cd_m2:g} cd/m2  {PRESET_NOTES[name]}\n")
     out.write("working spaces (scene-linear, no transfer function, no gamut clip):\n")
     for name, d in WORKING_SPACES.items():
         out.write(f"  {name:<11} white {d.white_xy[0]:.5f},{d.white_xy[1]:.5f}  "
                   f"{WORKING_SPACE_NOTES[name]}\n")
-    out.write("also: a JSON display profile (see docs/formats.md, 'Display profiles (JSON)')\n")
+    out.write("also: a JSON display profile (see docs/formats.md, 'Display profiles (JSON)'),\n"
+              "  written by 'starkiln displays import PROFILE.icc' or 'starkiln displays "
+              "measure READINGS.csv'\n")
     return 0
 
 

@@ -8,6 +8,8 @@ its control and the settings stay as they were.
 
 from __future__ import annotations
 
+from pathlib import Path
+
 from PySide6 import QtCore, QtWidgets
 
 from starkiln.engine.colour import displays as engine_displays
@@ -16,11 +18,14 @@ from starkiln.gui.model import demo_display, demo_display_path
 
 DEMO_DISPLAY = "demo-dome"
 CUSTOM_DISPLAY = "custom"
+IMPORT_ICC = "import-icc"  # picker entries that open a file and build a display from it
+FROM_READINGS = "from-readings"
 
 DISPLAY_LABELS = {
     "srgb": "sRGB", "display-p3": "Display P3", "dci-p3": "DCI-P3",
     "rec2020": "Rec. 2020", "rec2100-pq": "Rec. 2100 PQ",
     DEMO_DISPLAY: "Harbourlight dome (demo)", CUSTOM_DISPLAY: "Custom profile",
+    IMPORT_ICC: "Import ICC profile\u2026", FROM_READINGS: "From readings\u2026",
 }
 
 
@@ -32,7 +37,8 @@ class DisplayTab(Form):
     def __init__(self, model, parent=None):
         super().__init__(parent)
         self.model = model
-        options = tuple(engine_displays.PRESETS) + (DEMO_DISPLAY, CUSTOM_DISPLAY)
+        options = tuple(engine_displays.PRESETS) + (DEMO_DISPLAY, CUSTOM_DISPLAY, IMPORT_ICC,
+                                                    FROM_READINGS)
         self.display = self.row("Display",
                                 Choice("display", options, self._choose, DISPLAY_LABELS),
                                 "Primaries, white, transfer function and peak luminance")
@@ -54,6 +60,9 @@ class DisplayTab(Form):
         self.form.addRow(self.error)
         self.summary = self.note("")
         self.summary.setObjectName("display-summary")
+        self.notes = self.note("")
+        self.notes.setObjectName("display-notes")
+        self.notes.setWordWrap(True)
         self.summary.setTextInteractionFlags(QtCore.Qt.TextInteractionFlag.TextSelectableByMouse)
         self.edit_button.clicked.connect(self.edit)
         self.open_button.clicked.connect(self._open_dialog)
@@ -74,6 +83,8 @@ class DisplayTab(Form):
                               QtCore.Qt.ItemDataRole.ToolTipRole)
 
     def _choose(self, key: str) -> None:
+        if key not in (IMPORT_ICC, FROM_READINGS):
+            self.notes.setText("")  # the notes belong to an imported or measured display
         if key is None:  # the group's heading
             self.refresh()
             return
@@ -86,6 +97,14 @@ class DisplayTab(Form):
             return
         if key == DEMO_DISPLAY:
             self.open_profile(demo_display_path())
+            return
+        if key == IMPORT_ICC:
+            self._import_icc_dialog()
+            self.refresh()
+            return
+        if key == FROM_READINGS:
+            self._readings_dialog()
+            self.refresh()
             return
         self.model.change("display", display=engine_displays.PRESETS[key])
 
@@ -100,6 +119,54 @@ class DisplayTab(Form):
             return False
         self.error.clear_error()
         return True
+
+    def _use_built(self, build, path) -> bool:
+        """Use the display ``build(path)`` makes (the engine reads the file); a bad file is
+        shown inline and in a message box, and the display stays as it was."""
+        try:
+            built = build(path)
+            self.model.change("display", display=built.display)
+        except (INPUT_ERRORS + (OSError,)) as exc:
+            self.error.show_error(str(exc))
+            self.message.emit("Display not changed", str(exc))
+            self.refresh()
+            return False
+        self.error.clear_error()
+        lines = list(getattr(built, "warnings", ())) + list(built.notes)
+        self.notes.setText("\n".join(lines))
+        return True
+
+    def import_icc(self, path) -> bool:
+        """Use the display of a matrix/TRC ICC display profile
+        (:func:`starkiln.engine.colour.icc_profiles.display_from_icc`)."""
+        from starkiln.engine.colour.icc_profiles import display_from_icc
+
+        return self._use_built(display_from_icc, path)
+
+    def from_readings(self, path) -> bool:
+        """Use the display built from a colorimeter readings CSV
+        (:func:`starkiln.engine.colour.measured.display_from_readings`)."""
+        from starkiln.engine.colour.measured import display_from_readings
+        from starkiln.engine.errors import read_text_file
+
+        def build(p):
+            return display_from_readings(read_text_file(Path(p), "readings file"), str(p))
+
+        return self._use_built(build, path)
+
+    def _import_icc_dialog(self) -> None:
+        self._pick_and(self.import_icc, "Import an ICC display profile", "",
+                       "ICC profiles (*.icc *.icm);;All files (*)")
+
+    def _readings_dialog(self) -> None:
+        self._pick_and(self.from_readings, "Display readings", str(demo_display_path().parent),
+                       "Readings (*.csv);;All files (*)")
+
+    def _pick_and(self, use, title: str, folder: str, filters: str) -> None:
+        """Ask for a file to open and hand it to ``use``; nothing happens on Cancel."""
+        path, _ = QtWidgets.QFileDialog.getOpenFileName(self, title, folder, filters)
+        if path:
+            use(path)
 
     def save_profile(self, path) -> bool:
         """Write the current display as a JSON profile (atomically)."""
@@ -142,7 +209,7 @@ class DisplayTab(Form):
         if key is None:
             key = DEMO_DISPLAY if d == demo_display() else CUSTOM_DISPLAY
         self.display.set_value(key)
-        tf = f"gamma {d.gamma:g}" if d.transfer == "gamma" else d.transfer
+        tf = d.transfer_label
         self.summary.setText(
             f"{d.name}\nred {d.red_xy[0]:.4f}, {d.red_xy[1]:.4f}   green {d.green_xy[0]:.4f}, "
             f"{d.green_xy[1]:.4f}\nblue {d.blue_xy[0]:.4f}, {d.blue_xy[1]:.4f}   white "
@@ -225,6 +292,8 @@ class DisplayEditor(QtWidgets.QDialog):
                 "red_xy": (v["red_x"], v["red_y"]), "green_xy": (v["green_x"], v["green_y"]),
                 "blue_xy": (v["blue_x"], v["blue_y"]), "white_xy": (v["white_x"], v["white_y"]),
                 "transfer": self.transfer.currentData(), "gamma": v["gamma"],
+                # a table's samples are kept from the current display (the editor shows none)
+                **({} if self.transfer.currentData() == "table" else {"transfer_samples": ()}),
                 "peak_luminance_cd_m2": v["peak"]}
 
     def apply(self) -> bool:

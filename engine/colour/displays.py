@@ -32,7 +32,16 @@ A custom display is a small JSON *display profile*::
     }
 
 ``transfer.function`` is one of ``srgb``, ``gamma`` (with ``gamma``, 1-4),
-``linear`` or ``pq``.
+``linear``, ``pq`` or ``table``. A ``table`` transfer is a sampled tone curve::
+
+    "transfer": {"function": "table", "samples": [0.0, 0.0056, 0.0331, ..., 1.0]}
+
+``samples`` holds N (2-4096) display-linear outputs 0-1 at N equally spaced code values
+``V_i = i / (N - 1)``; they are non-decreasing, the first is 0 and the last 1. Decoding
+interpolates linearly between them (``np.interp``), as an ICC ``curveType`` does ([ICC1]
+section 10.6); encoding is the inverse by the same interpolation, and on a flat run of equal
+samples it gives the lowest code value of the run. On a :class:`Display` the samples are the
+tuple ``transfer_samples`` (empty for every other transfer).
 """
 
 from __future__ import annotations
@@ -47,7 +56,9 @@ from starkiln.engine.colour.observers import xy_to_XYZ
 from starkiln.engine.colour.whites import ACES_WHITE_XY
 from starkiln.engine.errors import SettingsError, finite_number, plain_type_name, shown_value
 
-TRANSFERS = ("srgb", "gamma", "linear", "pq")
+TRANSFERS = ("srgb", "gamma", "linear", "pq", "table")
+#: Bounds of a ``table`` transfer's sample count (module docstring).
+TABLE_SAMPLES_MIN, TABLE_SAMPLES_MAX = 2, 4096
 #: What a target is: a ``display`` (display-referred code values) or a ``working-space``
 #: (scene-linear RGB of a render or compositing pipeline, no transfer function).
 KINDS = ("display", "working-space")
@@ -67,6 +78,7 @@ class Display:
     gamma: float = 2.2
     peak_luminance_cd_m2: float = 80.0
     kind: str = "display"  # or "working-space": scene-linear, primaries may lie outside the locus
+    transfer_samples: tuple = ()  # the ``table`` transfer's samples (module docstring), else ()
 
     def __post_init__(self):
         if not isinstance(self.name, str):
@@ -95,6 +107,8 @@ class Display:
         if not isinstance(self.transfer, str) or self.transfer not in TRANSFERS:
             raise SettingsError(f"{where}: transfer {self.transfer!r} unknown; accepted: "
                                 f"{', '.join(TRANSFERS)}")
+        object.__setattr__(self, "transfer_samples",
+                           table_samples(self.transfer_samples, self.transfer, where))
         g = finite_number(self.gamma, f"{where}: gamma")
         if not 1.0 <= g <= 4.0:
             raise SettingsError(f"{where}: gamma {g:g} is outside 1-4")
@@ -108,7 +122,7 @@ class Display:
         if abs(area) < 1e-4:
             raise SettingsError(f"{where}: primaries are (nearly) collinear; they must span a "
                                 "triangle")
-        if not _in_triangle(np.array(self.white_xy), m):
+        if not in_triangle(np.array(self.white_xy), m):
             raise SettingsError(f"{where}: white_xy {list(self.white_xy)} lies outside the "
                                 "primaries' triangle")
 
@@ -118,6 +132,8 @@ class Display:
         transfer = {"function": self.transfer}
         if self.transfer == "gamma":
             transfer["gamma"] = self.gamma
+        if self.transfer == "table":
+            transfer["samples"] = list(self.transfer_samples)
         return {
             "starkiln_display": PROFILE_FORMAT,
             "name": self.name,
@@ -145,11 +161,75 @@ class Display:
 
     def encode(self, rgb_linear) -> np.ndarray:
         """Display-linear 0-1 -> encoded signal 0-1 through this display's transfer function."""
-        return encode(rgb_linear, self.transfer, self.gamma, self.peak_luminance_cd_m2)
+        return encode(rgb_linear, self.transfer, self.gamma, self.peak_luminance_cd_m2,
+                      self.transfer_samples)
 
     def decode(self, rgb_encoded) -> np.ndarray:
         """Encoded signal 0-1 -> display-linear 0-1 (inverse of :meth:`encode`)."""
-        return decode(rgb_encoded, self.transfer, self.gamma, self.peak_luminance_cd_m2)
+        return decode(rgb_encoded, self.transfer, self.gamma, self.peak_luminance_cd_m2,
+                      self.transfer_samples)
+
+    @property
+    def transfer_label(self) -> str:
+        """The transfer function in words: ``srgb``, ``gamma 2.4``, ``table (33 samples)``..."""
+        if self.transfer == "gamma":
+            return f"gamma {self.gamma:g}"
+        if self.transfer == "table":
+            return f"table ({len(self.transfer_samples)} samples)"
+        return self.transfer
+
+
+def table_samples(samples, transfer: str = "table", where: str = "display") -> tuple:
+    """The checked samples of a ``table`` transfer as a tuple of floats (module docstring).
+
+    Parameters
+    ----------
+    samples : sequence of float
+        Display-linear outputs 0-1 at equally spaced code values; ``()`` for any other
+        transfer.
+    transfer : str
+        The display's transfer function; samples are accepted with ``table`` only.
+    where : str
+        Prefix of messages.
+
+    Returns
+    -------
+    tuple of float
+
+    Raises
+    ------
+    SettingsError
+        One line naming the problem and what is accepted.
+
+    References
+    ----------
+    [ICC1] section 10.6 (a curve of N equally spaced entries, interpolated linearly).
+    """
+    accepted = (f"{TABLE_SAMPLES_MIN}-{TABLE_SAMPLES_MAX} numbers 0-1, non-decreasing, "
+                "first 0, last 1")
+    if transfer != "table":
+        if samples is None or (isinstance(samples, (list, tuple)) and len(samples) == 0):
+            return ()
+        raise SettingsError(f"{where}: transfer samples are given with transfer "
+                            f"{shown_value(transfer)}; accepted: samples with 'table' only")
+    if isinstance(samples, np.ndarray):
+        samples = samples.tolist()
+    if not isinstance(samples, (list, tuple)):
+        raise SettingsError(f"{where}: transfer samples {shown_value(samples)} are "
+                            f"{plain_type_name(samples)}; accepted: a list of {accepted}")
+    n = len(samples)
+    if not TABLE_SAMPLES_MIN <= n <= TABLE_SAMPLES_MAX:
+        raise SettingsError(f"{where}: transfer table has {n} samples; accepted: {accepted}")
+    values = tuple(finite_number(v, f"{where}: transfer sample {i}", text=False)
+                   for i, v in enumerate(samples))
+    if values[0] != 0.0 or values[-1] != 1.0:
+        raise SettingsError(f"{where}: transfer table runs from {values[0]:g} to "
+                            f"{values[-1]:g}; accepted: {accepted}")
+    for i in range(1, n):
+        if values[i] < values[i - 1]:
+            raise SettingsError(f"{where}: transfer sample {i} ({values[i]:g}) is below sample "
+                                f"{i - 1} ({values[i - 1]:g}); accepted: {accepted}")
+    return values
 
 
 def xy_pair(value, what: str, text: bool = False) -> tuple[float, float]:
@@ -202,7 +282,7 @@ def _check_keys(data: dict, known, where: str, not_a_table: str = "must be a tab
 
 #: Keys of the ``[display]`` table of a settings file (the fields of :class:`Display`).
 TABLE_KEYS = ("name", "red_xy", "green_xy", "blue_xy", "white_xy", "transfer", "gamma",
-              "peak_luminance_cd_m2", "kind")
+              "peak_luminance_cd_m2", "kind", "transfer_samples")
 
 
 def display_from_table(data: dict, where: str = "display") -> Display:
@@ -241,13 +321,32 @@ def display_from_table(data: dict, where: str = "display") -> Display:
             kw[k] = _typed(data[k], float, f"{where}: {k}", "a number")
     if "kind" in data:
         kw["kind"] = _typed(data["kind"], str, f"{where}: kind", ", ".join(KINDS))
+    if "transfer_samples" in data:
+        kw["transfer_samples"] = data["transfer_samples"]
     try:
         return Display(**kw)
     except SettingsError as exc:
         raise SettingsError(f"{where}: {exc}") from None
 
 
-def _in_triangle(p: np.ndarray, tri: np.ndarray) -> bool:
+def in_triangle(p: np.ndarray, tri: np.ndarray) -> bool:
+    """True when the point ``p`` (x, y) lies strictly inside the triangle ``tri`` (3 x 2).
+
+    Parameters
+    ----------
+    p : numpy.ndarray
+        A chromaticity (x, y).
+    tri : numpy.ndarray
+        The three corners (x, y), in either order of turning.
+
+    Returns
+    -------
+    bool
+
+    References
+    ----------
+    The sign of the 2-D cross product on each side (common practice).
+    """
     def side(a, b):
         return (b[0] - a[0]) * (p[1] - a[1]) - (b[1] - a[1]) * (p[0] - a[0])
     s = [side(tri[0], tri[1]), side(tri[1], tri[2]), side(tri[2], tri[0])]
@@ -348,7 +447,7 @@ def display_from_profile(data: dict, source: str = "profile") -> Display:
     if not isinstance(transfer, dict) or "function" not in transfer:
         raise SettingsError(f"{source}: transfer must be an object with key 'function' "
                             f"({', '.join(TRANSFERS)})")
-    _check_keys(transfer, ("function", "gamma"), f"{source}: transfer")
+    _check_keys(transfer, ("function", "gamma", "samples"), f"{source}: transfer")
     fn = _typed(transfer["function"], str, f"{source}: transfer.function",
                 ", ".join(TRANSFERS)).lower()
     if fn not in TRANSFERS:
@@ -356,6 +455,11 @@ def display_from_profile(data: dict, source: str = "profile") -> Display:
                             f"accepted: {', '.join(TRANSFERS)}")
     if fn == "gamma" and "gamma" not in transfer:
         raise SettingsError(f"{source}: transfer.gamma is required with function 'gamma'")
+    if fn == "table" and "samples" not in transfer:
+        raise SettingsError(f"{source}: transfer.samples is required with function 'table' "
+                            f"({TABLE_SAMPLES_MIN}-{TABLE_SAMPLES_MAX} numbers 0-1, "
+                            "non-decreasing, first 0, last 1)")
+    samples = transfer.get("samples", ())
     gamma = _typed(transfer.get("gamma", 2.2), float, f"{source}: transfer.gamma", "1-4")
     peak = _typed(data.get("peak_luminance_cd_m2", 100.0), float,
                   f"{source}: peak_luminance_cd_m2", "0.01-10000")
@@ -364,7 +468,7 @@ def display_from_profile(data: dict, source: str = "profile") -> Display:
         _typed(data["note"], str, f"{source}: note", "text")
     kind = _typed(data.get("kind", "display"), str, f"{source}: kind", ", ".join(KINDS))
     try:
-        return Display(name, *pairs, white, fn, gamma, peak, kind)
+        return Display(name, *pairs, white, fn, gamma, peak, kind, samples)
     except SettingsError as exc:
         raise SettingsError(f"{source}: {exc}") from None
 
@@ -475,12 +579,48 @@ def pq_decode(signal) -> np.ndarray:
     return 10000.0 * _pow(np.maximum(e - PQ_C1, 0.0) / (PQ_C2 - PQ_C3 * e), 1.0 / PQ_M1)
 
 
-def encode(rgb_linear, transfer: str, gamma: float = 2.2, peak_cd_m2: float = 100.0) -> np.ndarray:
+def _table_arrays(samples) -> tuple[np.ndarray, np.ndarray]:
+    """(code values, samples) of a ``table`` transfer as arrays; an error if there are none."""
+    s = np.asarray(samples, dtype=np.float64)
+    if s.ndim != 1 or s.size < TABLE_SAMPLES_MIN:
+        raise SettingsError("transfer 'table' needs its samples; accepted: "
+                            f"{TABLE_SAMPLES_MIN}-{TABLE_SAMPLES_MAX} numbers 0-1")
+    return np.linspace(0.0, 1.0, s.size), s
+
+
+def table_decode(encoded, samples) -> np.ndarray:
+    """``table`` transfer, code value 0-1 -> display-linear 0-1: linear interpolation between
+    the samples at equally spaced code values (module docstring; [ICC1] section 10.6)."""
+    codes, s = _table_arrays(samples)
+    return np.interp(_unit(encoded), codes, s)
+
+
+def table_encode(linear, samples) -> np.ndarray:
+    """``table`` transfer, display-linear 0-1 -> code value 0-1: the inverse of
+    :func:`table_decode` by linear interpolation; a flat run of equal samples maps to its
+    lowest code value (module docstring; [ICC1] section 10.6)."""
+    codes, s = _table_arrays(samples)
+    v = _unit(linear)
+    values = np.unique(s)  # the distinct outputs, increasing; a run of equal samples is one
+    first = np.searchsorted(s, values, side="left")  # each run's first and last sample
+    last = np.searchsorted(s, values, side="right") - 1
+    if values.size == 1:
+        return np.zeros_like(v)
+    k = np.minimum(np.searchsorted(values, v, side="right") - 1, values.size - 2)
+    t = (v - values[k]) / (values[k + 1] - values[k])
+    # between runs k and k + 1 the curve rises from run k's last sample to run k + 1's first
+    code = codes[last[k]] + t * (codes[first[k + 1]] - codes[last[k]])
+    return np.where(t <= 0.0, codes[first[k]], np.where(t >= 1.0, codes[first[k + 1]], code))
+
+
+def encode(rgb_linear, transfer: str, gamma: float = 2.2, peak_cd_m2: float = 100.0,
+           samples=()) -> np.ndarray:
     """Encode display-linear values (0-1 of peak) with a transfer function.
 
     ``srgb`` ([IEC61966-2-1]), ``gamma`` (V = L^(1/gamma), pure power as in
     [BT1886] with zero black), ``linear``, ``pq`` ([ST2084], with
-    linear 1.0 at ``peak_cd_m2``).
+    linear 1.0 at ``peak_cd_m2``), ``table`` (``samples``; module docstring, [ICC1]
+    section 10.6).
     """
     v = _unit(rgb_linear)
     if transfer == "srgb":
@@ -491,10 +631,13 @@ def encode(rgb_linear, transfer: str, gamma: float = 2.2, peak_cd_m2: float = 10
         return v
     if transfer == "pq":
         return pq_encode(v * peak_cd_m2)
+    if transfer == "table":
+        return table_encode(v, samples)
     raise SettingsError(f"unknown transfer {transfer!r}; accepted: {', '.join(TRANSFERS)}")
 
 
-def decode(rgb_encoded, transfer: str, gamma: float = 2.2, peak_cd_m2: float = 100.0) -> np.ndarray:
+def decode(rgb_encoded, transfer: str, gamma: float = 2.2, peak_cd_m2: float = 100.0,
+           samples=()) -> np.ndarray:
     """Inverse of :func:`encode` (same references)."""
     v = _unit(rgb_encoded)
     if transfer == "srgb":
@@ -505,4 +648,6 @@ def decode(rgb_encoded, transfer: str, gamma: float = 2.2, peak_cd_m2: float = 1
         return v
     if transfer == "pq":
         return _unit(pq_decode(v) / peak_cd_m2)
+    if transfer == "table":
+        return table_decode(v, samples)
     raise SettingsError(f"unknown transfer {transfer!r}; accepted: {', '.join(TRANSFERS)}")

@@ -24,9 +24,7 @@ METADATA_KEY = "starkiln"
 
 
 def _transfer_name(display) -> str:
-    if display.transfer == "gamma":
-        return f"gamma {display.gamma:g}"
-    return display.transfer
+    return display.transfer_label
 
 
 def lut_metadata(settings, spec: TextureSpec) -> dict:

@@ -27,7 +27,7 @@ options. TOML layout (``starkiln_settings`` is the format version)::
     green_xy = [0.3, 0.6]
     blue_xy = [0.15, 0.06]
     white_xy = [0.3127, 0.329]
-    transfer = "srgb"
+    transfer = "srgb"     # or "table" with transfer_samples = [0.0, ..., 1.0]
     gamma = 2.2
     peak_luminance_cd_m2 = 80.0
 
@@ -183,7 +183,8 @@ class Settings:
             if isinstance(v, Display):
                 v = {k: (list(x) if isinstance(x, tuple) else x)
                      for k, x in dataclasses.asdict(v).items()
-                     if not (k == "kind" and x == "display")}  # files of displays unchanged
+                     if not (k == "kind" and x == "display")  # files of displays unchanged
+                     and not (k == "transfer_samples" and not x)}
             if v is None:
                 continue  # TOML has no null: an absent key means the default (None)
             d[f.name] = v
