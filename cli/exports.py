@@ -130,6 +130,8 @@ def _settings_overriding(base, args):
     default = Settings()
     changes = {f.name: getattr(explicit, f.name) for f in dataclasses.fields(Settings)
                if getattr(explicit, f.name) != getattr(default, f.name)}
+    if not explicit.gamut_asked:
+        changes.pop("gamut", None)  # the target's default follows the target
     return base.replace(**changes) if changes else base
 
 
