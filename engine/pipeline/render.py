@@ -388,8 +388,17 @@ def _night_block(settings: Settings, chain: "_Chain", mag, sp, lab) -> dict:
         m_eff = m_eye
     intensity = nv.intensity_from_magnitude(m_eff, settings.magnitude_bright,
                                             settings.magnitude_faint, settings.intensity_curve)
+    rgb, factor, reached = _chroma_and_compensation(settings, chain, lab, sat, sp, intensity)
+    _check_finite(settings, rgb, intensity, lp)
+    return {"rgb": rgb, "intensity": intensity, "lp": lp, "cone": cone, "sat": factor,
+            "reached": reached}
+
+
+def _chroma_and_compensation(settings: Settings, chain: "_Chain", lab, sat, sp, intensity):
+    """The night colour of each star: chroma factor ``sat``, then (with ``compensate``) the dome
+    boost; returns RGB, the chroma factor achieved and whether compensation was reached."""
     rgb, inside, factor = _apply_chroma(settings, lab, sat, chain)
-    reached = np.zeros(mag.shape, dtype=bool)
+    reached = np.zeros(np.shape(sat), dtype=bool)
     if settings.compensate:
         # The audience sees each pixel at intensity x peak x its relative luminance, with their
         # own cone weight there. Boost chroma by s / s_dome; s_dome depends on the boosted
@@ -405,9 +414,61 @@ def _night_block(settings: Settings, chain: "_Chain", mag, sp, lab) -> dict:
             rgb, inside, factor = _apply_chroma(settings, lab,
                                                 np.where(reachable, wanted, 1.0e6), chain)
         reached = reachable & inside
-    _check_finite(settings, rgb, intensity, lp)
-    return {"rgb": rgb, "intensity": intensity, "lp": lp, "cone": cone, "sat": factor,
-            "reached": reached}
+    return rgb, factor, reached
+
+
+def same_stars_in(settings: Settings, rendered: Rendered) -> np.ndarray:
+    """``render(settings, T, m).rgb_linear`` from a render of the same stars for another target.
+
+    The spectral sums and the night-vision quantities do not depend on the target, so the
+    tristimulus values, cone weights, S/P ratios and intensities of ``rendered`` give the
+    colours for ``settings`` (typically the same look with a working space as the target)
+    through steps 3-5 of the chain alone: no second spectral pass. The result equals a
+    direct render with ``settings``, value for value.
+
+    Parameters
+    ----------
+    settings : Settings
+        The target to convert to; its look (observer, whites, adaptation, normalisation,
+        night vision) must be that of the settings ``rendered`` was made with; only
+        ``display`` and ``gamut`` may differ.
+    rendered : Rendered
+        The render of the stars (with or without magnitudes).
+
+    Returns
+    -------
+    numpy.ndarray
+        (..., 3) linear RGB of ``settings.display`` (scene-linear for a working space), the
+        shape of ``rendered.rgb_linear``.
+
+    References
+    ----------
+    As :func:`render`: [CIE15], [RP177], [CIE191] (the cone weight reused).
+
+    Examples
+    --------
+    >>> from starkiln.engine.pipeline.settings import Settings
+    >>> shown = render(Settings(), [3000.0, 9000.0])
+    >>> aces = Settings(display="acescg")
+    >>> bool(np.array_equal(same_stars_in(aces, shown), render(aces, [3000.0, 9000.0]).rgb_linear))
+    True
+    """
+    shape = rendered.rgb_linear.shape
+    t_flat = np.asarray(rendered.temperature_K, dtype=np.float64).reshape(-1)
+    XYZ_flat = np.asarray(rendered.XYZ, dtype=np.float64).reshape(-1, 3)
+    _, first, inverse = np.unique(t_flat, return_index=True, return_inverse=True)
+    rgb_u, _ = _display_rgb(settings, XYZ_flat[first])
+    if rendered.magnitude is None:
+        return rgb_u[inverse].reshape(shape)
+    chain = _chain(settings)
+    lab = XYZ_to_Oklab(rgb_u @ chain.rgb_to_XYZ_D65.T)[inverse]
+    cone = np.asarray(rendered.cone_weight, dtype=np.float64).reshape(-1)
+    sat = (nv.saturation_from_cone_weight(cone) if settings.vision == "mesopic"
+           else np.ones(cone.shape))
+    rgb, _, _ = _chroma_and_compensation(
+        settings, chain, lab, sat, np.asarray(rendered.scotopic_ratio).reshape(-1),
+        np.broadcast_to(rendered.intensity, shape[:-1]).reshape(-1))
+    return rgb.reshape(shape)
 
 
 def _check_finite(settings: Settings, *arrays) -> None:
