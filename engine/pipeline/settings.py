@@ -161,11 +161,12 @@ class Settings:
         if not asked:
             method = default_gamut_method(self.display)
         else:
-            method = check_gamut_method(self.gamut, allow_none=True)
-            if method == NO_MAPPING and self.display.kind != "working-space":
+            working = self.display.kind == "working-space"
+            if str(self.gamut).strip().lower() == NO_MAPPING and not working:
                 raise SettingsError(f"gamut 'none' keeps values outside 0-1, which display "
                                     f"{self.display.name!r} cannot show; accepted for a display: "
                                     "clip, scale, chroma ('none' is for working spaces)")
+            method = check_gamut_method(self.gamut, allow_none=working)
         object.__setattr__(self, "gamut", method)
         object.__setattr__(self, "_gamut_asked", asked)
 
