@@ -1,3 +1,8 @@
+"""Wrote display_renders_fadeace.npz: renders of every display preset and gamut method, run
+once on commit fadeace (before working spaces went through the render path), so that
+tests/test_working_space_outputs.py can check that display renders stay bit for bit the same.
+Run: ``python tests/data/make_display_renders.py OUT.npz`` (on that commit, to remake it).
+"""
 import sys, numpy as np
 from starkiln.engine.pipeline.settings import Settings
 from starkiln.engine.pipeline.render import render
