@@ -1,7 +1,8 @@
 """Run the bench/ scripts and write their one performance table into docs/performance.md.
 
 Run: ``python bench/report.py [--only render,lut] [--dry-run]`` (from the repository, with the
-project installed; the full run takes several minutes).
+project installed; the full run takes several minutes). With ``--only``, the rows of the named
+scripts are replaced in the table and every other row is kept as it was measured.
 
 Each bench script prints its own side-by-side figures and, at the end, one machine-readable line
 per goal::
@@ -40,6 +41,8 @@ SCRIPTS = [
     ("catalogue", "bench_catalogue.py", []),
     ("palette", "bench_palette.py", []),
     ("ocio", "bench_ocio.py", []),
+    ("working-spaces", "bench_working_spaces.py", []),
+    ("icc", "bench_icc.py", []),
 ]
 
 
@@ -101,15 +104,37 @@ def replace_between_markers(doc: str, block: str) -> str:
     return f"{head}{BEGIN}\n{block}\n{END}{tail}"
 
 
+def merge_rows(doc: str, scripts: list[str], results: list[tuple[str, dict]], note: str) -> str:
+    """The table of ``doc`` with the rows of ``scripts`` replaced by ``results``.
+
+    The rows of every other script, and the line saying when they were measured, are kept;
+    ``note`` says which rows are new. The new rows go where the first old row of those
+    scripts was, or at the end.
+    """
+    try:
+        current = doc.split(BEGIN, 1)[1].split(END, 1)[0].strip().splitlines()
+    except IndexError:
+        raise SystemExit(f"report.py: error: {DOC} lacks the markers {BEGIN} ... {END}")
+    header = [line for line in current if line and not line.startswith("|")
+              and not line.startswith("Rows of ")]
+    rows = [line for line in current if line.startswith("|")][2:]
+    new = table(results).splitlines()[2:]
+    ours = [any(line.rstrip().endswith(f"| `{s}` |") for s in scripts) for line in rows]
+    at = ours.index(True) if any(ours) else len(rows)
+    kept = [line for line, mine in zip(rows, ours) if not mine]
+    at = sum(1 for mine in ours[:at] if not mine)
+    body = table([]).splitlines() + kept[:at] + new + kept[at:]
+    return "\n".join(header + [note, ""] + body)
+
+
 def main(argv=None) -> int:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--only", default="", help="comma list of script keys "
-                    "(render, lut, gui, catalogue, palette); default all")
+                    "(render, lut, gui, catalogue, palette, working-spaces); default all: "
+                    "with --only, the other scripts' rows are kept")
     ap.add_argument("--dry-run", action="store_true", help="print the table, do not write it")
     args = ap.parse_args(argv)
     only = {k for k in args.only.split(",") if k}
-    if only and not args.dry_run:
-        raise SystemExit("report.py: error: --only gives a partial table; use it with --dry-run")
     known = {key for key, _, _ in SCRIPTS}
     if only - known:
         raise SystemExit(f"report.py: error: --only {','.join(sorted(only - known))} unknown; "
@@ -136,8 +161,15 @@ def main(argv=None) -> int:
         print(f"  {len(found)} results in {time.perf_counter() - t0:.0f} s", file=sys.stderr)
 
     stamp = datetime.date.today().isoformat()
-    block = (f"Measured {stamp} by `python bench/report.py` on {os.cpu_count()} cores "
-             f"({platform.machine()}, Python {platform.python_version()}).\n\n" + table(results))
+    where = (f"on {os.cpu_count()} cores ({platform.machine()}, Python "
+             f"{platform.python_version()})")
+    if only:
+        scripts = [script for key, script, _ in SCRIPTS if key in only]
+        block = merge_rows(DOC.read_text(encoding="utf-8"), scripts, results,
+                           f"Rows of {', '.join(f'`{s}`' for s in scripts)} measured {stamp} by "
+                           f"`python bench/report.py --only {args.only}` {where}.")
+    else:
+        block = f"Measured {stamp} by `python bench/report.py` {where}.\n\n" + table(results)
     if args.dry_run:
         print(block)
         return 0

@@ -46,6 +46,10 @@ def add_parsers(sub) -> None:
                         "a folder an earlier run wrote, marked by .starkiln-parts.json)")
     o.add_argument("--prefix", default="", metavar="TEXT",
                    help="put TEXT before the names of the new columns (if IN has an 'r' ...)")
+    o.add_argument("--linear-columns", metavar="SPACES",
+                   help="also append scene-linear r_SPACE, g_SPACE, b_SPACE for these working "
+                        "spaces (comma list: lin-srgb, lin-p3-d65, lin-rec2020, acescg, "
+                        "aces2065-1)")
     o.add_argument("--exact", action="store_true",
                    help="call the render path for every row instead of the colour grid "
                         "(slower; same colours within CIEDE2000 0.2)")
@@ -93,7 +97,8 @@ def plan_from_args(args, settings):
         settings=settings, source=source, source_column=column,
         magnitude_column=args.magnitude_column, magnitude_band=band,
         bp_rp_column=args.bp_rp_column, magnitude=magnitude,
-        extrapolate_bp_rp=args.extrapolate_bp_rp, exact=args.exact, prefix=args.prefix)
+        extrapolate_bp_rp=args.extrapolate_bp_rp, exact=args.exact, prefix=args.prefix,
+        linear_columns=args.linear_columns or ())
 
 
 def cmd_catalogue(args, out) -> int:

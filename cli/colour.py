@@ -125,7 +125,8 @@ def cmd_colour(args, out) -> int:
                  (f"at magnitude {record['magnitude']:g}",
                   f"{record['hex']}  (encoded {enc.format(*record['rgb_encoded'])})")]
     rows += [
-        ("inside gamut", "yes" if record["in_gamut"] else f"no (mapped by {settings.gamut})"),
+        ("inside gamut", "yes" if record["in_gamut"] else
+         (f"no (mapped by {settings.gamut})" if settings.gamut != "none" else "no (kept as is)")),
         ("white / display", f"{settings.scene_white} -> {settings.display.name} "
                             f"({settings.adaptation})"),
     ] + night

@@ -130,6 +130,8 @@ def _settings_overriding(base, args):
     default = Settings()
     changes = {f.name: getattr(explicit, f.name) for f in dataclasses.fields(Settings)
                if getattr(explicit, f.name) != getattr(default, f.name)}
+    if not explicit.gamut_asked:
+        changes.pop("gamut", None)  # the target's default follows the target
     return base.replace(**changes) if changes else base
 
 
@@ -193,6 +195,8 @@ def cmd_lut(args, out) -> int:
             else "magnitudes {:g} (top) to {:g}".format(*spec.magnitude_range))
     kind = ("32-bit float display-linear" if spec.file_format == "exr"
             else f"{spec.depth}-bit display-encoded")
+    if settings.display.kind == "working-space":
+        kind = f"32-bit float scene-linear {settings.display.name}"
     out.write(f"wrote {args.out}: {spec.width} x {spec.height} "
               f"{'RGBA' if spec.alpha else 'RGB'}{' premultiplied' if spec.premultiply else ''}, "
               f"{kind}, {a:g}-{b:g} K on a {spec.axis} axis, {rows}\n")

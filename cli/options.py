@@ -60,7 +60,8 @@ def add_colour_options(p: argparse.ArgumentParser) -> None:
                    help="display preset (see 'starkiln displays') or a JSON display profile")
     g.add_argument("--adaptation", metavar="METHOD",
                    help="bradford (default), cat16, cat02, von-kries, none")
-    g.add_argument("--gamut", metavar="METHOD", help="clip, scale, chroma (default)")
+    g.add_argument("--gamut", metavar="METHOD", help="clip, scale, chroma (a display's default), "
+                   "none (a working space's default: values outside 0-1 kept)")
     g.add_argument("--observer", metavar="NAME", help="cie1931 (default) or cie1964")
     g.add_argument("--normalisation", "--normalization", dest="normalisation", metavar="MODE",
                    help="max-channel (default) or luminance")

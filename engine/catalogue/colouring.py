@@ -39,6 +39,8 @@ class Coloured:
     r, g, b, intensity : float32 arrays; NaN where the row is not coloured.
     codes : uint8 status codes (indices into :data:`STATUSES`).
     blank : bool array, True where the row is not coloured; None when every row is.
+    linear : float32 arrays r, g, b of each linear working space of the plan, in order
+        (``plan.linear_names``); NaN where the row is not coloured.
     """
 
     r: np.ndarray
@@ -47,6 +49,7 @@ class Coloured:
     intensity: np.ndarray
     codes: np.ndarray
     blank: np.ndarray | None
+    linear: tuple = ()
 
     def counts(self) -> np.ndarray:
         """Rows per status (aligned with :data:`STATUSES`)."""
@@ -107,22 +110,24 @@ def colour_values(plan: CataloguePlan, columns: dict) -> Coloured:
         from starkiln.engine.catalogue.grid_cache import colour_grid
 
         colour_grid(plan.settings, plan.with_magnitude)
+        for ws in plan.linear_settings:
+            colour_grid(ws, plan.with_magnitude)
     bounds = np.linspace(0, n, parts + 1).astype(int)
-    out = [np.empty(n, dtype=np.float32) for _ in range(4)]
+    out = [np.empty(n, dtype=np.float32) for _ in range(4 + len(plan.linear_names))]
     codes = np.empty(n, dtype=np.uint8)
 
     def work(p):
         a, b = bounds[p], bounds[p + 1]
         sub = {k: (v[a:b], None if m is None else m[a:b]) for k, (v, m) in columns.items()}
         res = colour_values_serial(plan, sub)
-        for dst, src in zip(out, (res.r, res.g, res.b, res.intensity)):
+        for dst, src in zip(out, (res.r, res.g, res.b, res.intensity) + tuple(res.linear)):
             dst[a:b] = src
         codes[a:b] = res.codes
 
     for f in [_pool(threads).submit(work, p) for p in range(parts)]:
         f.result()
     blank = codes > EXTRAPOLATED
-    return Coloured(*out, codes, blank if blank.any() else None)
+    return Coloured(*out[:4], codes, blank if blank.any() else None, tuple(out[4:]))
 
 
 def colour_values_serial(plan: CataloguePlan, columns: dict) -> Coloured:
@@ -201,7 +206,8 @@ def colour_values_serial(plan: CataloguePlan, columns: dict) -> Coloured:
     blank = None if all_coloured else ~coloured
     if not coloured.any():
         nan = np.full(n, np.nan, dtype=np.float32)
-        return Coloured(nan, nan.copy(), nan.copy(), nan.copy(), codes, blank)
+        return Coloured(nan, nan.copy(), nan.copy(), nan.copy(), codes, blank,
+                        tuple(nan.copy() for _ in plan.linear_names))
 
     safe = src if all_coloured else np.where(coloured, src, _SAFE[plan.source])
     if plan.source == "temperature":
@@ -215,31 +221,46 @@ def colour_values_serial(plan: CataloguePlan, columns: dict) -> Coloured:
     if v_mag is not None and not all_coloured:
         v_mag = np.where(coloured, v_mag, 0.0)
 
-    r, g, b, intensity = _colours(plan, temperature_K, v_mag)
+    (r, g, b, intensity), linear = _colours(plan, temperature_K, v_mag)
     if blank is not None:
-        for a in (r, g, b, intensity):
+        for a in (r, g, b, intensity) + linear:
             a[blank] = np.nan
-    return Coloured(r, g, b, intensity, codes, blank)
+    return Coloured(r, g, b, intensity, codes, blank, linear)
 
 
 #: Stand-in values for rows that are not coloured (their results are discarded).
 _SAFE = {"temperature": 5772.0, "bv": 0.65, "bp-rp": 0.82}
 
 
+def _channels(rgb) -> tuple:
+    """Three contiguous float32 channel arrays of an (n, 3) array."""
+    rgb = np.asarray(rgb, dtype=np.float32)
+    return tuple(np.ascontiguousarray(rgb[:, k]) for k in range(3))
+
+
 def _colours(plan: CataloguePlan, temperature_K, v_mag):
-    """r, g, b, intensity (float32) from the colour grid or, with ``exact``, from render."""
+    """(r, g, b, intensity) and the linear working-space channels (float32), from the colour
+    grids or, with ``exact``, from one render per chunk.
+
+    Exact: the chunk is rendered once, and each working space's colours come from the same
+    render (:func:`starkiln.engine.pipeline.render.same_stars_in`: its tristimulus values and
+    night-vision quantities, no second spectral pass). Grid: each working space has its own
+    colour grid, built by the render path like the display's.
+    """
     if plan.exact:
-        from starkiln.engine.pipeline.render import render
+        from starkiln.engine.pipeline.render import render, same_stars_in
 
         rendered = render(plan.settings, temperature_K, v_mag)
-        rgb = rendered.rgb_encoded.astype(np.float32)
         inten = np.broadcast_to(rendered.intensity, temperature_K.shape).astype(np.float32)
-        return (np.ascontiguousarray(rgb[:, 0]), np.ascontiguousarray(rgb[:, 1]),
-                np.ascontiguousarray(rgb[:, 2]), inten)
+        linear = tuple(a for ws in plan.linear_settings
+                       for a in _channels(same_stars_in(ws, rendered)))
+        return _channels(rendered.rgb_encoded) + (inten,), linear
     from starkiln.engine.catalogue.grid_cache import colour_grid
 
     grid = colour_grid(plan.settings, v_mag is not None)
-    return grid.lookup(temperature_K, v_mag)
+    linear = tuple(a for ws in plan.linear_settings
+                   for a in colour_grid(ws, v_mag is not None).lookup(temperature_K, v_mag)[:3])
+    return tuple(grid.lookup(temperature_K, v_mag)), linear
 
 
 # --- pyarrow and pandas wrappers ---------------------------------------------------------
@@ -270,6 +291,7 @@ def colour_arrow(batch, plan: CataloguePlan, schema=None):
     new = [pa.array(a, mask=mask) if mask is not None else pa.array(a)
            for a in (res.r, res.g, res.b, res.intensity)]
     new.append(status_array(res.codes))
+    new += [pa.array(a, mask=mask) if mask is not None else pa.array(a) for a in res.linear]
     if isinstance(batch, pa.Table):
         arrays = [batch.column(i) for i in range(batch.num_columns)] + new
         return pa.Table.from_arrays(arrays, schema=schema), res.counts()

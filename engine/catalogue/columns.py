@@ -186,6 +186,7 @@ def output_schema(schema, plan: CataloguePlan, where: str = "input"):
         _check_arrow_type(name, schema.field(name).type, where)
     fields = list(schema) + [pa.field(n, pa.float32()) for n in plan.output_columns[:4]]
     fields.append(pa.field(plan.output_columns[4], pa.string()))
+    fields += [pa.field(n, pa.float32()) for n in plan.linear_names]
     meta = {k: v for k, v in (schema.metadata or {}).items() if k != b"pandas"} or None
     return pa.schema(fields, metadata=meta)
 

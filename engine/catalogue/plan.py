@@ -12,6 +12,12 @@ status     ``ok`` or a short reason (:data:`STATUSES`); rows that are not
            coloured keep empty r, g, b and intensity; no row is dropped
 ========== ===============================================================
 
+With ``linear_columns`` (working-space names, e.g. ``("acescg",)``), three more columns per
+working space follow ``status``: ``r_<space>, g_<space>, b_<space>`` (``-`` in the name
+becomes ``_``: ``r_aces2065_1``), the same stars' scene-linear RGB in that working space
+(the same look, the working space as the target, its gamut method ``none`` unless the
+settings ask for one), float32, empty where the row is not coloured.
+
 :class:`CataloguePlan` is the validated, picklable description of one run
 that every engine (this machine, :mod:`starkiln.engine.catalogue.dask_engine`)
 hands to the per-chunk function (:mod:`starkiln.engine.catalogue.colouring`).
@@ -97,6 +103,9 @@ class CataloguePlan:
     extrapolate_bp_rp : colour BP-RP outside 0.39-1.50 (status ``extrapolated``).
     exact : call the render path for every row instead of the colour grid.
     prefix : text put before the names of the appended columns.
+    linear_columns : working spaces (names from
+        :data:`starkiln.engine.colour.displays.WORKING_SPACES`) whose scene-linear r, g, b
+        are appended after the status (module docstring).
     threads : threads that colour parts of a chunk at once (numpy releases the GIL);
         0 (default) means one per core, up to 4. Dask workers use 1.
     """
@@ -112,8 +121,10 @@ class CataloguePlan:
     exact: bool = False
     prefix: str = ""
     threads: int = 0
+    linear_columns: tuple = ()
 
     def __post_init__(self):
+        object.__setattr__(self, "linear_columns", check_linear_columns(self.linear_columns))
         if self.source not in SOURCES:
             raise StarkilnError(f"unknown temperature source {self.source!r}; accepted: "
                                 f"{', '.join(SOURCES)}")
@@ -166,5 +177,49 @@ class CataloguePlan:
 
     @property
     def output_columns(self) -> list[str]:
-        """Names of the appended columns (with the prefix)."""
-        return [self.prefix + n for n in OUTPUT_NAMES]
+        """Names of the appended columns (with the prefix): r, g, b, intensity, status, then
+        r, g, b of each linear working space."""
+        return [self.prefix + n for n in OUTPUT_NAMES] + self.linear_names
+
+    @property
+    def linear_names(self) -> list[str]:
+        """Names of the linear working-space columns (with the prefix), three per space."""
+        return [f"{self.prefix}{c}_{space.replace('-', '_')}"
+                for space in self.linear_columns for c in "rgb"]
+
+    @property
+    def linear_settings(self) -> tuple:
+        """The settings of each linear working space: this look, that working space as target
+        (its gamut the target's default unless the settings asked for one)."""
+        return tuple(self.settings.replace(display=space) for space in self.linear_columns)
+
+
+def check_linear_columns(spaces) -> tuple:
+    """Working-space names for linear columns, canonical and without repeats, or an error.
+
+    Parameters
+    ----------
+    spaces : str or sequence of str
+        ``"acescg,lin-srgb"`` or ``("acescg", "lin-srgb")``; empty for none.
+
+    Returns
+    -------
+    tuple of str
+
+    References
+    ----------
+    :data:`starkiln.engine.colour.displays.WORKING_SPACES` (the names).
+    """
+    from starkiln.engine.colour.displays import WORKING_SPACES
+
+    if isinstance(spaces, str):
+        spaces = [p for p in spaces.split(",")]
+    out = []
+    for raw in spaces or ():
+        name = str(raw).strip().lower()
+        if name not in WORKING_SPACES:
+            raise StarkilnError(f"linear columns: {str(raw).strip()!r} is not a working space; "
+                                f"accepted: {', '.join(WORKING_SPACES)} (comma-separated)")
+        if name not in out:
+            out.append(name)
+    return tuple(out)

@@ -226,7 +226,7 @@ def _run_astropy_guarded(path, fmt_in, output, fmt_out, plan, overwrite, progres
     n = len(table)
     plan = plan.for_rows(n)
     values = {name: numpy_values(table[name]) for name in plan.input_columns}
-    outs = [np.empty(n, dtype=np.float32) for _ in range(4)]
+    outs = [np.empty(n, dtype=np.float32) for _ in range(4 + len(plan.linear_names))]
     codes = np.empty(n, dtype=np.uint8)
     with atomic_path(output, overwrite) as tmp:
         with progress_bar(n, progress) as bar:
@@ -235,7 +235,7 @@ def _run_astropy_guarded(path, fmt_in, output, fmt_out, plan, overwrite, progres
                 chunk = {k: (v[start:stop], None if m is None else m[start:stop])
                          for k, (v, m) in values.items()}
                 res = colour_values(plan, chunk)
-                for dst, src in zip(outs, (res.r, res.g, res.b, res.intensity)):
+                for dst, src in zip(outs, (res.r, res.g, res.b, res.intensity) + res.linear):
                     dst[start:stop] = src
                 codes[start:stop] = res.codes
                 bar.update(stop - start)
@@ -244,6 +244,8 @@ def _run_astropy_guarded(path, fmt_in, output, fmt_out, plan, overwrite, progres
             table[name] = MaskedColumn(data, mask=blank)
         table[plan.output_columns[4]] = np.array(STATUSES)[codes] if n else \
             np.array([], dtype="<U22")
+        for name, data in zip(plan.linear_names, outs[4:]):
+            table[name] = MaskedColumn(data, mask=blank)
         if fmt_out in ("parquet", "csv"):  # the same writers as the streamed path
             arrow = astropy_to_arrow(table)
             writer = parquet_writer(tmp, arrow.schema) if fmt_out == "parquet" else \

@@ -10,6 +10,9 @@ Methods:
 - ``chroma``: reduce chroma in Oklab at constant lightness and hue, by
   bisection, until every channel is inside; the achromatic colour of the same
   lightness is always inside, so the search always ends inside.
+- ``none``: no mapping at all; channels below 0 or above 1 are kept. Only a working space
+  (a scene-linear target) holds such values, so only working spaces accept it, and it is
+  their default: a target's default method is :func:`default_gamut_method`.
 
 Oklab: [Ottosson2020], "A perceptual color space for image processing",
 https://bottosson.github.io/posts/oklab/ (matrices M1, M2 of that post). The
@@ -24,6 +27,10 @@ import numpy as np
 from starkiln.engine.errors import SettingsError
 
 GAMUT_METHODS = ("clip", "scale", "chroma")
+#: No gamut mapping: values outside the cube are kept (working spaces only).
+NO_MAPPING = "none"
+#: Every value the ``gamut`` setting accepts.
+GAMUT_CHOICES = GAMUT_METHODS + (NO_MAPPING,)
 
 #: [Ottosson2020] Oklab, XYZ (D65) -> LMS.
 OKLAB_M1 = np.array([[0.8189330101, 0.3618667424, -0.1288597137],
@@ -41,12 +48,36 @@ GAMUT_TOLERANCE = 1e-9
 _BISECTION_STEPS = 24  # halves the interval to 6e-8 of the chroma
 
 
-def check_gamut_method(name: str) -> str:
-    """Canonical gamut method or :class:`SettingsError` (accepted: clip, scale, chroma)."""
+def check_gamut_method(name: str, allow_none: bool = False) -> str:
+    """Canonical gamut method or :class:`SettingsError` (accepted: clip, scale, chroma; and
+    ``none`` when ``allow_none``)."""
     key = str(name).strip().lower()
-    if key not in GAMUT_METHODS:
-        raise SettingsError(f"unknown gamut method {name!r}; accepted: {', '.join(GAMUT_METHODS)}")
+    accepted = GAMUT_CHOICES if allow_none else GAMUT_METHODS
+    if key not in accepted:
+        raise SettingsError(f"unknown gamut method {name!r}; accepted: {', '.join(accepted)}")
     return key
+
+
+def default_gamut_method(display) -> str:
+    """The gamut method a target gets when none is asked for.
+
+    ``chroma`` for a display (its code values must lie in 0-1); ``none`` for a working space:
+    a scene-linear working space keeps what the colour is, and the colour-management system
+    downstream decides how to show it (common practice in scene-referred pipelines).
+
+    Parameters
+    ----------
+    display : starkiln.engine.colour.displays.Display
+
+    Returns
+    -------
+    str
+
+    References
+    ----------
+    Module docstring (the methods).
+    """
+    return NO_MAPPING if display.kind == "working-space" else "chroma"
 
 
 def XYZ_to_Oklab(XYZ) -> np.ndarray:

@@ -6,6 +6,16 @@ timestamps, so equal inputs give byte-identical files.
 - PNG, 8 or 16 bits, written here strip by strip (:func:`write_png_strips`: filter type
   0, one zlib stream, ``tEXt`` chunks right after ``IHDR``; pypng frames the chunks).
   Pillow cannot write 16-bit RGB/RGBA, nor an image it does not hold whole.
+- PNG colour chunks (:func:`png_colour_chunks`, [PNG3] section 11.3.2): what the code values
+  mean. The sRGB display gets ``sRGB`` (rendering intent 0, perceptual) with the ``gAMA``
+  and ``cHRM`` values the specification gives for it; another display gets ``cHRM`` (its
+  primaries and white) and ``gAMA`` (1 / gamma; 1/2.2 for the sRGB curve, as the
+  specification's compatibility value; none for PQ, which no power describes); and every
+  display whose primaries, white and transfer have ITU-T H.273 code points gets ``cICP``
+  as well ([H273]; [PNG3] section 11.3.2.6), which a reader that knows it uses first.
+  Pillow's ImageCms (LittleCMS) builds only its own sRGB profile, not one for given
+  primaries, so no ``iCCP`` is written. A working space is never a PNG (its values go
+  outside 0-1): callers refuse it and point to EXR.
 - EXR through the OpenEXR Python bindings (``OpenEXR.File(header, channels)``,
   OpenEXR 3.x), 32-bit float channels R, G, B (, A), ZIP compression
   (lossless), the metadata as string header attributes and the display
@@ -14,7 +24,8 @@ timestamps, so equal inputs give byte-identical files.
 References
 ----------
 [PNG], section 11.3.4.3 (``tEXt``: Latin-1 keyword of 1-79
-characters, a null separator, Latin-1 text); [OpenEXR] technical introduction
+characters, a null separator, Latin-1 text); [PNG3] section 11.3.2 (``cHRM``, ``gAMA``,
+``sRGB``, ``cICP``); [H273] (code points); [OpenEXR] technical introduction
 (header attributes, ``chromaticities``).
 """
 
@@ -37,8 +48,126 @@ def _check_image(array: np.ndarray) -> np.ndarray:
     return np.ascontiguousarray(a)
 
 
+#: ITU-T H.273 ColourPrimaries code points: (red, green, blue, white) xy ([H273] table 2;
+#: the code numbers from memory, the chromaticities those of the standards they name).
+H273_PRIMARIES = {
+    1: ((0.64, 0.33), (0.30, 0.60), (0.15, 0.06), (0.3127, 0.3290)),  # BT.709 / sRGB
+    9: ((0.708, 0.292), (0.170, 0.797), (0.131, 0.046), (0.3127, 0.3290)),  # BT.2020, BT.2100
+    11: ((0.680, 0.320), (0.265, 0.690), (0.150, 0.060), (0.314, 0.351)),  # SMPTE RP 431-2
+    12: ((0.680, 0.320), (0.265, 0.690), (0.150, 0.060), (0.3127, 0.3290)),  # SMPTE EG 432-1
+}
+#: ITU-T H.273 TransferCharacteristics code points for Starkiln's transfers ([H273] table 3,
+#: the numbers from memory): 4 "assumed display gamma 2.2", 5 gamma 2.8, 8 linear,
+#: 13 IEC 61966-2-1 (sRGB), 16 SMPTE ST 2084 (PQ). BT.1886's gamma 2.4 and gamma 2.6 have none.
+H273_TRANSFERS = {("gamma", 2.2): 4, ("gamma", 2.8): 5, ("linear", None): 8, ("srgb", None): 13,
+                  ("pq", None): 16}
+#: [PNG3] section 11.3.2.2 / 11.3.2.5: the gAMA and cHRM values to write beside ``sRGB``.
+SRGB_GAMA = 45455
+SRGB_CHRM = (31270, 32900, 64000, 33000, 30000, 60000, 15000, 6000)
+
+
+def _same_primaries(display, primaries, tol: float = 5e-4) -> bool:
+    got = np.array([display.red_xy, display.green_xy, display.blue_xy, display.white_xy])
+    return bool(np.all(np.abs(got - np.array(primaries)) <= tol))
+
+
+def cicp_code_points(display):
+    """The ITU-T H.273 code points of a display, ``(primaries, transfer, 0, 1)``, or None.
+
+    Matrix coefficients 0 (RGB, as PNG requires) and full range 1. None when the primaries,
+    white or transfer function has no code point (e.g. gamma 2.4).
+
+    Parameters
+    ----------
+    display : starkiln.engine.colour.displays.Display
+
+    Returns
+    -------
+    tuple of 4 int, or None
+
+    References
+    ----------
+    [H273] tables 2-4; [PNG3] section 11.3.2.6 (``cICP``: matrix 0 and full range for RGB).
+
+    Examples
+    --------
+    BT.2100 PQ is primaries 9, transfer 16 ([H273]; the values the PNG specification's own
+    example uses):
+
+    >>> from starkiln.engine.colour.displays import get_display
+    >>> cicp_code_points(get_display("rec2100-pq"))
+    (9, 16, 0, 1)
+    >>> cicp_code_points(get_display("rec2020")) is None  # BT.1886 gamma 2.4 has no code
+    True
+    """
+    prim = next((code for code, p in H273_PRIMARIES.items() if _same_primaries(display, p)),
+                None)
+    key = (display.transfer, round(display.gamma, 3) if display.transfer == "gamma" else None)
+    transfer = H273_TRANSFERS.get(key)
+    if prim is None or transfer is None:
+        return None
+    return (prim, transfer, 0, 1)
+
+
+def png_colour_chunks(display) -> list[tuple[bytes, bytes]]:
+    """The PNG chunks that say what a display's code values mean (module docstring).
+
+    Parameters
+    ----------
+    display : starkiln.engine.colour.displays.Display
+        A display (not a working space: PNG holds code values 0-1).
+
+    Returns
+    -------
+    list of (bytes, bytes)
+        ``(chunk type, data)`` in file order, to follow ``IHDR``: ``cICP`` (when it has code
+        points), then ``sRGB`` or nothing, ``gAMA`` (not for PQ), ``cHRM``.
+
+    References
+    ----------
+    [PNG3] sections 11.3.2.2 (``gAMA``: 100000 / gamma), 11.3.2.1 (``cHRM``: x, y times
+    100000, white first), 11.3.2.5 (``sRGB``), 11.3.2.6 (``cICP``); [H273].
+    """
+    import struct
+
+    if display.kind == "working-space":
+        raise StarkilnError(f"PNG holds display code values 0-1; working space {display.name!r} "
+                            "holds scene-linear values outside that range: write .exr")
+    chunks = []
+    cicp = cicp_code_points(display)
+    if cicp is not None:
+        chunks.append((b"cICP", bytes(cicp)))
+    if display.transfer == "srgb" and _same_primaries(display, H273_PRIMARIES[1], 1e-9):
+        chunks.append((b"sRGB", b"\x00"))  # rendering intent 0: perceptual
+        chunks.append((b"gAMA", struct.pack(">I", SRGB_GAMA)))
+        chunks.append((b"cHRM", struct.pack(">8I", *SRGB_CHRM)))
+        return chunks
+    if display.transfer == "srgb":
+        chunks.append((b"gAMA", struct.pack(">I", SRGB_GAMA)))
+    elif display.transfer == "gamma":
+        chunks.append((b"gAMA", struct.pack(">I", round(100000.0 / display.gamma))))
+    elif display.transfer == "linear":
+        chunks.append((b"gAMA", struct.pack(">I", 100000)))
+    xy = [display.white_xy, display.red_xy, display.green_xy, display.blue_xy]
+    chunks.append((b"cHRM", struct.pack(">8I", *(round(v * 100000.0) for p in xy for v in p))))
+    return chunks
+
+
+class PngText(dict):
+    """``tEXt`` keyword -> text, plus the colour chunks (:func:`png_colour_chunks`) of the image.
+
+    The writers take it where they take a plain dict of texts, so every caller of
+    :func:`write_png` keeps the ``(path, array, text)`` form and the image still says what
+    its code values mean.
+    """
+
+    def __init__(self, text=None, colour_chunks=()):
+        super().__init__(text or {})
+        self.colour_chunks = [(bytes(t), bytes(d)) for t, d in colour_chunks]
+
+
 def write_png(path, array: np.ndarray, text: dict[str, str] | None = None,
-              compression: int = 6) -> None:
+              compression: int = 6, colour_chunks=()) -> None:
     """Write an 8-bit (uint8) or 16-bit (uint16) RGB/RGBA PNG with ``tEXt`` chunks.
 
     Parameters
@@ -52,6 +181,9 @@ def write_png(path, array: np.ndarray, text: dict[str, str] | None = None,
         Keyword -> Latin-1 text, stored uncompressed (``tEXt``).
     compression : int
         zlib level 0-9.
+    colour_chunks : sequence of (bytes, bytes)
+        Chunks from :func:`png_colour_chunks`, written right after ``IHDR`` (a
+        :class:`PngText` ``text`` may carry them instead).
 
     References
     ----------
@@ -59,11 +191,11 @@ def write_png(path, array: np.ndarray, text: dict[str, str] | None = None,
     types 2 and 6) and 11.3.4.3 (tEXt).
     """
     a = _check_image(array)
-    write_png_strips(path, [a], a.shape[1], a.shape[0], text, compression)
+    write_png_strips(path, [a], a.shape[1], a.shape[0], text, compression, colour_chunks)
 
 
 def write_png_strips(path, strips, width: int, height: int, text: dict[str, str] | None = None,
-                     compression: int = 6) -> None:
+                     compression: int = 6, colour_chunks=()) -> None:
     """Write a PNG from horizontal strips, top to bottom, without holding the whole image.
 
     The strips (each ``(h, width, 3|4)``, all uint8 or all uint16, heights summing to
@@ -83,6 +215,9 @@ def write_png_strips(path, strips, width: int, height: int, text: dict[str, str]
         Keyword (1-79 characters) -> Latin-1 text.
     compression : int
         zlib level 0-9.
+    colour_chunks : sequence of (bytes, bytes)
+        Chunks from :func:`png_colour_chunks`, written right after ``IHDR`` (before ``PLTE``
+        and ``IDAT``, as [PNG3] section 5.6 orders them).
 
     References
     ----------
@@ -94,6 +229,7 @@ def write_png_strips(path, strips, width: int, height: int, text: dict[str, str]
 
     import png
 
+    colour_chunks = list(colour_chunks) + list(getattr(text, "colour_chunks", ()))
     text = dict(text or {})
     for key, value in text.items():
         if not 1 <= len(key) <= 79:
@@ -133,6 +269,7 @@ def write_png_strips(path, strips, width: int, height: int, text: dict[str, str]
     depth = 16 if dtype == np.uint16 else 8
     chunks = [(b"IHDR", struct.pack(">IIBBBBB", width, height, depth, 6 if channels == 4 else 2,
                                     0, 0, 0))]
+    chunks += [(bytes(tag), bytes(data)) for tag, data in colour_chunks]
     chunks += [(b"tEXt", key.encode("latin-1") + b"\x00" + value.encode("latin-1"))
                for key, value in text.items()]
     chunks += [(b"IDAT", data) for data in idat if data]

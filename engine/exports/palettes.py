@@ -333,6 +333,18 @@ def palette_gpl(palette: Palette, name: str | None = None, columns: int | None =
     return ("\n".join(lines) + "\n").encode("utf-8")
 
 
+def check_palette_target(display, fmt: str, path) -> None:
+    """Refuse a contact sheet or GIMP palette for a working space (8-bit code values only).
+
+    Their colours are 8-bit display code values ([PNG] section 11.2.2; the ``.gpl`` format's
+    0-255 triples, common practice); a working space's scene-linear values go outside 0-1.
+    """
+    if display.kind == "working-space" and fmt in ("sheet", "gpl"):
+        raise StarkilnError(f"{path}: working space {display.name!r} is scene-linear (values "
+                            "outside 0-1); a .png sheet or .gpl palette holds 8-bit display "
+                            "colours only; accepted: .json or .csv, or a display target")
+
+
 def write_palette(palette: Palette, path, overwrite: bool = False, name: str | None = None,
                   columns: int | None = None) -> Path:
     """Write a palette in the format its extension names, atomically.
@@ -350,6 +362,7 @@ def write_palette(palette: Palette, path, overwrite: bool = False, name: str | N
 
     path = Path(path)
     fmt = palette_format_for_path(path)
+    check_palette_target(palette.rendered.display, fmt, path)
     if fmt == "json":
         write_atomic(path, palette_json(palette, name), overwrite)
     elif fmt == "csv":
@@ -365,7 +378,8 @@ def write_palette(palette: Palette, path, overwrite: bool = False, name: str | N
                           separators=(",", ":"), ensure_ascii=True, allow_nan=False)
         with atomic_path(path, overwrite) as tmp:
             imageio.write_png_strips(tmp, sheet_strips(palette, name, columns), width, height,
-                                     {"starkiln": text}, SHEET_COMPRESSION)
+                                     {"starkiln": text}, SHEET_COMPRESSION,
+                                     imageio.png_colour_chunks(palette.rendered.display))
     return path
 
 
@@ -403,7 +417,7 @@ def export_palette(settings, path, *, range_K=None, steps: int = 16, axis: str =
     """
     from starkiln.engine.atomic import check_writable
 
-    palette_format_for_path(path)
+    check_palette_target(settings.display, palette_format_for_path(path), path)
     check_writable(path, overwrite)
     palette = build_palette(settings, range_K=range_K, steps=steps, axis=axis, classes=classes,
                             use_classes=use_classes)

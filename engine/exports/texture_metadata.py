@@ -91,6 +91,8 @@ def lut_metadata(settings, spec: TextureSpec) -> dict:
         "display": settings.display.name,
         **encoding,
     }
+    if settings.display.kind == "working-space":  # display textures' metadata is unchanged
+        layout["target"] = "working-space (scene-linear, gamut " + settings.gamut + ")"
     return {
         "starkiln_texture": TEXTURE_FORMAT,
         "generator": f"starkiln {__version__}",

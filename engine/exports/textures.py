@@ -54,6 +54,26 @@ from starkiln.engine.exports.texture_metadata import METADATA_KEY, chromaticitie
 from starkiln.engine.exports.texture_spec import TextureSpec, format_for_path, lut_axes
 
 
+def check_target(settings, spec: TextureSpec) -> None:
+    """Refuse a PNG texture for a working space (one line naming the target; EXR holds it).
+
+    PNG samples are display code values 0-1; a working space holds scene-linear values that
+    go below 0 and above 1, which integer samples cannot keep ([PNG] section 11.2.2;
+    [OpenEXR] float channels do).
+    """
+    if spec.file_format == "png" and settings.display.kind == "working-space":
+        raise StarkilnError(f"working space {settings.display.name!r} is scene-linear (values "
+                            "outside 0-1); a PNG holds display code values only; accepted: a "
+                            ".exr texture, or a display target for .png")
+
+
+def display_of(metadata: dict):
+    """The :class:`~starkiln.engine.colour.displays.Display` described by texture metadata."""
+    from starkiln.engine.pipeline.settings import Settings
+
+    return Settings.from_dict(metadata["settings"], "texture metadata").display
+
+
 def render_lut(settings, spec: TextureSpec) -> np.ndarray:
     """The texture's values as float64 ``(H, W, C)`` before quantisation.
 
@@ -134,6 +154,7 @@ def build_lut(settings, spec: TextureSpec):
     >>> arr.shape, arr.dtype.name, meta["axes"]["u"]["mapping"]
     ((2, 8, 3), 'uint8', 'mired')
     """
+    check_target(settings, spec)
     if spec.magnitude_range is None:
         # A strip: quantise one row, then repeat the stored samples (not float64) H times.
         row = texture_samples(render_lut(settings, spec.replace(height=1)), spec)
@@ -172,7 +193,9 @@ def write_lut(path, array: np.ndarray, metadata: dict, spec: TextureSpec,
     text = metadata_json(metadata)
     with atomic_path(path, overwrite) as tmp:
         if spec.file_format == "png":
-            imageio.write_png(tmp, array, {METADATA_KEY: text})
+            tagged = imageio.PngText({METADATA_KEY: text},
+                                     imageio.png_colour_chunks(display_of(metadata)))
+            imageio.write_png(tmp, array, tagged)
         else:
             chroma = chromaticities(metadata)
             imageio.write_exr(tmp, array, {METADATA_KEY: text}, chromaticities=chroma)
@@ -206,6 +229,7 @@ def export_texture(settings, spec: TextureSpec, path, overwrite: bool = False) -
     """
     from starkiln.engine.atomic import check_writable
 
+    check_target(settings, spec)
     if format_for_path(path) != spec.file_format:
         raise StarkilnError(f"{path}: extension does not match the texture format "
                             f"{spec.file_format!r}")

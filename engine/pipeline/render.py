@@ -13,6 +13,13 @@ Every output of Starkiln calls :func:`render`. The chain, per star:
    for max-channel normalisation the largest channel is set to 1 again.
 6. The display's transfer function gives ``rgb_encoded`` (0-1).
 
+Working spaces (``Display.kind == "working-space"``, e.g. ``acescg``) are targets too: the
+same chain, scene-linear. Their gamut method is ``none`` unless one is asked for, so step 5
+keeps channels below 0 or above 1 as they are (normalisation still sets the brightness:
+the largest channel is 1, or the luminance is ``luminance_Y``), and step 6 is the identity
+(``rgb_encoded`` is ``rgb_linear``, nothing clamped). An asked-for method (``clip``,
+``scale``, ``chroma``) maps into the working space's cube as it does for a display.
+
 Temperatures are de-duplicated first, so a lookup grid of W temperatures x H
 rows costs W spectra, not W x H.
 """
@@ -27,7 +34,8 @@ import numpy as np
 
 from starkiln.engine.errors import InputRangeError
 from starkiln.engine.eye import vision as nv
-from starkiln.engine.colour.gamut import Oklab_to_XYZ, XYZ_to_Oklab, channel_max, in_gamut, map_to_gamut
+from starkiln.engine.colour.gamut import (NO_MAPPING, Oklab_to_XYZ, XYZ_to_Oklab, channel_max,
+                                         in_gamut, map_to_gamut)
 from starkiln.engine.colour.observers import (KM_PHOTOPIC_LM_W, KM_SCOTOPIC_LM_W, XYZ_to_xy, cmfs, v_photopic,
                               v_scotopic, xy_to_XYZ)
 from starkiln.engine.colour.displays import D65_4DIGIT, Display
@@ -86,7 +94,7 @@ class Rendered:
     def rgb_encoded(self) -> np.ndarray:
         """``display.encode(rgb_linear)``, computed on first use (a linear EXR never needs it)."""
         if self.encoded_ is None:
-            object.__setattr__(self, "encoded_", self.display.encode(self.rgb_linear))
+            object.__setattr__(self, "encoded_", encode_for(self.display, self.rgb_linear))
         return self.encoded_
 
     @property
@@ -96,7 +104,7 @@ class Rendered:
             if self.magnitude is None:
                 value = self.rgb_encoded  # intensity 1 everywhere
             else:
-                value = self.display.encode(self.rgb_linear * self.intensity[..., None])
+                value = encode_for(self.display, self.rgb_linear * self.intensity[..., None])
             object.__setattr__(self, "dimmed_encoded_", value)
         return self.dimmed_encoded_
 
@@ -111,6 +119,43 @@ class Rendered:
     def hex(self) -> np.ndarray:
         """``#rrggbb`` strings from ``rgb_encoded`` (8-bit, rounded half up)."""
         return to_hex(self.rgb_encoded)
+
+
+def encode_for(display: Display, rgb_linear) -> np.ndarray:
+    """The values a target stores: the display's transfer function, or for a working space the
+    scene-linear values themselves (no transfer function, nothing clamped).
+
+    Parameters
+    ----------
+    display : Display
+        A display (encoded 0-1 through its transfer function) or a working space.
+    rgb_linear : array_like
+        (..., 3) linear RGB of that target.
+
+    Returns
+    -------
+    numpy.ndarray
+        (..., 3) float64.
+
+    References
+    ----------
+    [IEC61966-2-1], [BT1886], [ST2084] (the displays' transfer functions); a working space is
+    scene-linear by definition ([S-2014-004], [ST2065-1]).
+
+    Examples
+    --------
+    sRGB encodes linear 0.5 as 0.7354 ([IEC61966-2-1] section 5.2: 1.055 x 0.5^(1/2.4) - 0.055);
+    ACEScg keeps -0.25 and 1.5 as they are:
+
+    >>> from starkiln.engine.colour.displays import get_display
+    >>> np.round(encode_for(get_display("srgb"), [0.5, 0.5, 0.5]), 4).tolist()
+    [0.7354, 0.7354, 0.7354]
+    >>> encode_for(get_display("acescg"), [-0.25, 1.5, 0.5]).tolist()
+    [-0.25, 1.5, 0.5]
+    """
+    if display.kind == "working-space":
+        return np.array(rgb_linear, dtype=np.float64)
+    return display.encode(rgb_linear)
 
 
 def blackbody_XYZ(temperature_K, observer: str = "cie1931") -> np.ndarray:
@@ -227,7 +272,7 @@ def _per_temperature(settings: Settings, t_flat: np.ndarray, with_sp: bool):
 def _render_colour(settings: Settings, t: np.ndarray) -> Rendered:
     """Full colour per temperature (no magnitudes): steps 1-6 of the chain."""
     _, inverse, XYZ_u, rgb_u, ok_u, _ = _per_temperature(settings, t.reshape(-1), False)
-    enc_u = settings.display.encode(rgb_u)
+    enc_u = encode_for(settings.display, rgb_u)
     shape = t.shape
     XYZ = XYZ_u[inverse].reshape(shape + (3,))
     encoded = enc_u[inverse].reshape(shape + (3,))  # encoded once per temperature: cheap
@@ -343,8 +388,17 @@ def _night_block(settings: Settings, chain: "_Chain", mag, sp, lab) -> dict:
         m_eff = m_eye
     intensity = nv.intensity_from_magnitude(m_eff, settings.magnitude_bright,
                                             settings.magnitude_faint, settings.intensity_curve)
+    rgb, factor, reached = _chroma_and_compensation(settings, chain, lab, sat, sp, intensity)
+    _check_finite(settings, rgb, intensity, lp)
+    return {"rgb": rgb, "intensity": intensity, "lp": lp, "cone": cone, "sat": factor,
+            "reached": reached}
+
+
+def _chroma_and_compensation(settings: Settings, chain: "_Chain", lab, sat, sp, intensity):
+    """The night colour of each star: chroma factor ``sat``, then (with ``compensate``) the dome
+    boost; returns RGB, the chroma factor achieved and whether compensation was reached."""
     rgb, inside, factor = _apply_chroma(settings, lab, sat, chain)
-    reached = np.zeros(mag.shape, dtype=bool)
+    reached = np.zeros(np.shape(sat), dtype=bool)
     if settings.compensate:
         # The audience sees each pixel at intensity x peak x its relative luminance, with their
         # own cone weight there. Boost chroma by s / s_dome; s_dome depends on the boosted
@@ -360,9 +414,61 @@ def _night_block(settings: Settings, chain: "_Chain", mag, sp, lab) -> dict:
             rgb, inside, factor = _apply_chroma(settings, lab,
                                                 np.where(reachable, wanted, 1.0e6), chain)
         reached = reachable & inside
-    _check_finite(settings, rgb, intensity, lp)
-    return {"rgb": rgb, "intensity": intensity, "lp": lp, "cone": cone, "sat": factor,
-            "reached": reached}
+    return rgb, factor, reached
+
+
+def same_stars_in(settings: Settings, rendered: Rendered) -> np.ndarray:
+    """``render(settings, T, m).rgb_linear`` from a render of the same stars for another target.
+
+    The spectral sums and the night-vision quantities do not depend on the target, so the
+    tristimulus values, cone weights, S/P ratios and intensities of ``rendered`` give the
+    colours for ``settings`` (typically the same look with a working space as the target)
+    through steps 3-5 of the chain alone: no second spectral pass. The result equals a
+    direct render with ``settings``, value for value.
+
+    Parameters
+    ----------
+    settings : Settings
+        The target to convert to; its look (observer, whites, adaptation, normalisation,
+        night vision) must be that of the settings ``rendered`` was made with; only
+        ``display`` and ``gamut`` may differ.
+    rendered : Rendered
+        The render of the stars (with or without magnitudes).
+
+    Returns
+    -------
+    numpy.ndarray
+        (..., 3) linear RGB of ``settings.display`` (scene-linear for a working space), the
+        shape of ``rendered.rgb_linear``.
+
+    References
+    ----------
+    As :func:`render`: [CIE15], [RP177], [CIE191] (the cone weight reused).
+
+    Examples
+    --------
+    >>> from starkiln.engine.pipeline.settings import Settings
+    >>> shown = render(Settings(), [3000.0, 9000.0])
+    >>> aces = Settings(display="acescg")
+    >>> bool(np.array_equal(same_stars_in(aces, shown), render(aces, [3000.0, 9000.0]).rgb_linear))
+    True
+    """
+    shape = rendered.rgb_linear.shape
+    t_flat = np.asarray(rendered.temperature_K, dtype=np.float64).reshape(-1)
+    XYZ_flat = np.asarray(rendered.XYZ, dtype=np.float64).reshape(-1, 3)
+    _, first, inverse = np.unique(t_flat, return_index=True, return_inverse=True)
+    rgb_u, _ = _display_rgb(settings, XYZ_flat[first])
+    if rendered.magnitude is None:
+        return rgb_u[inverse].reshape(shape)
+    chain = _chain(settings)
+    lab = XYZ_to_Oklab(rgb_u @ chain.rgb_to_XYZ_D65.T)[inverse]
+    cone = np.asarray(rendered.cone_weight, dtype=np.float64).reshape(-1)
+    sat = (nv.saturation_from_cone_weight(cone) if settings.vision == "mesopic"
+           else np.ones(cone.shape))
+    rgb, _, _ = _chroma_and_compensation(
+        settings, chain, lab, sat, np.asarray(rendered.scotopic_ratio).reshape(-1),
+        np.broadcast_to(rendered.intensity, shape[:-1]).reshape(-1))
+    return rgb.reshape(shape)
 
 
 def _check_finite(settings: Settings, *arrays) -> None:
@@ -393,6 +499,8 @@ def _apply_chroma(settings: Settings, lab: np.ndarray, factor: np.ndarray, chain
     rgb = Oklab_to_XYZ(lab_out) @ np.linalg.inv(chain.rgb_to_XYZ_D65).T
     inside = in_gamut(rgb, upper=False)
     achieved = np.array(np.broadcast_to(factor, inside.shape), dtype=np.float64)
+    if settings.gamut == NO_MAPPING:  # a working space without mapping: keep every value
+        return rgb / channel_max(rgb)[..., None], inside, achieved
     if not np.all(inside):
         bad = ~inside
         rgb[bad] = map_to_gamut(rgb[bad], "chroma", chain.rgb_to_XYZ_D65, chain.luminance_row,
@@ -442,6 +550,8 @@ def _display_rgb(settings: Settings, XYZ: np.ndarray):
     else:
         rgb = rgb / channel_max(rgb)[..., None]
     ok = in_gamut(rgb, upper)
+    if settings.gamut == NO_MAPPING:  # a working space without mapping: keep every value
+        return rgb, ok
     out = rgb.copy()
     bad = ~ok
     if np.any(bad):

@@ -7,7 +7,7 @@ options. TOML layout (``starkiln_settings`` is the format version)::
     observer = "cie1931"
     scene_white = "D65"
     adaptation = "bradford"
-    gamut = "chroma"
+    gamut = "chroma"           # absent: the target's default (chroma; none for a working space)
     normalisation = "max-channel"
     luminance_Y = 0.5
     vision = "mesopic"         # night-vision fields: see the class docstring
@@ -33,6 +33,14 @@ options. TOML layout (``starkiln_settings`` is the format version)::
 
 Reading uses the standard library's ``tomllib`` (TOML 1.0); writing uses
 ``tomli-w``. Files are written atomically.
+
+Gamut: ``gamut`` is the method asked for. Left out (or ``None`` from Python), it is the
+target's default (:func:`starkiln.engine.colour.gamut.default_gamut_method`): ``chroma`` for a
+display, as format 1 always meant, and ``none`` (no mapping, values outside 0-1 kept) for a
+working space. A display target's file still says ``gamut = "chroma"`` (so files for displays
+are unchanged); a working-space target's file names the gamut only when one was asked for.
+``none`` is refused for a display. The format stays 1: the keys are the same, and every file
+an earlier version wrote reads as it did.
 """
 
 from __future__ import annotations
@@ -46,7 +54,7 @@ import numpy as np
 from starkiln.engine.colour.displays import PRESETS, Display, display_from_table, get_display
 from starkiln.engine.errors import (SettingsError, finite_number, plain_type_name, read_text_file,
                                     shown_value)
-from starkiln.engine.colour.gamut import check_gamut_method
+from starkiln.engine.colour.gamut import NO_MAPPING, check_gamut_method, default_gamut_method
 from starkiln.engine.colour.observers import check_observer
 from starkiln.engine.eye.vision import INTENSITY_CURVES, VISIONS
 from starkiln.engine.colour.whites import check_adaptation, normalise_white_spec
@@ -81,7 +89,10 @@ class Settings:
     scene_white : what should look neutral; see :mod:`starkiln.engine.colour.whites`.
     adaptation : ``bradford`` (default), ``cat16``, ``cat02``, ``von-kries``, ``none``.
     display : a :class:`starkiln.engine.colour.displays.Display` (preset or custom profile).
-    gamut : ``clip``, ``scale`` or ``chroma`` (default); see :mod:`starkiln.engine.colour.gamut`.
+    gamut : ``clip``, ``scale``, ``chroma`` or ``none`` (working spaces only); see
+        :mod:`starkiln.engine.colour.gamut`. Not given (None): the target's default,
+        ``chroma`` for a display, ``none`` for a working space. After validation it holds the
+        method in effect; ``gamut_asked`` says whether it was asked for.
     normalisation : ``max-channel`` (default: the largest linear channel is 1)
         or ``luminance`` (every star at relative luminance ``luminance_Y``).
     luminance_Y : relative luminance used by ``luminance`` normalisation, (0, 1].
@@ -105,7 +116,7 @@ class Settings:
     scene_white: str = "D65"
     adaptation: str = "bradford"
     display: Display = field(default_factory=lambda: PRESETS["srgb"])
-    gamut: str = "chroma"
+    gamut: str | None = None
     normalisation: str = "max-channel"
     luminance_Y: float = 0.5
     vision: str = "mesopic"
@@ -122,6 +133,8 @@ class Settings:
     def __post_init__(self):
         for name in _TEXT_KEYS:
             value = getattr(self, name)
+            if name == "gamut" and value is None:
+                continue
             if not isinstance(value, str):
                 raise SettingsError(f"{name} {shown_value(value)} is {plain_type_name(value)}; "
                                     "accepted: "
@@ -130,7 +143,7 @@ class Settings:
         object.__setattr__(self, "scene_white", normalise_white_spec(self.scene_white))
         object.__setattr__(self, "adaptation", check_adaptation(self.adaptation))
         object.__setattr__(self, "display", get_display(self.display))
-        object.__setattr__(self, "gamut", check_gamut_method(self.gamut))
+        self._check_gamut()
         norm = str(self.normalisation).strip().lower()
         if norm not in NORMALISATIONS:
             raise SettingsError(f"unknown normalisation {self.normalisation!r}; accepted: "
@@ -141,6 +154,27 @@ class Settings:
             raise SettingsError(f"luminance_Y {y:g} is outside the accepted range 0 < Y <= 1")
         object.__setattr__(self, "luminance_Y", y)
         self._check_vision()
+
+    def _check_gamut(self):
+        """Resolve ``gamut``: the target's default when None; ``none`` only for working spaces."""
+        asked = self.gamut is not None
+        if not asked:
+            method = default_gamut_method(self.display)
+        else:
+            working = self.display.kind == "working-space"
+            if str(self.gamut).strip().lower() == NO_MAPPING and not working:
+                raise SettingsError(f"gamut 'none' keeps values outside 0-1, which display "
+                                    f"{self.display.name!r} cannot show; accepted for a display: "
+                                    "clip, scale, chroma ('none' is for working spaces)")
+            method = check_gamut_method(self.gamut, allow_none=working)
+        object.__setattr__(self, "gamut", method)
+        object.__setattr__(self, "_gamut_asked", asked)
+
+    @property
+    def gamut_asked(self) -> bool:
+        """Whether ``gamut`` was asked for (False: the target's default, which follows the
+        target through :meth:`replace`). Not a field: settings that render alike are equal."""
+        return self._gamut_asked
 
     def _check_vision(self):
         """Validate the night-vision fields (ranges in the class docstring)."""
@@ -172,7 +206,13 @@ class Settings:
         set_(self, "compensate", bool(self.compensate))
 
     def replace(self, **changes) -> "Settings":
-        """A copy with some fields changed, validated again."""
+        """A copy with some fields changed, validated again.
+
+        A gamut that was not asked for stays the target's default, so changing the display
+        to a working space drops the mapping, and back to a display brings ``chroma`` back.
+        """
+        if "gamut" not in changes and not self.gamut_asked:
+            changes["gamut"] = None
         return dataclasses.replace(self, **changes)
 
     def to_dict(self) -> dict:
@@ -180,6 +220,9 @@ class Settings:
         d = {"starkiln_settings": SETTINGS_FORMAT}
         for f in dataclasses.fields(self):
             v = getattr(self, f.name)
+            if (f.name == "gamut" and not self.gamut_asked
+                    and self.display.kind == "working-space"):
+                continue  # the target's default: absent, so it follows the target on reading
             if isinstance(v, Display):
                 v = {k: (list(x) if isinstance(x, tuple) else x)
                      for k, x in dataclasses.asdict(v).items()
