@@ -13,7 +13,7 @@ from __future__ import annotations
 from PySide6 import QtCore, QtWidgets
 
 from starkiln.engine.pipeline import settings as engine_settings
-from starkiln.engine.colour.gamut import GAMUT_METHODS
+from starkiln.engine.colour.gamut import GAMUT_CHOICES, NO_MAPPING
 from starkiln.engine.colour.observers import OBSERVERS
 from starkiln.engine.colour.whites import ADAPTATIONS, WHITE_PRESETS
 from starkiln.gui.display_controls import DisplayTab
@@ -31,6 +31,7 @@ LABELS = {
     "none": "None (no adaptation)",
     "cie1931": "CIE 1931 2\u00b0", "cie1964": "CIE 1964 10\u00b0",
     "clip": "Clip channels", "scale": "Toward white", "chroma": "Less chroma (Oklab)",
+    NO_MAPPING: "Keep values (working spaces)",
     "max-channel": "Brightest channel 1", "luminance": "Fixed luminance Y",
     "mesopic": "Mesopic (CIE 191)", "asinh": "asinh (soft)", "log": "log (linear in mag)",
     "linear": "linear in flux",
@@ -151,8 +152,9 @@ class OutputTab(Form):
         super().__init__(parent)
         self.model = model
         self.gamut = self.row("Gamut mapping", Choice(
-            "gamut", GAMUT_METHODS, lambda v: model.change("gamut", gamut=v), LABELS),
-            "How colours outside the display's triangle are brought inside")
+            "gamut", GAMUT_CHOICES, lambda v: model.change("gamut", gamut=v), LABELS),
+            "How colours outside the display's triangle are brought inside; a scene-linear "
+            "working space keeps its values unless a method is chosen")
         self.normalisation = self.row("Normalisation", Choice(
             "normalisation", engine_settings.NORMALISATIONS,
             lambda v: model.change("normalisation", normalisation=v), LABELS),
@@ -169,6 +171,8 @@ class OutputTab(Form):
     def refresh(self, force: bool = False) -> None:
         """Show the model's settings."""
         s = self.model.settings
+        keep = self.gamut.combo.findData(NO_MAPPING)  # only a working space may keep values
+        self.gamut.combo.model().item(keep).setEnabled(s.display.kind == "working-space")
         self.gamut.set_value(s.gamut)
         self.normalisation.set_value(s.normalisation)
         if force or not self.luminance.has_error:

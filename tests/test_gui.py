@@ -261,7 +261,7 @@ def test_adaptation_observer_gamut_normalisation(window):
 
 def test_options_are_the_engines(window):
     from starkiln.engine.colour.displays import PRESETS
-    from starkiln.engine.colour.gamut import GAMUT_METHODS
+    from starkiln.engine.colour.gamut import GAMUT_CHOICES
     from starkiln.engine.colour.whites import ADAPTATIONS, WHITE_PRESETS
 
     def data(choice):
@@ -269,9 +269,25 @@ def test_options_are_the_engines(window):
 
     look = window.look
     assert data(look.white.adaptation) == list(ADAPTATIONS)
-    assert data(look.output.gamut) == list(GAMUT_METHODS)
+    assert data(look.output.gamut) == list(GAMUT_CHOICES)
     assert data(look.white.kind)[:len(WHITE_PRESETS)] == list(WHITE_PRESETS)
     assert data(look.display.display)[:len(PRESETS)] == list(PRESETS)
+
+
+def test_keep_values_is_offered_only_for_working_spaces(window):
+    # A working space is scene-linear: no gamut mapping unless one is asked for (issue 11);
+    # a display's code values must lie in 0-1, so "keep values" is not offered for one.
+    from starkiln.engine.colour.displays import PRESETS, WORKING_SPACES
+
+    gamut = window.look.output.gamut
+    keep = gamut.combo.model().item(gamut.combo.findData("none"))
+    assert not keep.isEnabled()
+    window.model.change("display", display=WORKING_SPACES["acescg"])
+    window.look.output.refresh()
+    assert keep.isEnabled() and gamut.value() == "none"
+    window.model.change("display", display=PRESETS["srgb"])
+    window.look.output.refresh()
+    assert not keep.isEnabled() and gamut.value() == "chroma"
 
 
 def test_demo_dome_profile_and_editor(window, qtbot):
