@@ -43,6 +43,10 @@ _PUBLIC = {
     "export_palette": ("starkiln.engine.exports.palettes", "export_palette"),
     "build_palette": ("starkiln.engine.exports.palettes", "build_palette"),
     "write_palette": ("starkiln.engine.exports.palettes", "write_palette"),
+    "WORKING_SPACES": ("starkiln.engine.colour.displays", "WORKING_SPACES"),
+    "write_ocio_config": ("starkiln.engine.exports.ocio_config", "write_ocio_config"),
+    "display_from_icc": ("starkiln.engine.colour.icc_profiles", "display_from_icc"),
+    "display_from_readings": ("starkiln.engine.colour.measured", "display_from_readings"),
     "CataloguePlan": ("starkiln.engine.catalogue.plan", "CataloguePlan"),
     "colour_catalogue": ("starkiln.engine.catalogue.run", "colour_catalogue"),
     # errors
