@@ -20,8 +20,9 @@ What is read, and from where:
   :func:`read_trc` (``curv``, [ICC1] section 10.6, and ``para``, section 10.18). The three
   curves are sampled at 1024 code values and stored as ``srgb`` when the [IEC61966-2-1]
   curve fits within 1e-3 (display-linear, every sample), as ``gamma`` when a pure power of
-  1-4 fits within 1e-3, as ``linear`` when the identity does, and as a ``table`` transfer
-  otherwise (the ``curv`` entries themselves when the three curves are the same table).
+  1-4 fits within 1e-3, as ``linear`` when the identity does, as ``pq`` when the [ST2084]
+  EOTF divided by the profile's peak luminance does (the curve Starkiln's own PQ profiles
+  hold, :mod:`starkiln.engine.colour.icc_writer`), and as a ``table`` transfer otherwise (the ``curv`` entries themselves when the three curves are the same table).
 
 Not read: LUT-based profiles (``A2B0`` tables without colorant tags), and profiles of the
 input (``scnr``), output (``prtr``), abstract, link, colour-space and named-colour classes.
@@ -155,12 +156,14 @@ def read_trc(data: bytes, offset: int, size: int, code_values: np.ndarray, what:
 
 
 def fit_transfer(code_values: np.ndarray, linear: np.ndarray, table=None,
-                 tolerance: float = FIT_TOLERANCE) -> dict:
+                 tolerance: float = FIT_TOLERANCE, peak_cd_m2: float | None = None) -> dict:
     """The simplest transfer that reproduces a sampled tone curve within ``tolerance``.
 
     Tried in order: ``linear``, ``srgb``, ``gamma`` (a pure power of 1-4, fitted by least
-    squares on log values), then a ``table``: ``table`` if given, else the curve at its
-    samples (which must then be equally spaced from 0 to 1).
+    squares on log values), ``pq`` when ``peak_cd_m2`` is given (the [ST2084] EOTF divided
+    by that peak, clipped at 1: how a PQ display's curve is stored in a profile), then a
+    ``table``: ``table`` if given, else the curve at its samples (which must then be equally
+    spaced from 0 to 1).
 
     Parameters
     ----------
@@ -170,6 +173,8 @@ def fit_transfer(code_values: np.ndarray, linear: np.ndarray, table=None,
         Samples to store if no formula fits (equally spaced code values 0..1).
     tolerance : float
         Largest display-linear difference accepted at any sample.
+    peak_cd_m2 : float, optional
+        The display's peak luminance; given, the PQ curve normalised to it is tried too.
 
     Returns
     -------
@@ -178,9 +183,10 @@ def fit_transfer(code_values: np.ndarray, linear: np.ndarray, table=None,
 
     References
     ----------
-    [IEC61966-2-1] section 5.2 (the sRGB curve); [BT1886] (pure power); module docstring.
+    [IEC61966-2-1] section 5.2 (the sRGB curve); [BT1886] (pure power); [ST2084] (PQ);
+    module docstring.
     """
-    from starkiln.engine.colour.displays import srgb_decode
+    from starkiln.engine.colour.displays import pq_decode, srgb_decode
 
     v = np.asarray(code_values, dtype=np.float64)
     y = np.asarray(linear, dtype=np.float64)
@@ -192,6 +198,9 @@ def fit_transfer(code_values: np.ndarray, linear: np.ndarray, table=None,
         gamma = float(np.sum(lv * ly) / np.sum(lv * lv))
         if 1.0 <= gamma <= 4.0:
             candidates.append(("gamma", gamma, np.max(np.abs(y - np.power(v, gamma)))))
+    if peak_cd_m2 is not None:
+        pq = np.minimum(pq_decode(v) / peak_cd_m2, 1.0)
+        candidates.append(("pq", 2.2, np.max(np.abs(y - pq))))
     for name, gamma, err in candidates:
         if err <= tolerance:
             return {"transfer": name, "gamma": gamma, "transfer_samples": (),
@@ -331,7 +340,8 @@ def display_from_icc(path, name: str | None = None) -> ImportedProfile:
                      "their mean is used")
     same_table = (all(t is not None for t in tables) and spread == 0.0
                   and len({len(t) for t in tables}) == 1 and len(tables[0]) <= 4096)
-    fit = fit_transfer(codes, curves.mean(axis=0), tables[0] if same_table else None)
+    fit = fit_transfer(codes, curves.mean(axis=0), tables[0] if same_table else None,
+                       peak_cd_m2=peak)
     if abs(curves.mean(axis=0)[0]) > FIT_TOLERANCE or abs(curves.mean(axis=0)[-1] - 1) > FIT_TOLERANCE:
         notes.append("the tone curve does not run from 0 to 1: rescaled to 0-1")
     if name is None:
