@@ -13,8 +13,14 @@ timestamps, so equal inputs give byte-identical files.
   specification's compatibility value; none for PQ, which no power describes); and every
   display whose primaries, white and transfer have ITU-T H.273 code points gets ``cICP``
   as well ([H273]; [PNG3] section 11.3.2.6), which a reader that knows it uses first.
-  Pillow's ImageCms (LittleCMS) builds only its own sRGB profile, not one for given
-  primaries, so no ``iCCP`` is written. A working space is never a PNG (its values go
+  Every display but sRGB also embeds its ICC display profile as ``iCCP`` ([PNG3] section
+  11.3.2.3: the profile name is the display's name made Latin-1 safe, the profile
+  zlib-compressed), written by :func:`starkiln.engine.colour.icc_writer.icc_profile_bytes`
+  (an ICC v4 matrix/TRC profile, which LittleCMS reads), so colour-managed readers that know
+  neither ``cICP`` nor ``cHRM``/``gAMA`` still see the primaries, white and the whole tone
+  curve (also the table and PQ curves no ``gAMA`` describes). The sRGB display gets no
+  ``iCCP``: [PNG3] 11.3.2.5 forbids ``sRGB`` and ``iCCP`` together. The chunk is built once
+  per display (cached). A working space is never a PNG (its values go
   outside 0-1): callers refuse it and point to EXR.
 - EXR through the OpenEXR Python bindings (``OpenEXR.File(header, channels)``,
   OpenEXR 3.x), 32-bit float channels R, G, B (, A), ZIP compression
@@ -25,12 +31,13 @@ References
 ----------
 [PNG], section 11.3.4.3 (``tEXt``: Latin-1 keyword of 1-79
 characters, a null separator, Latin-1 text); [PNG3] section 11.3.2 (``cHRM``, ``gAMA``,
-``sRGB``, ``cICP``); [H273] (code points); [OpenEXR] technical introduction
+``iCCP``, ``sRGB``, ``cICP``); [ICC1] (the embedded profile); [H273] (code points); [OpenEXR] technical introduction
 (header attributes, ``chromaticities``).
 """
 
 from __future__ import annotations
 
+from functools import lru_cache
 from pathlib import Path
 
 import numpy as np
@@ -121,12 +128,13 @@ def png_colour_chunks(display) -> list[tuple[bytes, bytes]]:
     -------
     list of (bytes, bytes)
         ``(chunk type, data)`` in file order, to follow ``IHDR``: ``cICP`` (when it has code
-        points), then ``sRGB`` or nothing, ``gAMA`` (not for PQ), ``cHRM``.
+        points), then ``sRGB`` or ``iCCP``, ``gAMA`` (not for PQ or a table), ``cHRM``.
 
     References
     ----------
     [PNG3] sections 11.3.2.2 (``gAMA``: 100000 / gamma), 11.3.2.1 (``cHRM``: x, y times
-    100000, white first), 11.3.2.5 (``sRGB``), 11.3.2.6 (``cICP``); [H273].
+    100000, white first), 11.3.2.3 (``iCCP``), 11.3.2.5 (``sRGB``), 11.3.2.6 (``cICP``);
+    [H273]; [ICC1].
     """
     import struct
 
@@ -142,6 +150,7 @@ def png_colour_chunks(display) -> list[tuple[bytes, bytes]]:
         chunks.append((b"gAMA", struct.pack(">I", SRGB_GAMA)))
         chunks.append((b"cHRM", struct.pack(">8I", *SRGB_CHRM)))
         return chunks
+    chunks.append((b"iCCP", iccp_chunk_data(display)))
     if display.transfer == "srgb":
         chunks.append((b"gAMA", struct.pack(">I", SRGB_GAMA)))
     elif display.transfer == "gamma":
@@ -151,6 +160,63 @@ def png_colour_chunks(display) -> list[tuple[bytes, bytes]]:
     xy = [display.white_xy, display.red_xy, display.green_xy, display.blue_xy]
     chunks.append((b"cHRM", struct.pack(">8I", *(round(v * 100000.0) for p in xy for v in p))))
     return chunks
+
+
+def iccp_profile_name(name: str) -> bytes:
+    """A display name as a PNG ``iCCP`` profile name: Latin-1, 1-79 bytes.
+
+    Characters outside printable Latin-1 (32-126, 161-255) become ``?``, runs of spaces one
+    space, leading and trailing spaces go; an empty result is ``ICC profile``.
+
+    Parameters
+    ----------
+    name : str
+
+    Returns
+    -------
+    bytes
+
+    References
+    ----------
+    [PNG3] sections 11.3.2.3 (``iCCP``: a profile name like a keyword) and 11.3.3.4 (keywords:
+    1-79 bytes of printable Latin-1, no leading, trailing or consecutive spaces).
+
+    Examples
+    --------
+    >>> iccp_profile_name("  Dome  \u2014 north ")
+    b'Dome ? north'
+    """
+    import re
+
+    chars = "".join(c if (32 <= ord(c) <= 126 or 161 <= ord(c) <= 255) else "?" for c in name)
+    chars = re.sub(" +", " ", chars).strip()[:79].rstrip()
+    return (chars or "ICC profile").encode("latin-1")
+
+
+@lru_cache(maxsize=64)
+def iccp_chunk_data(display) -> bytes:
+    """The data of a display's ``iCCP`` chunk: name, NUL, method 0 (zlib), the profile.
+
+    Parameters
+    ----------
+    display : starkiln.engine.colour.displays.Display
+
+    Returns
+    -------
+    bytes
+        Built once per display (cached).
+
+    References
+    ----------
+    [PNG3] section 11.3.2.3; [RFC1950] (zlib); [ICC1] (the profile,
+    :func:`starkiln.engine.colour.icc_writer.icc_profile_bytes`).
+    """
+    import zlib
+
+    from starkiln.engine.colour.icc_writer import icc_profile_bytes
+
+    return (iccp_profile_name(display.name) + b"\x00\x00"
+            + zlib.compress(icc_profile_bytes(display), 9))
 
 
 class PngText(dict):
@@ -217,12 +283,14 @@ def write_png_strips(path, strips, width: int, height: int, text: dict[str, str]
         zlib level 0-9.
     colour_chunks : sequence of (bytes, bytes)
         Chunks from :func:`png_colour_chunks`, written right after ``IHDR`` (before ``PLTE``
-        and ``IDAT``, as [PNG3] section 5.6 orders them).
+        and ``IDAT``, as [PNG3] section 5.6 orders them), the ``iCCP`` with its compressed
+        profile among them; ``sRGB`` with ``iCCP`` is refused ([PNG3] 11.3.2.5).
 
     References
     ----------
     [PNG] sections 5.3 (chunk layout, CRC), 9.2 (filter type 0), 10 (zlib
-    stream split over consecutive IDAT chunks), 11.2.2 (IHDR), 11.3.4.3 (tEXt); [RFC1950].
+    stream split over consecutive IDAT chunks), 11.2.2 (IHDR), 11.3.4.3 (tEXt); [PNG3]
+    11.3.2.3 (iCCP), 11.3.2.5 (sRGB); [RFC1950].
     """
     import struct
     import zlib
@@ -230,6 +298,10 @@ def write_png_strips(path, strips, width: int, height: int, text: dict[str, str]
     import png
 
     colour_chunks = list(colour_chunks) + list(getattr(text, "colour_chunks", ()))
+    kinds = [bytes(tag) for tag, _ in colour_chunks]
+    if b"sRGB" in kinds and b"iCCP" in kinds:
+        raise StarkilnError("a PNG holds an sRGB chunk or an iCCP chunk, not both "
+                            "(PNG 3rd edition 11.3.2.5)")
     text = dict(text or {})
     for key, value in text.items():
         if not 1 <= len(key) <= 79:
