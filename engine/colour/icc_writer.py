@@ -171,14 +171,13 @@ def matrix_trc_profile(primaries_xy, white_xy, trc: bytes, *, chad: bool = True,
     [ICC1] sections 9.2 and Annex E; [Lam1985] (Bradford, the matrix of
     :func:`starkiln.engine.colour.whites.adaptation_matrix`); [RP177].
     """
-    from starkiln.engine.colour.displays import _npm
-    from starkiln.engine.colour.observers import xy_to_XYZ
+    from starkiln.engine.colour.displays import Display
     from starkiln.engine.colour.whites import adaptation_matrix
 
-    red, green, blue = (tuple(float(v) for v in p) for p in primaries_xy)
-    white = tuple(float(v) for v in white_xy)
-    npm = _npm(red, green, blue, white)
-    white_XYZ = np.asarray(xy_to_XYZ(white), dtype=np.float64)
+    red, green, blue = primaries_xy
+    primaries = Display(description, red, green, blue, white_xy, "linear")  # checks the xy
+    npm = primaries.rgb_to_XYZ
+    white_XYZ = np.asarray(primaries.white_XYZ, dtype=np.float64)
     bradford = adaptation_matrix(white_XYZ, np.array(D50_ICC), "bradford")
     colorants = bradford @ npm
     tags = {"desc": mluc(description), "cprt": mluc(copyright_text),
