@@ -43,6 +43,7 @@ SCRIPTS = [
     ("ocio", "bench_ocio.py", []),
     ("working-spaces", "bench_working_spaces.py", []),
     ("icc", "bench_icc.py", []),
+    ("png-icc", "bench_png_icc.py", []),
 ]
 
 
