@@ -77,7 +77,7 @@ DIM = Theme(
     plot_background="#050000", plot_axis="#f8321a", plot_grid="#2a0600",
     curve="#ff4020", overlay_photopic="#ff3a1a", overlay_scotopic="#f8321a",
     overlay_cmf=("#ff3a1a", "#ff3a1a", "#ff3a1a"),
-    locus="#f02e12", planckian="#ff3a1a", gamut="#f8361a", marker="#ff4a28",
+    locus="#f02e12", planckian="#ff3a1a", gamut="#f8361a", marker="#ff4420",
     outline="#000000", dash_overlays=True,
 )
 

@@ -1,7 +1,7 @@
 """Dark-room viewing: the window's colour patches dimmed in linear light, and their surround.
 
 The artist works beside the dome in the dark. A monitor at its usual white (the sRGB reference
-display is 80 cd/m2, [IEC61966-2-1] section 4) is far brighter than a dome's stars, so the
+display is 80 cd/m2, [IEC61966-2-1]) is far brighter than a dome's stars, so the
 artist's eyes adapt to the monitor and judge a dome's colours at the wrong luminance. The
 *viewing level* is a fraction ``f`` (0.02-1) of the monitor's white: every colour patch the
 window paints (swatches, strips, sky, spectrum band) is multiplied by ``f`` in the monitor's
@@ -35,7 +35,7 @@ dark-adapted audience avoid sudden bright flashes; in the window, change the lev
 
 References
 ----------
-[IEC61966-2-1] section 4 (80 cd/m2 reference white); [CIE191] (mesopic adaptation, through
+[IEC61966-2-1] (80 cd/m2 reference white); [CIE191] (mesopic adaptation, through
 :mod:`starkiln.engine.eye.vision`).
 """
 
@@ -50,7 +50,7 @@ from starkiln.engine.errors import SettingsError, finite_number
 #: The range of the viewing level (a fraction of the monitor's white).
 VIEWING_LEVEL_RANGE = (0.02, 1.0)
 #: The monitor's white luminance the dome level assumes: the sRGB reference display's
-#: ([IEC61966-2-1] section 4).
+#: ([IEC61966-2-1]).
 MONITOR_WHITE_CD_M2 = 80.0
 #: The surround choices round the large swatch.
 SURROUNDS = ("none", "grey", "black")
@@ -98,7 +98,7 @@ def dome_viewing_level(display, monitor_white_cd_m2: float = MONITOR_WHITE_CD_M2
     display : Display or str
         The chosen display (its ``peak_luminance_cd_m2``).
     monitor_white_cd_m2 : float
-        The monitor's white luminance (default 80 cd/m2, [IEC61966-2-1] section 4).
+        The monitor's white luminance (default 80 cd/m2, [IEC61966-2-1]).
 
     Returns
     -------
@@ -111,7 +111,7 @@ def dome_viewing_level(display, monitor_white_cd_m2: float = MONITOR_WHITE_CD_M2
 
     References
     ----------
-    [IEC61966-2-1] section 4; [CIE191] through :mod:`starkiln.engine.eye.vision` (step 7).
+    [IEC61966-2-1]; [CIE191] through :mod:`starkiln.engine.eye.vision` (step 7).
 
     Examples
     --------
