@@ -286,6 +286,9 @@ class MainWindow(QtWidgets.QMainWindow):
             a.setCheckable(True)
             group.addAction(a)
             self.theme_actions[key] = a
+        viewing = view.addMenu("Viewing level")  # dark-room viewing: gui/current.py
+        viewing.addAction("Dome level", self.current.use_dome_level)
+        viewing.addAction("Full (100 %)", lambda: self.current.set_viewing_level(1.0))
         monitors = view.addMenu("Monitor")
         monitors.setObjectName("menu-monitor")
         mgroup = QtGui.QActionGroup(self)
