@@ -172,6 +172,23 @@ class CurrentColourPanel(QtWidgets.QWidget):
         if i >= 0:
             self.surround.setCurrentIndex(i)
 
+    def restore_viewing(self, store) -> None:
+        """The viewing level and surround of the last session (a QSettings store, or None):
+        the window starts as dim as it was left, never brighter."""
+        if store is None:
+            return
+        try:
+            level = float(store.value("view/viewing_level", 1.0))
+            self.model.set_viewing_level(level, origin="restore")
+        except (TypeError, ValueError, StarkilnError):
+            pass  # a damaged entry: full level, as a fresh start
+        self.set_surround(str(store.value("view/surround", "none")))
+
+    def save_viewing(self, store) -> None:
+        """Keep the viewing level and surround in ``store`` (QSettings)."""
+        store.setValue("view/viewing_level", self.model.viewing_level)
+        store.setValue("view/surround", self.surround.currentData())
+
     def _viewing_shown(self, change) -> None:
         if change.origin != "viewing-level":
             self.viewing_level.blockSignals(True)

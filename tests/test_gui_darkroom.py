@@ -251,3 +251,19 @@ def test_overlays_have_an_outline_under_them(window):
     shadow = item.opts["shadowPen"]
     assert shadow is not None and shadow.widthF() == OUTLINE_WIDTH > item.opts["pen"].widthF()
     assert shadow.color().name() == "#000000"  # dark under a light line on the band
+
+
+def test_viewing_level_and_surround_are_kept_between_runs(qtbot, store):
+    from starkiln.gui import create_window
+
+    w = create_window(Settings(), 5772.0, store=store)
+    qtbot.addWidget(w)
+    w.current.set_viewing_level(0.1)
+    w.current.set_surround("grey")
+    w.close()  # closeEvent saves the state
+    w2 = create_window(store=store)
+    qtbot.addWidget(w2)
+    # a window left dim starts dim: no bright flash at the next start
+    assert w2.model.viewing_level == pytest.approx(0.1)
+    assert w2.current.surround.currentData() == "grey"
+    assert w2.current.swatch.surround_colour() is not None
