@@ -19,7 +19,7 @@ from starkiln.engine.errors import StarkilnError
 from starkiln.gui.theme import Theme
 
 #: Words for the surround choices.
-SURROUND_LABELS = {"none": "no surround", "grey": "mid-grey surround",
+SURROUND_LABELS = {"none": "no surround", "grey": "grey surround",
                    "black": "black surround"}
 #: A rise of the viewing level by more than this factor at once shows the caution.
 FLASH_RISE = 2.0
@@ -92,6 +92,7 @@ class CurrentColourPanel(QtWidgets.QWidget):
         row = QtWidgets.QHBoxLayout()
         row.addWidget(self.night_swatch)
         row.addWidget(self.copy_all, 0, QtCore.Qt.AlignmentFlag.AlignBottom)
+        row.addWidget(self.surround, 0, QtCore.Qt.AlignmentFlag.AlignBottom)
         row.addStretch(1)
         layout.addLayout(row)
         layout.addWidget(ladder_title)
@@ -128,7 +129,7 @@ class CurrentColourPanel(QtWidgets.QWidget):
         self.dome_level = QtWidgets.QPushButton("Dome level", row)
         self.dome_level.setObjectName("dome-level")
         self.dome_level.clicked.connect(self.use_dome_level)
-        self.surround = QtWidgets.QComboBox(row)
+        self.surround = QtWidgets.QComboBox(self)
         self.surround.setObjectName("surround")
         for key in SURROUNDS:
             self.surround.addItem(SURROUND_LABELS[key], key)
@@ -139,7 +140,6 @@ class CurrentColourPanel(QtWidgets.QWidget):
         lay.addWidget(label)
         lay.addWidget(self.viewing_level)
         lay.addWidget(self.dome_level)
-        lay.addWidget(self.surround)
         lay.addStretch(1)
         self._dome_tip()
 
