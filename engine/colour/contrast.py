@@ -7,7 +7,7 @@ The window's themes are checked with the Web Content Accessibility Guidelines' d
   EOTF ([IEC61966-2-1] section 5.2: ``V / 12.92`` at or below 0.04045, else
   ``((V + 0.055) / 1.055) ** 2.4``; WCAG 2.0 printed the threshold as 0.03928, which gives the
   same value for every 8-bit code), then ``L = 0.2126 R + 0.7152 G + 0.0722 B`` (the
-  luminance row of the Rec. 709 / sRGB primaries, [BT709] item 3.2);
+  luminance row of the Rec. 709 / sRGB primaries, [BT709] item 3.2, item number from memory);
 - contrast ratio ``(L1 + 0.05) / (L2 + 0.05)`` with ``L1`` the lighter, from 1:1 to 21:1.
 
 The thresholds the window keeps ([WCAG21] success criteria 1.4.3 and 1.4.11): 4.5:1 for text,
