@@ -2,6 +2,10 @@
 
 Everything shown is the window model's :attr:`starkiln.gui.model.WindowModel.colour`: the
 swatches paint its monitor colours (``monitor_*``), the readouts show the chosen display's.
+
+Dark-room viewing: the viewing level (a fraction of the monitor's white, dimmed by the engine
+in linear light, :mod:`starkiln.engine.colour.viewing`), its dome level, and the neutral
+surround round the large swatch (none, mid-grey or black; the engine gives its colour).
 """
 
 from __future__ import annotations
@@ -10,7 +14,21 @@ import numpy as np
 from PySide6 import QtCore, QtGui, QtWidgets
 
 from starkiln.gui.swatches import ColourSwatch, Readouts, SwatchStrip
+from starkiln.engine.colour.viewing import SURROUNDS, VIEWING_LEVEL_RANGE
+from starkiln.engine.errors import StarkilnError
 from starkiln.gui.theme import Theme
+
+#: Words for the surround choices.
+SURROUND_LABELS = {"none": "no surround", "grey": "grey surround",
+                   "black": "black surround"}
+#: A rise of the viewing level by more than this factor at once shows the caution.
+FLASH_RISE = 2.0
+VIEWING_CAUTION = ("Viewing level raised suddenly: avoid bright flashes for dark-adapted eyes "
+                   "(yours and a dome audience's); raise it gradually")
+VIEWING_TIP = ("Viewing level: every colour patch (swatches, strips, sky, spectrum band) dimmed "
+               "to this share of the monitor's white, in linear light. For the artist's eyes "
+               "in the dark, not a lighting-compliance tool. Change it gradually: avoid "
+               "sudden bright flashes for dark-adapted eyes.")
 
 ROWS = (("hex", "Hex", 8), ("8bit", "8-bit RGB", 11), ("linear", "Display-linear", 20),
         ("encoded", "Encoded 0\u20131", 20), ("xy", "CIE x, y", 16),
@@ -64,6 +82,7 @@ class CurrentColourPanel(QtWidgets.QWidget):
         self.magnitude_strip.picked.connect(self._magnitude_picked)
         ladder_title = QtWidgets.QLabel("Fading with magnitude (night vision)", self)
         ladder_title.setProperty("role", "muted")
+        self._build_viewing()
 
         layout = QtWidgets.QVBoxLayout(self)
         layout.setContentsMargins(6, 6, 6, 6)
@@ -73,14 +92,112 @@ class CurrentColourPanel(QtWidgets.QWidget):
         row = QtWidgets.QHBoxLayout()
         row.addWidget(self.night_swatch)
         row.addWidget(self.copy_all, 0, QtCore.Qt.AlignmentFlag.AlignBottom)
+        row.addWidget(self.surround, 0, QtCore.Qt.AlignmentFlag.AlignBottom)
         row.addStretch(1)
         layout.addLayout(row)
         layout.addWidget(ladder_title)
         layout.addWidget(self.magnitude_strip)
+        layout.addWidget(self.viewing_row)
         for event in (model.events.temperature, model.events.magnitude, model.events.settings,
-                      model.events.monitor):
+                      model.events.monitor, model.events.viewing):
             event.connect(lambda _change: self._show())
+        model.events.viewing.connect(self._viewing_shown)
+        model.events.settings.connect(lambda _change: self._dome_tip())
         self._show()
+
+    # -- dark-room viewing ---------------------------------------------------------------------
+    def _build_viewing(self) -> None:
+        row = self.viewing_row = QtWidgets.QWidget(self)
+        lay = QtWidgets.QHBoxLayout(row)
+        lay.setContentsMargins(0, 0, 0, 0)
+        lay.setSpacing(4)
+        label = QtWidgets.QLabel("Viewing level", row)
+        label.setToolTip(VIEWING_TIP)
+        self.viewing_level = QtWidgets.QDoubleSpinBox(row)
+        self.viewing_level.setObjectName("viewing-level")
+        lo, hi = VIEWING_LEVEL_RANGE
+        self.viewing_level.setRange(100.0 * lo, 100.0 * hi)
+        self.viewing_level.setDecimals(0)
+        self.viewing_level.setSingleStep(5.0)
+        self.viewing_level.setSuffix(" %")
+        self.viewing_level.setValue(100.0 * self.model.viewing_level)
+        self.viewing_level.setToolTip(VIEWING_TIP)
+        self.viewing_level.setKeyboardTracking(False)
+        self.viewing_level.valueChanged.connect(
+            lambda v: self.set_viewing_level(v / 100.0, origin="viewing-level"))
+        label.setBuddy(self.viewing_level)
+        self.dome_level = QtWidgets.QPushButton("Dome level", row)
+        self.dome_level.setObjectName("dome-level")
+        self.dome_level.clicked.connect(self.use_dome_level)
+        self.surround = QtWidgets.QComboBox(self)
+        self.surround.setObjectName("surround")
+        for key in SURROUNDS:
+            self.surround.addItem(SURROUND_LABELS[key], key)
+        self.surround.setToolTip("A neutral border round the large swatch, so that the eye "
+                                 "adapts to a known neutral rather than to the swatch: "
+                                 "mid-grey at a fifth of the viewing white, or black")
+        self.surround.currentIndexChanged.connect(lambda _i: self._show_surround())
+        lay.addWidget(label)
+        lay.addWidget(self.viewing_level)
+        lay.addWidget(self.dome_level)
+        lay.addStretch(1)
+        self._dome_tip()
+
+    def _dome_tip(self) -> None:
+        d = self.model.settings.display
+        self.dome_level.setToolTip(
+            f"Viewing level {100.0 * self.model.dome_viewing_level():.0f} %: a full-intensity "
+            f"star shown at the luminance of {d.name} ({d.peak_luminance_cd_m2:g} cd/m2 peak) "
+            "on a monitor whose white is 80 cd/m2")
+
+    def set_viewing_level(self, level: float, origin: str = "viewing") -> None:
+        """Dim every colour patch to ``level`` (0.02-1) of the monitor's white; a sudden rise
+        shows the caution on the status bar."""
+        before = self.model.viewing_level
+        try:
+            self.model.set_viewing_level(level, origin)
+        except StarkilnError as exc:
+            self.status.emit(str(exc))
+            return
+        if self.model.viewing_level > FLASH_RISE * before:
+            self.status.emit(VIEWING_CAUTION)
+
+    def use_dome_level(self) -> None:
+        """Set the viewing level from the chosen display's peak luminance (dome level)."""
+        self.set_viewing_level(self.model.dome_viewing_level(), origin="dome-level")
+
+    def set_surround(self, key: str) -> None:
+        """``none``, ``grey`` or ``black`` round the large swatch."""
+        i = self.surround.findData(key)
+        if i >= 0:
+            self.surround.setCurrentIndex(i)
+
+    def restore_viewing(self, store) -> None:
+        """The viewing level and surround of the last session (a QSettings store, or None):
+        the window starts as dim as it was left, never brighter."""
+        if store is None:
+            return
+        try:
+            level = float(store.value("view/viewing_level", 1.0))
+            self.model.set_viewing_level(level, origin="restore")
+        except (TypeError, ValueError, StarkilnError):
+            pass  # a damaged entry: full level, as a fresh start
+        self.set_surround(str(store.value("view/surround", "none")))
+
+    def save_viewing(self, store) -> None:
+        """Keep the viewing level and surround in ``store`` (QSettings)."""
+        store.setValue("view/viewing_level", self.model.viewing_level)
+        store.setValue("view/surround", self.surround.currentData())
+
+    def _viewing_shown(self, change) -> None:
+        if change.origin != "viewing-level":
+            self.viewing_level.blockSignals(True)
+            self.viewing_level.setValue(100.0 * float(change.value))
+            self.viewing_level.blockSignals(False)
+
+    def _show_surround(self) -> None:
+        rgb = self.model.surround_rgb_8bit(self.surround.currentData())
+        self.swatch.set_surround(rgb)
 
     def set_theme(self, theme: Theme) -> None:
         """Interface colours of the swatches and strip."""
@@ -122,6 +239,7 @@ class CurrentColourPanel(QtWidgets.QWidget):
         self.night_swatch.set_colour(c.monitor_dimmed_rgb_8bit,
                                      clipped=c.monitor_dimmed_clipped)
         self._show_ladder(c)
+        self._show_surround()
 
     def _show_ladder(self, c) -> None:
         mags, lr = c.ladder_magnitudes, c.ladder

@@ -33,6 +33,11 @@ the monitor's colour space by :func:`starkiln.engine.colour.monitor.monitor_rgb_
 ``monitor_*`` fields below); the readouts keep the chosen display's values. The window tells
 the model which monitor it is on (:meth:`WindowModel.set_monitor`); sRGB is assumed until then.
 
+Dark-room viewing. Those monitor colours are dimmed to the viewing level
+(:meth:`WindowModel.set_viewing_level`, a fraction 0.02-1 of the monitor's white, in its linear
+light: :mod:`starkiln.engine.colour.viewing`); :meth:`WindowModel.dome_viewing_level` is the
+level that shows a full-intensity star at the chosen display's luminance.
+
 References
 ----------
 Mired scale: [WyszeckiStiles1982] section 3.11. Colours:
@@ -52,6 +57,8 @@ import numpy as np
 
 from starkiln.engine.colour.displays import Display, load_display_profile
 from starkiln.engine.colour.monitor import SRGB_MONITOR, monitor_rgb_8bit, rendered_on_monitor
+from starkiln.engine.colour.viewing import (check_viewing_level, dome_viewing_level,
+                                           surround_rgb_8bit)
 from starkiln.engine.colour.temperature_axis import temperature_to_mired
 from starkiln.engine.errors import InputRangeError, StarkilnError
 from starkiln.engine.eye.vision import check_magnitude
@@ -141,6 +148,8 @@ class ModelEvents:
     rejected : value the :class:`~starkiln.engine.errors.StarkilnError`; nothing changed.
     monitor : value the new monitor :class:`~starkiln.engine.colour.displays.Display` (the
         colours and plot data are already converted; ``plots`` follows).
+    viewing : value the new viewing level (the colours and plot data are already dimmed;
+        ``plots`` follows).
     """
 
     def __init__(self):
@@ -150,6 +159,7 @@ class ModelEvents:
         self.plots = Event("plots")
         self.rejected = Event("rejected")
         self.monitor = Event("monitor")
+        self.viewing = Event("viewing")
 
 
 # -- derived state -----------------------------------------------------------------------------
@@ -292,6 +302,7 @@ class WindowModel:
         self.events = ModelEvents()
         self._monitor = monitor if monitor is not None else SRGB_MONITOR
         self._monitor_source = monitor_source
+        self._viewing_level = 1.0
         self.slider_scale = scale if scale is not None else MiredScale(
             mired_per_step=1.0 / POSITIONS_PER_MIRED)
         self._slider_temperature_K = self.slider_scale.temperatures_K()
@@ -397,6 +408,38 @@ class WindowModel:
         self._plots = self._plots_for(self._settings)
         self.events.monitor.emit(origin, monitor)
         self.events.plots.emit(origin, self._plots)
+
+    # -- dark-room viewing --------------------------------------------------------------------
+    @property
+    def viewing_level(self) -> float:
+        """The fraction (0.02-1) of the monitor's white every colour patch is dimmed to."""
+        return self._viewing_level
+
+    def dome_viewing_level(self) -> float:
+        """The viewing level that shows a full-intensity star at the chosen display's
+        luminance (:func:`starkiln.engine.colour.viewing.dome_viewing_level`)."""
+        return dome_viewing_level(self._settings.display)
+
+    def set_viewing_level(self, level, origin: str = "viewing") -> None:
+        """Dim every colour patch to ``level`` of the monitor's white (StarkilnError if the
+        engine rejects it)."""
+        try:
+            v = check_viewing_level(level)
+        except StarkilnError as exc:
+            self._report(origin, exc)
+            raise
+        if v == self._viewing_level:
+            return
+        self._viewing_level = v
+        self._colour = self._colour_for(self._settings, self._temperature_K, self._magnitude)
+        self._plots = self._plots_for(self._settings)
+        self.events.viewing.emit(origin, v)
+        self.events.plots.emit(origin, self._plots)
+
+    def surround_rgb_8bit(self, surround: str):
+        """The monitor's 8-bit colour of the surround ``none``/``grey``/``black`` at the viewing
+        level (:func:`starkiln.engine.colour.viewing.surround_rgb_8bit`; None for ``none``)."""
+        return surround_rgb_8bit(surround, self._viewing_level, self._monitor)
 
     @property
     def strip_cell(self) -> int:
@@ -564,10 +607,12 @@ class WindowModel:
         cluster = self.cluster
         if cluster is None:
             raise StarkilnError(self._cluster_error)
-        key = (self._settings, self._monitor, int(width_px), int(height_px))
+        key = (self._settings, self._monitor, self._viewing_level, int(width_px),
+               int(height_px))
         if self._sky is None or self._sky[0] != key:
             self._sky = (key, sky_image(self._settings, cluster, width_px, height_px,
-                                        monitor=self._monitor))
+                                        monitor=self._monitor,
+                                        viewing_level=self._viewing_level))
         return self._sky[1]
 
     def pick_star(self, index: int, origin: str = "sky") -> None:
@@ -641,19 +686,23 @@ class WindowModel:
         table = self._table
         return _current_colour(float(table.temperature_K[position]), table.magnitude,
                                table.plain.take(position), table.night.take(position),
-                               magnitude_ladder(table.settings), self._monitor)
+                               magnitude_ladder(table.settings), self._monitor,
+                               self._viewing_level)
 
     def _colour_for(self, settings: Settings, t: float, magnitude: float) -> CurrentColour:
         mags = magnitude_ladder(settings)
         plain = render(settings, t)
         # one call: the current magnitude first, then the strip's magnitudes
         both = render(settings, np.full(mags.size + 1, t), np.concatenate([[magnitude], mags]))
-        return _current_colour(t, magnitude, plain, both, mags, self._monitor)
+        return _current_colour(t, magnitude, plain, both, mags, self._monitor,
+                               self._viewing_level)
 
     def _plots_for(self, settings: Settings) -> PlotData:
         strip = render(settings, self._strip_temperature_K)
         band = spectral_band_colours(settings)
-        strip_8bit, strip_clipped = rendered_on_monitor(strip, self._monitor)
+        level = self._viewing_level
+        strip_8bit, strip_clipped = rendered_on_monitor(strip, self._monitor,
+                                                        viewing_level=level)
         return PlotData(settings=settings, band=band,
                         overlays=efficiency_overlays(settings.observer),
                         diagram=chromaticity_diagram(settings),
@@ -662,17 +711,18 @@ class WindowModel:
                         monitor=self._monitor, strip_monitor_rgb_8bit=strip_8bit,
                         strip_monitor_clipped=strip_clipped,
                         band_monitor_rgb_8bit=monitor_rgb_8bit(band.rgb_linear, settings.display,
-                                                               self._monitor)[0])
+                                                               self._monitor, level)[0])
 
 
 def _current_colour(t: float, magnitude: float, plain: Rendered, both: Rendered,
-                    mags: np.ndarray, monitor: Display) -> CurrentColour:
+                    mags: np.ndarray, monitor: Display,
+                    viewing_level: float = 1.0) -> CurrentColour:
     """``both`` holds the render at ``magnitude`` first, then at each of ``mags``."""
     at = both.take(0)
     ladder = both.take(slice(1, None))
-    m8, mc = rendered_on_monitor(plain, monitor)
-    d8, dc = rendered_on_monitor(at, monitor, dimmed=True)
-    l8, lc = rendered_on_monitor(ladder, monitor, dimmed=True)
+    m8, mc = rendered_on_monitor(plain, monitor, viewing_level=viewing_level)
+    d8, dc = rendered_on_monitor(at, monitor, dimmed=True, viewing_level=viewing_level)
+    l8, lc = rendered_on_monitor(ladder, monitor, dimmed=True, viewing_level=viewing_level)
     return CurrentColour(
         temperature_K=t, magnitude=magnitude, plain=plain, at_magnitude=at,
         ladder_magnitudes=mags, ladder=ladder, rgb_8bit=to_8bit(plain.rgb_encoded),

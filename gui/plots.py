@@ -22,6 +22,10 @@ OVERLAYS = {  # key -> (legend text, engine curve keys)
 }
 
 
+#: Width (px) of the contrasting line drawn under the curve and the overlays on the band.
+OUTLINE_WIDTH = 4.0
+
+
 def _pen(colour: str, width: float = 1.5, style=QtCore.Qt.PenStyle.SolidLine) -> QtGui.QPen:
     pen = pg.mkPen(QtGui.QColor(colour), width=width)
     pen.setStyle(style)
@@ -52,14 +56,19 @@ class SpectrumCurve(pg.GraphicsObject):
         self._fill = QtGui.QPainterPath()
         self._band = QtGui.QPainterPath()
         self._pen = _pen("#ffffff", 2.0)
+        self._outline = _pen("#000000", 4.0)
         self._dim = QtGui.QBrush(QtGui.QColor(0, 0, 0, 0))
         self._band_brush = QtGui.QBrush(QtGui.QColor(0, 0, 0, 0))
         self.x = np.zeros(0)
         self.y = np.zeros(0)
 
-    def set_style(self, pen: QtGui.QPen, dim: QtGui.QBrush) -> None:
-        """Stroke of the curve and the faint fill under it."""
+    def set_style(self, pen: QtGui.QPen, dim: QtGui.QBrush,
+                  outline: QtGui.QPen | None = None) -> None:
+        """Stroke of the curve, the faint fill under it, and the wider contrasting stroke
+        drawn first so that the curve reads on top of the band."""
         self._pen, self._dim = pen, dim
+        if outline is not None:
+            self._outline = outline
         self.update()
 
     def set_band_brush(self, brush: QtGui.QBrush) -> None:
@@ -90,6 +99,7 @@ class SpectrumCurve(pg.GraphicsObject):
         p.fillPath(self._fill, self._dim)
         p.fillPath(self._band, self._band_brush)
         p.setRenderHint(QtGui.QPainter.RenderHint.Antialiasing, True)
+        p.strokePath(self._curve, self._outline)
         p.strokePath(self._curve, self._pen)
 
 
@@ -165,7 +175,8 @@ class SpectrumView(pg.PlotWidget):
         _style_axes(plot, theme)
         dim = QtGui.QColor(theme.muted)
         dim.setAlpha(70)
-        self.curve.set_style(_pen(theme.curve, 2.0), QtGui.QBrush(dim))
+        self.curve.set_style(_pen(theme.curve, 2.0), QtGui.QBrush(dim),
+                             _pen(theme.outline, OUTLINE_WIDTH + 0.5))
         for line in self.edges:
             line.setPen(_pen(theme.plot_axis, 1, QtCore.Qt.PenStyle.DashLine))
         for item in self.edge_labels + self.region_labels:
@@ -182,6 +193,9 @@ class SpectrumView(pg.PlotWidget):
                 c = colour or theme.overlay_cmf[j]
                 item.setPen(_pen(c, 1.5, style if theme.dash_overlays or key == "cmf"
                                  else dash.SolidLine))
+                # a wider solid line in the theme's outline colour under each overlay: the
+                # overlay reads on the band's colours and on the dark plot alike
+                item.setShadowPen(_pen(theme.outline, OUTLINE_WIDTH))
         self.legend.setLabelTextColor(QtGui.QColor(theme.text))
         self.legend.setBrush(QtGui.QBrush(QtGui.QColor(theme.panel)))
         self.legend.setPen(_pen(theme.border, 1))

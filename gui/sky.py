@@ -137,12 +137,14 @@ class SkyPreview(QtWidgets.QWidget):
             p.setPen(QtGui.QPen(QtGui.QColor(t.muted), 1))
             x, y = self._sky.x_px[self._selected], self._sky.y_px[self._selected]
             p.drawEllipse(QtCore.QPointF(x, y), 8, 8)
-        p.setPen(QtGui.QColor(t.muted))
         font = p.font()
         font.setPointSizeF(max(font.pointSizeF() - 1.5, 6.5))
         p.setFont(font)
         if self._error:
-            p.drawText(self.rect().adjusted(6, 6, -6, -6),
+            box = self.rect().adjusted(4, 4, -4, -4)
+            p.fillRect(box, QtGui.QColor(t.window))
+            p.setPen(QtGui.QColor(t.muted))
+            p.drawText(box.adjusted(2, 2, -2, -2),
                        QtCore.Qt.TextFlag.TextWordWrap, "\u26a0 " + self._error)
         elif self._cluster is not None and self.settings is not None:
             s = self.settings
@@ -152,6 +154,12 @@ class SkyPreview(QtWidgets.QWidget):
                 note = " \u00b7 naked eye"
             if s.vision == "none":
                 note += ", vision model off"
-            p.drawText(6, 4 + p.fontMetrics().ascent(),
-                       f"{len(self._cluster)} stars (invented){note}")
+            text = f"{len(self._cluster)} stars (invented){note}"
+            fm = p.fontMetrics()
+            # on a box of the theme's window colour: the caption keeps its contrast in every
+            # theme (the sky itself is black)
+            p.fillRect(QtCore.QRect(3, 2, fm.horizontalAdvance(text) + 6, fm.height() + 2),
+                       QtGui.QColor(t.window))
+            p.setPen(QtGui.QColor(t.muted))
+            p.drawText(6, 3 + fm.ascent(), text)
         p.end()

@@ -34,8 +34,16 @@ def draw_clip_mark(p: QtGui.QPainter, rect: QtCore.QRect, theme: Theme, size: in
     p.restore()
 
 
+#: Width of the surround on each side of a swatch, as a share of its shorter side.
+SURROUND_WIDTH_FRACTION = 0.18
+
+
 class ColourSwatch(QtWidgets.QWidget):
-    """A flat patch of one colour, with a visible badge when the colour was outside the gamut."""
+    """A flat patch of one colour, with a visible badge when the colour was outside the gamut.
+
+    With a surround (:meth:`set_surround`) the patch sits inside a neutral border whose width is
+    :data:`SURROUND_WIDTH_FRACTION` of the shorter side; its colour comes from the engine.
+    """
 
     def __init__(self, name: str, minimum=(200, 130), parent=None):
         super().__init__(parent)
@@ -50,7 +58,27 @@ class ColourSwatch(QtWidgets.QWidget):
         self._badge = ""
         self._caption = ""
         self._theme = DIM
+        self._surround: QtGui.QColor | None = None
         self.paint_count = 0
+
+    def set_surround(self, rgb8) -> None:
+        """A neutral border of 8-bit colour ``rgb8`` round the patch (None: no border)."""
+        colour = None if rgb8 is None else qcolor(rgb8)
+        if colour != self._surround:
+            self._surround = colour
+            self.update()
+
+    def surround_colour(self) -> QtGui.QColor | None:
+        """The surround's colour, or None."""
+        return None if self._surround is None else QtGui.QColor(self._surround)
+
+    def patch_rect(self) -> QtCore.QRect:
+        """Where the colour itself is painted (inside the surround, if any)."""
+        r = self.rect()
+        if self._surround is None:
+            return r
+        k = max(4, round(SURROUND_WIDTH_FRACTION * min(r.width(), r.height())))
+        return r.adjusted(k, k, -k, -k)
 
     def set_theme(self, theme: Theme) -> None:
         """Use the theme's interface colours for the frame and badge."""
@@ -80,6 +108,9 @@ class ColourSwatch(QtWidgets.QWidget):
     def paintEvent(self, event):  # noqa: N802 - Qt API
         p = QtGui.QPainter(self)
         r = self.rect()
+        if self._surround is not None:
+            p.fillRect(r, self._surround)
+            r = self.patch_rect()
         p.fillRect(r, self._colour)
         t = self._theme
         p.setPen(QtGui.QPen(QtGui.QColor(t.border), 1))
@@ -91,7 +122,7 @@ class ColourSwatch(QtWidgets.QWidget):
             fm = p.fontMetrics()
             text = "\u26a0 " + self._badge
             w, h = fm.horizontalAdvance(text) + 12, fm.height() + 6
-            badge = QtCore.QRect(6, 6, w, h)
+            badge = QtCore.QRect(r.left() + 6, r.top() + 6, w, h)
             p.setRenderHint(QtGui.QPainter.RenderHint.Antialiasing)
             p.setPen(QtGui.QPen(QtGui.QColor(t.error), 1.5))
             p.setBrush(QtGui.QColor(t.window))

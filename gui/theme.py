@@ -1,22 +1,42 @@
-"""The window's two looks: a dim long-wavelength theme for the dark dome, and an ordinary one.
+"""The window's looks: a dim long-wavelength theme for the dark dome, a light one for daytime
+work, and the ordinary dark-grey one.
 
 These are interface colours (text, borders, plot axes), fixed design choices of
 this project; the colours of stars shown in swatches and plots come from the
-engine and are never themed.
+engine and are never themed (they are dimmed by the viewing level instead:
+:mod:`starkiln.engine.colour.viewing`).
 
 The dim theme keeps nearly all of its light in long wavelengths (deep red and
 red-orange on near-black): rods are almost blind to long-wavelength light, so
 red instrument light spares the viewer's dark adaptation (common practice at
-observatories and in planetarium control rooms). It cannot help with the star
-swatches themselves, which show true colours: lower the monitor brightness in
-the dark.
+observatories and in planetarium control rooms). Every colour of it has green and
+blue code values at most :data:`DIM_GREEN_BLUE_MAX`. The standard message-box icons (blue and
+green discs) are replaced by outline icons in the theme's own colours
+(:class:`ThemedIconStyle`).
+
+Legibility: every text colour keeps at least 4.5:1 against each background it is drawn on,
+and disabled text 3:1 ([WCAG21] success criteria 1.4.3 and 1.4.11, computed with
+:func:`starkiln.engine.colour.contrast.contrast_ratio`; checked in tests/test_gui_theme.py). In
+the light and ordinary themes disabled text also differs from enabled text by 3:1. The dim
+theme cannot: red light alone spans at most about 5.3:1 above black (the red primary carries
+0.2126 of the luminance, [BT709]), so its disabled fields are told apart by italic text and a
+dotted border as well as by a darker red.
+
+References
+----------
+[WCAG21] 1.4.3, 1.4.11; [BT709] item 3.2 (luminance weights, through the contrast module).
 """
 
 from __future__ import annotations
 
 from dataclasses import dataclass
 
-from PySide6 import QtGui, QtWidgets
+from PySide6 import QtCore, QtGui, QtWidgets
+
+#: The largest green or blue 8-bit code value of any colour of the dim theme: linear 0.065 of
+#: the channel's full output ([IEC61966-2-1] decoding), so green and blue together add at most
+#: about 0.05 to a colour's relative luminance; red carries the rest.
+DIM_GREEN_BLUE_MAX = 0x48
 
 
 @dataclass(frozen=True)
@@ -30,6 +50,7 @@ class Theme:
     field: str
     text: str
     muted: str
+    disabled: str
     accent: str
     border: str
     error: str
@@ -44,34 +65,47 @@ class Theme:
     planckian: str
     gamut: str
     marker: str
+    outline: str  # the dark line drawn under overlays so they read on top of the band
     dash_overlays: bool  # the dim theme tells overlays apart by dash pattern, not hue
 
 
 DIM = Theme(
     key="dim", label="Dim red (dark room)",
-    window="#0b0302", panel="#140604", field="#1c0805",
-    text="#b83a22", muted="#7a2616", accent="#d4502a", border="#3a1109",
-    error="#ff7a2e",
-    plot_background="#070201", plot_axis="#8c2c18", plot_grid="#2a0c06",
-    curve="#d4502a", overlay_photopic="#a8361d", overlay_scotopic="#8a2d18",
-    overlay_cmf=("#9b321b", "#9b321b", "#9b321b"),
-    locus="#8c2c18", planckian="#c24426", gamut="#a8361d", marker="#e05a2e",
-    dash_overlays=True,
+    window="#080100", panel="#100200", field="#160300",
+    text="#ff3a1a", muted="#f02e12", disabled="#bc1e0a", accent="#ff4020", border="#4a0c02",
+    error="#ff4424",
+    plot_background="#050000", plot_axis="#f8321a", plot_grid="#2a0600",
+    curve="#ff4020", overlay_photopic="#ff3a1a", overlay_scotopic="#f8321a",
+    overlay_cmf=("#ff3a1a", "#ff3a1a", "#ff3a1a"),
+    locus="#f02e12", planckian="#ff3a1a", gamut="#f8361a", marker="#ff4420",
+    outline="#000000", dash_overlays=True,
 )
 
 ORDINARY = Theme(
-    key="ordinary", label="Ordinary",
+    key="ordinary", label="Ordinary (dark grey)",
     window="#2b2d30", panel="#34373b", field="#24262a",
-    text="#dedbd3", muted="#9b9d9f", accent="#7fb3cf", border="#4a4d52",
-    error="#ff8a70",
-    plot_background="#1e2023", plot_axis="#a9abad", plot_grid="#383b3f",
+    text="#f2f0ea", muted="#b4b6b8", disabled="#85878a", accent="#8fc0da", border="#4a4d52",
+    error="#ff9a82",
+    plot_background="#1e2023", plot_axis="#b4b6b8", plot_grid="#383b3f",
     curve="#f2efe6", overlay_photopic="#9fd08a", overlay_scotopic="#8fb4ff",
     overlay_cmf=("#ff8f8f", "#8fe09a", "#9fb0ff"),
-    locus="#c9c6bd", planckian="#f0c070", gamut="#7fb3cf", marker="#ffffff",
-    dash_overlays=False,
+    locus="#c9c6bd", planckian="#f0c070", gamut="#8fc0da", marker="#ffffff",
+    outline="#000000", dash_overlays=False,
 )
 
-THEMES = {t.key: t for t in (DIM, ORDINARY)}
+LIGHT = Theme(
+    key="light", label="Light (daytime)",
+    window="#f3f1ec", panel="#fbfaf7", field="#ffffff",
+    text="#1b1a17", muted="#4f4c46", disabled="#8a857c", accent="#1d5a85", border="#b9b4aa",
+    error="#a3260f",
+    plot_background="#ffffff", plot_axis="#3d3a35", plot_grid="#e4e1da",
+    curve="#1b1a17", overlay_photopic="#1d6b2a", overlay_scotopic="#2450a8",
+    overlay_cmf=("#a3260f", "#1d6b2a", "#2450a8"),
+    locus="#3d3a35", planckian="#8a4e00", gamut="#1d5a85", marker="#000000",
+    outline="#ffffff", dash_overlays=False,
+)
+
+THEMES = {t.key: t for t in (DIM, LIGHT, ORDINARY)}
 DEFAULT_THEME = "dim"
 
 
@@ -92,8 +126,11 @@ def stylesheet(t: Theme) -> str:
     QLineEdit, QComboBox, QDoubleSpinBox {{ background: {t.field}; border: 1px solid {t.border};
                  border-radius: 3px; padding: 2px 4px; selection-background-color: {t.muted}; }}
     QLineEdit[invalid="true"] {{ border: 2px solid {t.error}; }}
-    QLineEdit:disabled, QComboBox:disabled, QCheckBox:disabled, QLabel:disabled {{
-                 color: {t.muted}; }}
+    QLineEdit:disabled, QComboBox:disabled, QCheckBox:disabled, QLabel:disabled,
+    QDoubleSpinBox:disabled, QPushButton:disabled, QToolButton:disabled {{
+                 color: {t.disabled}; font-style: italic; }}
+    QLineEdit:disabled, QComboBox:disabled, QDoubleSpinBox:disabled {{
+                 border: 1px dotted {t.disabled}; }}
     QComboBox QAbstractItemView {{ background: {t.field}; color: {t.text};
                  selection-background-color: {t.border}; }}
     QPushButton, QToolButton {{ background: {t.panel}; border: 1px solid {t.border};
@@ -134,12 +171,70 @@ def palette(t: Theme) -> QtGui.QPalette:
                         (roles.HighlightedText, t.text), (roles.ToolTipBase, t.panel),
                         (roles.ToolTipText, t.text), (roles.PlaceholderText, t.muted)):
         p.setColor(role, c(value))
-    p.setColor(QtGui.QPalette.ColorGroup.Disabled, roles.Text, c(t.muted))
-    p.setColor(QtGui.QPalette.ColorGroup.Disabled, roles.WindowText, c(t.muted))
+    for role in (roles.Text, roles.WindowText, roles.ButtonText):
+        p.setColor(QtGui.QPalette.ColorGroup.Disabled, role, c(t.disabled))
     return p
 
 
+MESSAGE_ICONS = {
+    QtWidgets.QStyle.StandardPixmap.SP_MessageBoxInformation: "i",
+    QtWidgets.QStyle.StandardPixmap.SP_MessageBoxQuestion: "?",
+    QtWidgets.QStyle.StandardPixmap.SP_MessageBoxWarning: "!",
+    QtWidgets.QStyle.StandardPixmap.SP_MessageBoxCritical: "\u00d7",
+}
+
+
+def message_icon(t: Theme, glyph: str, size: int = 40) -> QtGui.QIcon:
+    """A message-box icon in the theme's colours: an outlined disc with ``glyph``.
+
+    Drawn in the theme's error colour for warnings and errors (``!``, ``x``) and its accent
+    colour otherwise, on no fill: no blue or green disc in the dark room.
+    """
+    pix = QtGui.QPixmap(size, size)
+    pix.fill(QtCore.Qt.GlobalColor.transparent)
+    colour = QtGui.QColor(t.error if glyph in ("!", "\u00d7") else t.accent)
+    p = QtGui.QPainter(pix)
+    p.setRenderHint(QtGui.QPainter.RenderHint.Antialiasing)
+    p.setPen(QtGui.QPen(colour, 2.5))
+    p.setBrush(QtCore.Qt.BrushStyle.NoBrush)
+    p.drawEllipse(QtCore.QRectF(2, 2, size - 4, size - 4))
+    font = p.font()
+    font.setBold(True)
+    font.setPixelSize(int(size * 0.55))
+    p.setFont(font)
+    p.drawText(QtCore.QRect(0, 0, size, size), QtCore.Qt.AlignmentFlag.AlignCenter, glyph)
+    p.end()
+    return QtGui.QIcon(pix)
+
+
+class ThemedIconStyle(QtWidgets.QProxyStyle):
+    """The platform's style with the message-box icons drawn in the current theme's colours."""
+
+    def __init__(self, base: str | None = None):
+        super().__init__(base) if base else super().__init__()
+        self.theme = DIM
+
+    def standardIcon(self, standard_icon, option=None, widget=None):  # noqa: N802 - Qt API
+        glyph = MESSAGE_ICONS.get(standard_icon)
+        if glyph is not None:
+            return message_icon(self.theme, glyph)
+        return super().standardIcon(standard_icon, option, widget)
+
+
+def _icon_style(t: Theme) -> None:
+    """Put :class:`ThemedIconStyle` under the application (once) and give it theme ``t``."""
+    app = QtWidgets.QApplication.instance()
+    if app is None:
+        return
+    style = app.style()
+    if not isinstance(style, ThemedIconStyle):
+        style = ThemedIconStyle(style.name())
+        app.setStyle(style)
+    style.theme = t
+
+
 def apply_theme(widget: QtWidgets.QWidget, t: Theme) -> None:
-    """Apply a theme to a top-level widget and its children."""
+    """Apply a theme to a top-level widget and its children (message-box icons included)."""
+    _icon_style(t)
     widget.setPalette(palette(t))
     widget.setStyleSheet(stylesheet(t))

@@ -286,6 +286,9 @@ class MainWindow(QtWidgets.QMainWindow):
             a.setCheckable(True)
             group.addAction(a)
             self.theme_actions[key] = a
+        viewing = view.addMenu("Viewing level")  # dark-room viewing: gui/current.py
+        viewing.addAction("Dome level", self.current.use_dome_level)
+        viewing.addAction("Full (100 %)", lambda: self.current.set_viewing_level(1.0))
         monitors = view.addMenu("Monitor")
         monitors.setObjectName("menu-monitor")
         mgroup = QtGui.QActionGroup(self)
@@ -533,6 +536,7 @@ class MainWindow(QtWidgets.QMainWindow):
         st = self.store
         theme = str(st.value("view/theme", DEFAULT_THEME)) if st is not None else DEFAULT_THEME
         self.set_theme(theme if theme in THEMES else DEFAULT_THEME)
+        self.current.restore_viewing(st)  # before the first paint: no flash at start
         if st is None:
             return
         geometry = st.value("window/geometry")
@@ -560,6 +564,7 @@ class MainWindow(QtWidgets.QMainWindow):
         for split in (self.main_split, self.centre_split, self.lower_split):
             st.setValue(f"window/{split.objectName()}", split.saveState())
         st.setValue("view/theme", self.theme.key)
+        self.current.save_viewing(st)
         for key, check in self.overlay_checks.items():
             st.setValue(f"view/overlay/{key}", "true" if check.isChecked() else "false")
         st.setValue("view/chromaticity_zoom", self.zoom.currentData())

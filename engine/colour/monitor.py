@@ -44,6 +44,7 @@ import numpy as np
 from starkiln.engine.colour.displays import (D65_4DIGIT, PRESETS, TRANSFERS, Display,
                                              get_display)
 from starkiln.engine.colour.quantisation import to_8bit
+from starkiln.engine.colour.viewing import dim_linear
 from starkiln.engine.colour.whites import adaptation_matrix
 from starkiln.engine.errors import SettingsError
 
@@ -108,7 +109,8 @@ def _matrix(display: Display, monitor: Display) -> np.ndarray | None:
     return m
 
 
-def monitor_rgb_8bit(rgb_linear_display, display, monitor=SRGB_MONITOR):
+def monitor_rgb_8bit(rgb_linear_display, display, monitor=SRGB_MONITOR,
+                     viewing_level: float = 1.0):
     """The monitor's 8-bit code values for display-linear colours, and which were clipped.
 
     Parameters
@@ -121,11 +123,15 @@ def monitor_rgb_8bit(rgb_linear_display, display, monitor=SRGB_MONITOR):
         What the colours are for (:func:`starkiln.engine.colour.displays.get_display`).
     monitor : Display or str
         The monitor (default sRGB).
+    viewing_level : float
+        Fraction 0.02-1 of the monitor's white the colours are dimmed to, in the monitor's
+        linear light after the clipping (:mod:`starkiln.engine.colour.viewing`); 1 leaves
+        them unchanged.
 
     Returns
     -------
     rgb_8bit : numpy.ndarray of uint8, (..., 3)
-        ``to_8bit(monitor.encode(clamp(M @ rgb)))``.
+        ``to_8bit(monitor.encode(viewing_level * clamp(M @ rgb)))``.
     clipped : numpy.ndarray of bool, (...,)
         Whether a channel lay more than :data:`CLIP_TOLERANCE` outside 0-1 on the monitor
         (the monitor cannot show that colour; the clamped one is shown).
@@ -151,10 +157,13 @@ def monitor_rgb_8bit(rgb_linear_display, display, monitor=SRGB_MONITOR):
     if m is not None:
         rgb = rgb @ m.T
     clipped = np.any((rgb < -CLIP_TOLERANCE) | (rgb > 1.0 + CLIP_TOLERANCE), axis=-1)
+    if viewing_level != 1.0:
+        rgb = dim_linear(rgb, viewing_level)
     return to_8bit(monitor.encode(rgb)), clipped
 
 
-def rendered_on_monitor(rendered, monitor=SRGB_MONITOR, dimmed: bool = False):
+def rendered_on_monitor(rendered, monitor=SRGB_MONITOR, dimmed: bool = False,
+                        viewing_level: float = 1.0):
     """:func:`monitor_rgb_8bit` of a render's colours (plain, or at their magnitude).
 
     Parameters
@@ -165,6 +174,8 @@ def rendered_on_monitor(rendered, monitor=SRGB_MONITOR, dimmed: bool = False):
     dimmed : bool
         The colour at its magnitude: ``rgb_linear * intensity`` (what ``rgb_dimmed_encoded``
         encodes).
+    viewing_level : float
+        As :func:`monitor_rgb_8bit`.
 
     Returns
     -------
@@ -178,7 +189,7 @@ def rendered_on_monitor(rendered, monitor=SRGB_MONITOR, dimmed: bool = False):
     rgb = rendered.rgb_linear
     if dimmed:
         rgb = rgb * np.asarray(rendered.intensity)[..., None]
-    return monitor_rgb_8bit(rgb, rendered.display, monitor)
+    return monitor_rgb_8bit(rgb, rendered.display, monitor, viewing_level)
 
 
 def monitor_from_primaries(primaries, white_xy=None, transfer: str = "srgb",

@@ -103,7 +103,8 @@ class SkyImage:
 
 
 def sky_image(settings: Settings, cluster: Cluster, width_px: int, height_px: int,
-              radius_px=(0.7, 2.6), monitor=None) -> SkyImage:
+              radius_px=(0.7, 2.6), monitor=None,
+              viewing_level: float = 1.0) -> SkyImage:
     """Draw a star list as it would appear on the display, with the current settings.
 
     Each star's colour and intensity come from :func:`starkiln.engine.pipeline.render.render`
@@ -128,6 +129,9 @@ def sky_image(settings: Settings, cluster: Cluster, width_px: int, height_px: in
     monitor : Display, optional
         Encode the picture for this monitor instead of the display
         (:func:`starkiln.engine.colour.monitor.monitor_rgb_8bit`: the window's preview).
+    viewing_level : float
+        With ``monitor``: the window's viewing level (0.02-1, dimmed in the monitor's linear
+        light, :mod:`starkiln.engine.colour.viewing`).
 
     Returns
     -------
@@ -181,6 +185,6 @@ def sky_image(settings: Settings, cluster: Cluster, width_px: int, height_px: in
     else:
         from starkiln.engine.colour.monitor import monitor_rgb_8bit
 
-        rgb8 = monitor_rgb_8bit(img, settings.display, monitor)[0]
+        rgb8 = monitor_rgb_8bit(img, settings.display, monitor, viewing_level)[0]
     pixels = np.ascontiguousarray(rgb8.reshape(h, w, 3))
     return SkyImage(pixels, x, y, sigma, np.asarray(r.in_gamut))
