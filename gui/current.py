@@ -51,6 +51,7 @@ class CurrentColourPanel(QtWidgets.QWidget):
         self.readouts.copied.connect(self.status)
         self.copy_all = QtWidgets.QPushButton("Copy all readouts", self)
         self.copy_all.setObjectName("copy-all")
+        self.copy_all.setToolTip("Copy every readout below, one per line")
         self.copy_all.clicked.connect(self._copy_all)
         self.night_swatch = ColourSwatch("night-swatch", minimum=(60, 44), parent=self)
         self.night_swatch.setToolTip("This colour at the current magnitude (night vision, "
