@@ -266,6 +266,10 @@ class NightTab(Form):
         self.compensate.setChecked(bool(s.compensate))  # equal settings: the model ignores it
 
 
+#: Narrowest a settings tab's form is laid out (px); its longest row fits in it.
+TAB_MINIMUM_WIDTH = 300
+
+
 class RenderingPanel(QtWidgets.QTabWidget):
     """The Rendering panel: the tabs of rendering settings, kept in step with the model.
 
@@ -287,7 +291,10 @@ class RenderingPanel(QtWidgets.QTabWidget):
             scroll.setWidget(tab)
             scroll.setWidgetResizable(True)
             scroll.setHorizontalScrollBarPolicy(QtCore.Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
-            tab.setMinimumWidth(300)
+            tab.setMinimumWidth(TAB_MINIMUM_WIDTH)
+            # never narrower than its form and a vertical scroll bar: nothing is cut across
+            bar = scroll.style().pixelMetric(QtWidgets.QStyle.PixelMetric.PM_ScrollBarExtent)
+            scroll.setMinimumWidth(TAB_MINIMUM_WIDTH + bar + 2 * scroll.frameWidth() + 2)
             self.addTab(scroll, title)
         for button in self.tabBar().findChildren(QtWidgets.QToolButton):  # narrow windows
             button.setToolTip("More tabs")

@@ -14,7 +14,7 @@ from starkiln.gui.theme import Theme
 
 ROWS = (("hex", "Hex", 8), ("8bit", "8-bit RGB", 11), ("linear", "Display-linear", 20),
         ("encoded", "Encoded 0\u20131", 20), ("xy", "CIE x, y", 16),
-        ("gamut", "In gamut", 20))
+        ("gamut", "In gamut", 23))  # "⚠ no: mapped (chroma)" whole
 NIGHT_ROWS = (("night-hex", "Seen at mag", 20), ("night", "Cone weight", 20),
               ("intensity", "Intensity", 20))
 TIPS = {

@@ -207,6 +207,7 @@ class MainWindow(QtWidgets.QMainWindow):
         self._restore_view_state()
         self._on_settings()
         self.setWindowTitle(APP_TITLE)
+        self.setMinimumSize(*MINIMUM_SIZE)
         self.audition.slider.setFocus()
 
     # -- construction ----------------------------------------------------------------------
@@ -227,7 +228,7 @@ class MainWindow(QtWidgets.QMainWindow):
         ob.addWidget(lab)
         self.overlay_checks: dict[str, QtWidgets.QCheckBox] = {}
         for key, short in (("photopic", "V(\u03bb) day"), ("scotopic", "V\u2032(\u03bb) night"),
-                           ("cmf", "x\u0304 y\u0304 z\u0304 colour matching")):
+                           ("cmf", "x\u0304 y\u0304 z\u0304")):
             c = QtWidgets.QCheckBox(short, overlay_bar)
             c.setObjectName(f"overlay-{key}")
             c.setToolTip(OVERLAYS[key][0])
@@ -282,7 +283,16 @@ class MainWindow(QtWidgets.QMainWindow):
         self.main_split.setObjectName("split-main")
         self.main_split.addWidget(_titled("Star colour", self.current, None, "box-current"))
         self.main_split.addWidget(self.centre_split)
-        self.main_split.addWidget(_titled("Rendering", self.rendering, None, "box-rendering"))
+        # what the settings come to, in words, over the tabs (the status bar has no room)
+        self.summary = QtWidgets.QLabel(self)
+        self.summary.setObjectName("settings-summary")
+        self.summary.setProperty("role", "muted")
+        self.summary.setWordWrap(True)
+        self.summary.setToolTip("The current settings in short; Edit > Undo steps back")
+        self.main_split.addWidget(_titled("Rendering", self.rendering, self.summary,
+                                          "box-rendering"))
+        for split in (self.main_split, self.centre_split, self.lower_split):
+            split.setChildrenCollapsible(False)  # a panel is narrowed to its minimum, not hidden
         self.main_split.setStretchFactor(0, 0)
         self.main_split.setStretchFactor(1, 1)
         self.main_split.setStretchFactor(2, 0)
@@ -302,9 +312,6 @@ class MainWindow(QtWidgets.QMainWindow):
             "The swatches, strips, sky and spectrum band are the chosen display's colours "
             "converted to this monitor; the readouts are the chosen display's values")
         self.statusBar().addPermanentWidget(self.monitor_status)
-        self.summary = QtWidgets.QLabel(self)
-        self.summary.setObjectName("settings-summary")
-        self.statusBar().addPermanentWidget(self.summary)
 
     def _menus(self) -> None:
         bar = self.menuBar()
