@@ -74,6 +74,7 @@ class AuditionPanel(QtWidgets.QWidget):
         self.spectral.lineEdit().setPlaceholderText("class")
         self.spectral.setFixedWidth(82)
         self.spectral.setToolTip("Main-sequence spectral class O5V-M8V, e.g. G2V or K5.5V")
+        self.spectral.lineEdit().setToolTip(self.spectral.toolTip())
         self.spectral.lineEdit().editingFinished.connect(self._apply_class)
         self.spectral.activated.connect(lambda _i: self._apply_class())
         self.class_error = ErrorLine(self)
@@ -86,8 +87,14 @@ class AuditionPanel(QtWidgets.QWidget):
 
         title = QtWidgets.QLabel("Temperature", self)
         title.setStyleSheet("font-weight: bold;")
-        cool = QtWidgets.QLabel("cooler", self)
-        hot = QtWidgets.QLabel("hotter", self)
+        # named by the colour they go to: "cool" means bluer to photographers and lighting
+        # people but a lower temperature to astronomers, so neither word is used
+        cool = QtWidgets.QLabel("redder", self)
+        cool.setObjectName("slider-end-low")
+        cool.setToolTip(f"Lower temperatures, down to {self.scale.temperature_min_K:g} K")
+        hot = QtWidgets.QLabel("bluer", self)
+        hot.setObjectName("slider-end-high")
+        hot.setToolTip(f"Higher temperatures, up to {self.scale.temperature_max_K:g} K")
         for w in (cool, hot):
             w.setProperty("role", "muted")
         top = QtWidgets.QHBoxLayout()

@@ -1,4 +1,4 @@
-"""The look controls: white, gamut and output, night sky (brightness and vision), and their tabs.
+"""The rendering controls: white, gamut and output, night sky (brightness and vision), their tabs.
 
 The display tab and the profile editor are in :mod:`starkiln.gui.display_controls`.
 
@@ -65,6 +65,8 @@ class WhiteTab(Form):
                              lambda v: self._apply_white(x=v), width=70, placeholder="x")
         self.white_y = Field("white-y", lambda s: parse_number(s, "white y"),
                              lambda v: self._apply_white(y=v), width=70, placeholder="y")
+        self.white_x.edit.setToolTip("CIE 1931 x of a custom white")
+        self.white_y.edit.setToolTip("CIE 1931 y of a custom white")
         xy_row.addWidget(self.white_x, 0, QtCore.Qt.AlignmentFlag.AlignTop)
         xy_row.addWidget(self.white_y, 0, QtCore.Qt.AlignmentFlag.AlignTop)
         xy_row.addStretch(1)
@@ -72,6 +74,7 @@ class WhiteTab(Form):
                  errors=(self.white_x, self.white_y))
         self.use_star = QtWidgets.QPushButton("Use this star's colour as the white", self)
         self.use_star.setObjectName("white-from-star")
+        self.use_star.setToolTip("Make the auditioned star's blackbody the scene white")
         self.use_star.clicked.connect(self._white_from_star)
         self.form.addRow(self.use_star)
         self.white_error = ErrorLine(self)
@@ -263,12 +266,20 @@ class NightTab(Form):
         self.compensate.setChecked(bool(s.compensate))  # equal settings: the model ignores it
 
 
-class LookPanel(QtWidgets.QTabWidget):
-    """The tabs of look controls, kept in step with the model."""
+#: Narrowest a settings tab's form is laid out (px); its longest row fits in it.
+TAB_MINIMUM_WIDTH = 300
+
+
+class RenderingPanel(QtWidgets.QTabWidget):
+    """The Rendering panel: the tabs of rendering settings, kept in step with the model.
+
+    (Called "Look" before issue 12: in colour pipelines a look is a creative grade, which
+    these settings are not.)
+    """
 
     def __init__(self, model, parent=None):
         super().__init__(parent)
-        self.setObjectName("look-panel")
+        self.setObjectName("rendering-panel")
         self.model = model
         self.white = WhiteTab(model, self)
         self.display = DisplayTab(model, self)
@@ -280,9 +291,16 @@ class LookPanel(QtWidgets.QTabWidget):
             scroll.setWidget(tab)
             scroll.setWidgetResizable(True)
             scroll.setHorizontalScrollBarPolicy(QtCore.Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
-            tab.setMinimumWidth(300)
+            tab.setMinimumWidth(TAB_MINIMUM_WIDTH)
+            # never narrower than its form and a vertical scroll bar: nothing is cut across
+            bar = scroll.style().pixelMetric(QtWidgets.QStyle.PixelMetric.PM_ScrollBarExtent)
+            scroll.setMinimumWidth(TAB_MINIMUM_WIDTH + bar + 2 * scroll.frameWidth() + 2)
             self.addTab(scroll, title)
-        model.events.settings.connect(lambda _change: self.refresh())
+        for button in self.tabBar().findChildren(QtWidgets.QToolButton):  # narrow windows
+            button.setToolTip("More tabs")
+        # undo, redo and files replace every field's value: a stale error goes with it
+        model.events.settings.connect(lambda change: self.refresh(
+            force=change.origin in ("undo", "redo", "file")))
         # the magnitude field shows the magnitude; its own entries need no echo
         model.events.magnitude.connect(
             lambda change: change.origin != "night" and self.night.refresh())

@@ -32,7 +32,7 @@ VIEWING_TIP = ("Viewing level: every colour patch (swatches, strips, sky, spectr
 
 ROWS = (("hex", "Hex", 8), ("8bit", "8-bit RGB", 11), ("linear", "Display-linear", 20),
         ("encoded", "Encoded 0\u20131", 20), ("xy", "CIE x, y", 16),
-        ("gamut", "In gamut", 20))
+        ("gamut", "In gamut", 23))  # "⚠ no: mapped (chroma)" whole
 NIGHT_ROWS = (("night-hex", "Seen at mag", 20), ("night", "Cone weight", 20),
               ("intensity", "Intensity", 20))
 TIPS = {
@@ -69,6 +69,7 @@ class CurrentColourPanel(QtWidgets.QWidget):
         self.readouts.copied.connect(self.status)
         self.copy_all = QtWidgets.QPushButton("Copy all readouts", self)
         self.copy_all.setObjectName("copy-all")
+        self.copy_all.setToolTip("Copy every readout below, one per line")
         self.copy_all.clicked.connect(self._copy_all)
         self.night_swatch = ColourSwatch("night-swatch", minimum=(60, 44), parent=self)
         self.night_swatch.setToolTip("This colour at the current magnitude (night vision, "
@@ -92,12 +93,12 @@ class CurrentColourPanel(QtWidgets.QWidget):
         row = QtWidgets.QHBoxLayout()
         row.addWidget(self.night_swatch)
         row.addWidget(self.copy_all, 0, QtCore.Qt.AlignmentFlag.AlignBottom)
-        row.addWidget(self.surround, 0, QtCore.Qt.AlignmentFlag.AlignBottom)
         row.addStretch(1)
         layout.addLayout(row)
         layout.addWidget(ladder_title)
         layout.addWidget(self.magnitude_strip)
         layout.addWidget(self.viewing_row)
+        layout.addWidget(self.surround, 0, QtCore.Qt.AlignmentFlag.AlignLeft)  # own line: fits 1024 px
         for event in (model.events.temperature, model.events.magnitude, model.events.settings,
                       model.events.monitor, model.events.viewing):
             event.connect(lambda _change: self._show())

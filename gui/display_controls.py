@@ -24,7 +24,7 @@ FROM_READINGS = "from-readings"
 DISPLAY_LABELS = {
     "srgb": "sRGB", "display-p3": "Display P3", "dci-p3": "DCI-P3",
     "rec2020": "Rec. 2020", "rec2100-pq": "Rec. 2100 PQ",
-    DEMO_DISPLAY: "Harbourlight dome (demo)", CUSTOM_DISPLAY: "Custom profile",
+    DEMO_DISPLAY: "Harbourlight dome (demo)", CUSTOM_DISPLAY: "Custom display profile (JSON)",
     IMPORT_ICC: "Import ICC profile\u2026", FROM_READINGS: "From readings\u2026",
 }
 
@@ -47,14 +47,25 @@ class DisplayTab(Form):
         row = QtWidgets.QHBoxLayout(buttons)
         row.setContentsMargins(0, 0, 0, 0)
         self.edit_button = QtWidgets.QPushButton("Edit\u2026", buttons)
-        self.open_button = QtWidgets.QPushButton("Open profile\u2026", buttons)
-        self.save_button = QtWidgets.QPushButton("Save profile\u2026", buttons)
+        self.open_button = QtWidgets.QPushButton("Open\u2026", buttons)
+        self.save_button = QtWidgets.QPushButton("Save\u2026", buttons)
+        self.edit_button.setToolTip("Edit the current display's primaries, white, transfer "
+                                    "function and peak luminance")
+        self.open_button.setToolTip("Use a Starkiln display profile (JSON); an ICC profile "
+                                    "is imported from the display picker instead")
+        self.save_button.setToolTip("Save the current display as a Starkiln display profile "
+                                    "(JSON)")
         for b in (self.edit_button, self.open_button, self.save_button):
             row.addWidget(b)
+        row.addStretch(1)
         self.edit_button.setObjectName("display-edit")
         self.open_button.setObjectName("display-open")
         self.save_button.setObjectName("display-save")
-        self.form.addRow(buttons)
+        lab = QtWidgets.QLabel("Display profile (JSON)", self)
+        lab.setProperty("role", "muted")
+        lab.setWordWrap(True)
+        lab.setToolTip("Starkiln's own display profile file, JSON (not an ICC profile)")
+        self.form.addRow(lab, buttons)
         self.error = ErrorLine(self)
         self.error.setObjectName("error-display")
         self.form.addRow(self.error)
@@ -181,14 +192,15 @@ class DisplayTab(Form):
 
     def _open_dialog(self) -> None:
         path, _ = QtWidgets.QFileDialog.getOpenFileName(
-            self, "Open a display profile", str(demo_display_path().parent),
-            "Display profiles (*.json)")
+            self, "Open a display profile (JSON)", str(demo_display_path().parent),
+            "Display profiles, JSON (*.json)")
         if path:
             self.open_profile(path)
 
     def _save_dialog(self) -> None:
         path, _ = QtWidgets.QFileDialog.getSaveFileName(
-            self, "Save the display profile", "display.json", "Display profiles (*.json)")
+            self, "Save the display profile (JSON)", "display.json",
+            "Display profiles, JSON (*.json)")
         if path:
             self.save_profile(path)
 
@@ -225,11 +237,12 @@ class DisplayEditor(QtWidgets.QDialog):
     def __init__(self, model, parent=None):
         super().__init__(parent)
         self.setObjectName("display-editor")
-        self.setWindowTitle("Display profile")
+        self.setWindowTitle("Display profile (JSON)")
         self.model = model
         form = QtWidgets.QFormLayout(self)
         self.name = QtWidgets.QLineEdit(self)
         self.name.setObjectName("field-display-name")
+        self.name.setToolTip("The display's name, as the profile and the readouts give it")
         form.addRow("Name", self.name)
         self.fields: dict[str, QtWidgets.QLineEdit] = {}
         for key, label in (("red", "Red primary x, y"), ("green", "Green primary x, y"),
@@ -241,6 +254,7 @@ class DisplayEditor(QtWidgets.QDialog):
                 e = QtWidgets.QLineEdit(w)
                 e.setObjectName(f"field-{key}-{axis}")
                 e.setFixedWidth(80)
+                e.setToolTip(f"{label.split(' x, y')[0]}: CIE 1931 {axis} chromaticity")
                 row.addWidget(e)
                 self.fields[f"{key}_{axis}"] = e
             row.addStretch(1)
@@ -249,14 +263,21 @@ class DisplayEditor(QtWidgets.QDialog):
         self.transfer.setObjectName("choice-transfer")
         for t in engine_displays.TRANSFERS:
             self.transfer.addItem(t, t)
+        self.transfer.setToolTip("How the display turns signal into light")
         form.addRow("Transfer function", self.transfer)
-        for key, label in (("gamma", "Gamma (with 'gamma')"),
-                           ("peak", "Peak luminance, cd/m\u00b2")):
+        for key, label, tip in (
+                ("gamma", "Gamma", "The exponent of a pure power-law transfer, 1-4; used "
+                 "only with the 'gamma' transfer function"),
+                ("peak", "Peak luminance, cd/m\u00b2", "Luminance of full white, "
+                 "0.01-10000 cd/m\u00b2")):
             e = QtWidgets.QLineEdit(self)
             e.setObjectName(f"field-{key}")
             e.setFixedWidth(80)
+            e.setToolTip(tip)
             self.fields[key] = e
             form.addRow(label, e)
+        # the gamma field applies to the 'gamma' transfer only
+        self.transfer.currentIndexChanged.connect(lambda _i: self._gamma_applies())
         self.error = ErrorLine(self)
         self.error.setObjectName("error-display-editor")
         form.addRow(self.error)
@@ -266,6 +287,8 @@ class DisplayEditor(QtWidgets.QDialog):
         self.close_button = buttons.addButton("Close",
                                               QtWidgets.QDialogButtonBox.ButtonRole.RejectRole)
         self.apply_button.setObjectName("display-apply")
+        self.apply_button.setToolTip("Check the fields (the engine does) and use this display")
+        self.close_button.setToolTip("Close the editor; an applied display stays")
         self.apply_button.clicked.connect(self.apply)
         self.close_button.clicked.connect(self.reject)
         form.addRow(buttons)
@@ -280,7 +303,11 @@ class DisplayEditor(QtWidgets.QDialog):
         self.transfer.setCurrentIndex(max(self.transfer.findData(d.transfer), 0))
         self.fields["gamma"].setText(f"{d.gamma:g}")
         self.fields["peak"].setText(f"{d.peak_luminance_cd_m2:g}")
+        self._gamma_applies()
         self.error.clear_error()
+
+    def _gamma_applies(self) -> None:
+        self.fields["gamma"].setEnabled(self.transfer.currentData() == "gamma")
 
     def fields_values(self) -> dict:
         """The display fields as typed (``name``, ``red_xy``... ``peak_luminance_cd_m2``);

@@ -82,6 +82,14 @@ class _ExportDialog(QtWidgets.QDialog):
         self.preview_button.clicked.connect(self.refresh_preview)
         self.export_button.clicked.connect(self.export)
         close.clicked.connect(self.reject)
+        self.path.setToolTip("The file to write; its extension chooses the format")
+        browse.setToolTip("Choose the file to write")
+        self.overwrite.setToolTip("Without this an existing file is left alone (as the "
+                                  "command line's --force)")
+        self.preview_button.setToolTip("Build the preview with the options above")
+        self.export_button.setToolTip("Write the file (atomically: nothing is left half "
+                                      "written)")
+        close.setToolTip("Close this dialog; the options are kept")
         self.layout_ = QtWidgets.QVBoxLayout(self)
         self.layout_.addLayout(self.form)
         self.layout_.addWidget(self.overwrite)
@@ -186,6 +194,18 @@ class LutDialog(_ExportDialog):
         self.premultiply.setObjectName("lut-premultiply")
         self.form.addRow(self.alpha)
         self.form.addRow(self.premultiply)
+        for w, tip in ((self.t_min, "Lowest temperature, K (left edge)"),
+                       (self.t_max, "Highest temperature, K (right edge)"),
+                       (self.axis, "How temperatures are spaced across the texture"),
+                       (self.with_mags, "Rows from the brightest to the faintest magnitude"),
+                       (self.m_bright, "Brightest magnitude (top row)"),
+                       (self.m_faint, "Faintest magnitude (bottom row)"),
+                       (self.width_edit, "Texture width in texels"),
+                       (self.height_edit, "Texture height in texels"),
+                       (self.depth, "Bits per sample of a PNG texture (EXR is 32-bit float)"),
+                       (self.alpha, "Store the magnitude's intensity in the alpha channel"),
+                       (self.premultiply, "Multiply the colour by the intensity")):
+            w.setToolTip(tip)
         self.with_mags.toggled.connect(self._mags_toggled)
         for w in (self.t_min, self.t_max, self.m_bright, self.m_faint, self.width_edit,
                   self.height_edit):
@@ -329,6 +349,13 @@ class PaletteDialog(_ExportDialog):
         self.name.setObjectName("palette-name")
         self.name.setPlaceholderText("(from the content)")
         self.form.addRow("Palette name", self.name)
+        for w, tip in ((self.kind, "Evenly spaced temperatures, or one swatch per class"),
+                       (self.t_min, "Lowest temperature, K"),
+                       (self.t_max, "Highest temperature, K"),
+                       (self.steps, "How many swatches"),
+                       (self.axis, "How the temperatures are spaced"),
+                       (self.name, "The palette's name in the file (empty: from the content)")):
+            w.setToolTip(tip)
         self.strip = SwatchStrip("palette-strip", height=40, parent=self)
         self.layout_.insertWidget(2, self.strip)
         for w in (self.t_min, self.t_max, self.steps, self.classes, self.name):

@@ -253,6 +253,9 @@ class Form(QtWidgets.QWidget):
         if tip:
             lab.setToolTip(tip)
             widget.setToolTip(tip)
+            inner = getattr(widget, "edit", None) or getattr(widget, "combo", None)
+            if inner is not None and not inner.toolTip():
+                inner.setToolTip(tip)  # the control itself, where the pointer rests
         self.form.addRow(lab, widget)
         if isinstance(widget, Field):
             errors = (widget, *errors)

@@ -26,8 +26,14 @@ the render path's own (``render`` works element by element; an 8-bit check is
 in the tests). Temperatures typed in, and steps before the table is ready, are
 rendered directly.
 
-References
-----------
+Undo. Every change of the settings object (from a control, a file, a reset) is kept in the
+model's history (:class:`SettingsHistory`): :meth:`WindowModel.undo` and
+:meth:`WindowModel.redo` step through it and give back the very settings objects that were
+current, so an undone sequence returns settings equal (``==``) to where it began. The history
+is the model's, so it is tested without a display; the window mirrors it in a ``QUndoStack``
+for its Edit menu (``events.history`` tells it what was pushed). The temperature and the
+magnitude are what is being auditioned, not settings, and are not in the history.
+
 The monitor. Every colour the window paints is converted from the chosen display's colours to
 the monitor's colour space by :func:`starkiln.engine.colour.monitor.monitor_rgb_8bit` (the
 ``monitor_*`` fields below); the readouts keep the chosen display's values. The window tells
@@ -150,6 +156,8 @@ class ModelEvents:
         colours and plot data are already converted; ``plots`` follows).
     viewing : value the new viewing level (the colours and plot data are already dimmed;
         ``plots`` follows).
+    history : value a :class:`HistoryChange`: a change was pushed, undone or redone (emitted
+        after ``settings`` and ``plots``).
     """
 
     def __init__(self):
@@ -160,6 +168,116 @@ class ModelEvents:
         self.rejected = Event("rejected")
         self.monitor = Event("monitor")
         self.viewing = Event("viewing")
+        self.history = Event("history")
+
+
+#: Origins of the history's own steps: changes made by undo and redo are not pushed again.
+UNDO_ORIGIN = "undo"
+REDO_ORIGIN = "redo"
+#: Most changes kept (common practice for an editor's undo list; older ones are dropped).
+HISTORY_LIMIT = 200
+#: Words for the settings fields in the Edit menu ("Undo gamut mapping"); a field not named
+#: here is said as its name with spaces ("scene white", "night tint").
+FIELD_WORDS = {
+    "gamut": "gamut mapping", "vision": "vision model", "pupil_mm": "pupil",
+    "aperture_mm": "aperture", "blur_spot_arcmin": "star image size",
+    "magnitude_bright": "brightest magnitude", "magnitude_faint": "faintest magnitude",
+    "compensate": "dome compensation",
+}
+
+
+def describe_change(before: Settings, after: Settings) -> str:
+    """Words for what changed between two settings objects ("gamut mapping", "display and
+    pupil", "4 settings"), for the Edit menu."""
+    names = [f.name for f in dataclasses.fields(Settings)
+             if getattr(before, f.name) != getattr(after, f.name)]
+    words = [FIELD_WORDS.get(n, n.replace("_", " ")) for n in names]
+    if not words:
+        return "settings"
+    if len(words) > 2:
+        return f"{len(words)} settings"
+    return " and ".join(words)
+
+
+@dataclasses.dataclass(frozen=True)
+class HistoryEntry:
+    """One settings change: the settings before and after it, and its words."""
+
+    before: Settings
+    after: Settings
+    text: str
+
+
+@dataclasses.dataclass(frozen=True)
+class HistoryChange:
+    """What happened to the history: ``kind`` is ``"push"``, ``"undo"``, ``"redo"`` or
+    ``"clear"``; ``entry`` the entry concerned (None for ``"clear"``)."""
+
+    kind: str
+    entry: HistoryEntry | None
+
+
+class SettingsHistory:
+    """Undo and redo lists of settings changes (newest last), at most ``limit`` kept.
+
+    Parameters
+    ----------
+    limit : int
+        Most entries kept in the undo list; the oldest go first.
+    """
+
+    def __init__(self, limit: int = HISTORY_LIMIT):
+        self.limit = int(limit)
+        self._undo: list[HistoryEntry] = []
+        self._redo: list[HistoryEntry] = []
+
+    @property
+    def can_undo(self) -> bool:
+        """Whether there is a change to undo."""
+        return bool(self._undo)
+
+    @property
+    def can_redo(self) -> bool:
+        """Whether there is an undone change to redo."""
+        return bool(self._redo)
+
+    @property
+    def undo_text(self) -> str:
+        """Words of the change :meth:`WindowModel.undo` would undo ("" if none)."""
+        return self._undo[-1].text if self._undo else ""
+
+    @property
+    def redo_text(self) -> str:
+        """Words of the change :meth:`WindowModel.redo` would redo ("" if none)."""
+        return self._redo[-1].text if self._redo else ""
+
+    def __len__(self) -> int:
+        return len(self._undo)
+
+    def push(self, before: Settings, after: Settings) -> HistoryEntry:
+        """Record a change; the redo list is dropped (a new change starts a new branch)."""
+        entry = HistoryEntry(before, after, describe_change(before, after))
+        self._undo.append(entry)
+        del self._undo[:-self.limit]
+        self._redo.clear()
+        return entry
+
+    def take_undo(self) -> HistoryEntry:
+        """Move the newest change to the redo list and return it."""
+        entry = self._undo.pop()
+        self._redo.append(entry)
+        return entry
+
+    def take_redo(self) -> HistoryEntry:
+        """Move the newest undone change back to the undo list and return it."""
+        entry = self._redo.pop()
+        self._undo.append(entry)
+        return entry
+
+    def clear(self) -> None:
+        """Forget every change."""
+        self._undo.clear()
+        self._redo.clear()
 
 
 # -- derived state -----------------------------------------------------------------------------
@@ -321,6 +439,7 @@ class WindowModel:
         if not isinstance(settings, Settings):
             raise StarkilnError(f"not a settings object: {settings!r}")
         self._settings = settings
+        self.history = SettingsHistory()
         self._magnitude = float(check_magnitude(magnitude))
         t = float(check_temperature(temperature_K))
         self._plots = self._plots_for(settings)
@@ -530,10 +649,42 @@ class WindowModel:
         except StarkilnError as exc:
             self._report(origin, exc)
             raise
+        before = self._settings
         self._settings, self._colour, self._plots = settings, colour, plots
         self._schedule_table()
+        entry = None
+        if origin not in (UNDO_ORIGIN, REDO_ORIGIN):
+            entry = self.history.push(before, settings)
         self.events.settings.emit(origin, settings)
         self.events.plots.emit(origin, plots)
+        if entry is not None:
+            self.events.history.emit(origin, HistoryChange("push", entry))
+
+    # -- undo ----------------------------------------------------------------------------------
+    def undo(self) -> bool:
+        """Go back to the settings before the newest change; False if there is none."""
+        if not self.history.can_undo:
+            return False
+        entry = self.history._undo[-1]
+        self.set_settings(entry.before, UNDO_ORIGIN)  # may raise: the entry stays then
+        self.history.take_undo()
+        self.events.history.emit(UNDO_ORIGIN, HistoryChange("undo", entry))
+        return True
+
+    def redo(self) -> bool:
+        """Make the newest undone change again; False if there is none."""
+        if not self.history.can_redo:
+            return False
+        entry = self.history._redo[-1]
+        self.set_settings(entry.after, REDO_ORIGIN)
+        self.history.take_redo()
+        self.events.history.emit(REDO_ORIGIN, HistoryChange("redo", entry))
+        return True
+
+    def clear_history(self) -> None:
+        """Forget every change (undo and redo)."""
+        self.history.clear()
+        self.events.history.emit("", HistoryChange("clear", None))
 
     def change(self, origin: str = "", **fields) -> None:
         """Change some settings fields (validated by :meth:`Settings.replace`)."""

@@ -3,10 +3,10 @@
 Layout (names are this project's own)::
 
     +--------------------------------------------------------------------------+
-    | Temperature  cooler [====== slider ======] hotter   T [    ] K  B-V  class |
+    | Temperature  redder [====== slider ======] bluer    T [    ] K  B-V  class |
     | [ strip of equal-mired swatches across 1000-40000 K, current marked     ] |
     +---------------+------------------------------------+---------------------+
-    | Star colour   | Spectrum                           | Look                |
+    | Star colour   | Spectrum                           | Rendering           |
     |  swatch       |                                    |  White / Display /  |
     |  readouts     +------------------+-----------------+  Gamut / Night sky  |
     |  magnitudes   | Chromaticity     | Demo sky        |                     |
@@ -23,6 +23,14 @@ display's colours to the monitor's colour space: the screen's ``QColorSpace`` wh
 one (:func:`platform_monitor`), else sRGB, assumed; ``--monitor`` and View > Monitor choose one.
 The status bar says which, and how many swatches the monitor had to clip (those carry a corner
 mark).
+
+Editing. Edit > Undo / Redo (the platform's keys, ``QKeySequence.StandardKey.Undo`` and
+``Redo``) step through every settings change. The history belongs to the model
+(:class:`starkiln.gui.model.SettingsHistory`, tested without a display); the window mirrors it
+in a ``QUndoStack`` (:attr:`MainWindow.undo_stack`), one command per change the model reports
+on ``events.history``, whose undo and redo ask the model. The model stays the source of truth,
+so a script or test calling ``model.undo()`` moves the stack too. :data:`SHORTCUTS` lists the
+window's own keys.
 """
 
 from __future__ import annotations
@@ -36,12 +44,13 @@ from starkiln.engine.colour.displays import PRESETS, Display
 from starkiln.engine.colour.monitor import SRGB_MONITOR, monitor_from_primaries
 from starkiln.engine.errors import StarkilnError
 from starkiln.gui.audition import AuditionPanel
-from starkiln.gui.controls import CAUTION, LookPanel
+from starkiln.gui.controls import CAUTION, RenderingPanel
 from starkiln.gui.current import CurrentColourPanel
 from starkiln.gui.fields import INPUT_ERRORS
 from starkiln.gui.plots import OVERLAYS, ChromaticityView, SpectrumView
 from starkiln.gui.model import DEFAULT_MAGNITUDE, DEFAULT_TEMPERATURE_K, WindowModel
-from starkiln.gui.model import MONITOR_ASSUMED, MONITOR_LABELS, settings_from_toml
+from starkiln.gui.model import HISTORY_LIMIT, MONITOR_ASSUMED, MONITOR_LABELS
+from starkiln.gui.model import settings_from_toml
 from starkiln.gui.sky import SkyPreview
 from starkiln.gui.theme import DEFAULT_THEME, THEMES, apply_theme
 
@@ -53,6 +62,39 @@ MAX_RECENT = 8
 SCREENSHOT_SIZE = (1280, 800)
 MONITOR_CHOSEN = "chosen"
 MONITOR_FROM_PLATFORM = "as the platform reports"
+#: The smallest window whose every label fits (checked by tests/test_gui_layout.py).
+MINIMUM_SIZE = (1024, 680)
+#: The window's own keys (the platform's standard keys are used for open, save, undo, redo,
+#: quit). Kept here so the menus, the tooltips and docs/guide.md agree.
+SHORTCUTS = {
+    "export-texture": "Ctrl+E",
+    "export-palette": "Ctrl+Shift+E",
+    "copy-hex": "Ctrl+Shift+C",
+    "next-theme": "Ctrl+Shift+T",
+}
+# TODO(issue 12, item 5): a shortcut for pinning a candidate once pinning exists.
+
+
+class SettingsCommand(QtGui.QUndoCommand):
+    """One settings change on the window's QUndoStack; undo and redo ask the model.
+
+    The model already made the change when the command is pushed, so the stack's first
+    ``redo()`` (QUndoStack.push calls it) does nothing.
+    """
+
+    def __init__(self, window: "MainWindow", text: str):
+        super().__init__(text)
+        self._window = window
+        self._pushed = False
+
+    def redo(self):  # noqa: D102 - Qt API
+        if not self._pushed:
+            self._pushed = True
+            return
+        self._window._history_step(redo=True)
+
+    def undo(self):  # noqa: D102 - Qt API
+        self._window._history_step(redo=False)
 
 #: Qt's names of primaries and transfer functions -> the engine's
 #: (:data:`starkiln.engine.colour.monitor.NAMED_PRIMARIES`, the display transfers). Names, not
@@ -155,6 +197,9 @@ class MainWindow(QtWidgets.QMainWindow):
                 raise
             self.model = WindowModel(start, DEFAULT_TEMPERATURE_K, DEFAULT_MAGNITUDE, idle=idle,
                                      monitor=mon, monitor_source=source)
+        self.undo_stack = QtGui.QUndoStack(self)
+        self.undo_stack.setUndoLimit(HISTORY_LIMIT)
+        self._stack_driving = False
         self._build()
         self._menus()
         self._connect()
@@ -162,6 +207,7 @@ class MainWindow(QtWidgets.QMainWindow):
         self._restore_view_state()
         self._on_settings()
         self.setWindowTitle(APP_TITLE)
+        self.setMinimumSize(*MINIMUM_SIZE)
         self.audition.slider.setFocus()
 
     # -- construction ----------------------------------------------------------------------
@@ -172,7 +218,7 @@ class MainWindow(QtWidgets.QMainWindow):
         self.spectrum = SpectrumView(m, self)
         self.chromaticity = ChromaticityView(m, self)
         self.sky = SkyPreview(m, self)
-        self.look = LookPanel(m, self)
+        self.rendering = RenderingPanel(m, self)
 
         overlay_bar = QtWidgets.QWidget(self)
         ob = QtWidgets.QHBoxLayout(overlay_bar)
@@ -182,7 +228,7 @@ class MainWindow(QtWidgets.QMainWindow):
         ob.addWidget(lab)
         self.overlay_checks: dict[str, QtWidgets.QCheckBox] = {}
         for key, short in (("photopic", "V(\u03bb) day"), ("scotopic", "V\u2032(\u03bb) night"),
-                           ("cmf", "x\u0304 y\u0304 z\u0304 colour matching")):
+                           ("cmf", "x\u0304 y\u0304 z\u0304")):
             c = QtWidgets.QCheckBox(short, overlay_bar)
             c.setObjectName(f"overlay-{key}")
             c.setToolTip(OVERLAYS[key][0])
@@ -196,6 +242,7 @@ class MainWindow(QtWidgets.QMainWindow):
         zb.setContentsMargins(2, 0, 2, 0)
         self.zoom = QtWidgets.QComboBox(zoom_bar)
         self.zoom.setObjectName("chromaticity-zoom")
+        self.zoom.setToolTip("Show the whole diagram, or zoom in near the Planckian locus")
         self.zoom.addItem("Whole diagram", "whole")
         self.zoom.addItem("Near the Planckian locus", "locus")
         self.zoom.currentIndexChanged.connect(
@@ -236,7 +283,16 @@ class MainWindow(QtWidgets.QMainWindow):
         self.main_split.setObjectName("split-main")
         self.main_split.addWidget(_titled("Star colour", self.current, None, "box-current"))
         self.main_split.addWidget(self.centre_split)
-        self.main_split.addWidget(_titled("Look", self.look, None, "box-look"))
+        # what the settings come to, in words, over the tabs (the status bar has no room)
+        self.summary = QtWidgets.QLabel(self)
+        self.summary.setObjectName("settings-summary")
+        self.summary.setProperty("role", "muted")
+        self.summary.setWordWrap(True)
+        self.summary.setToolTip("The current settings in short; Edit > Undo steps back")
+        self.main_split.addWidget(_titled("Rendering", self.rendering, self.summary,
+                                          "box-rendering"))
+        for split in (self.main_split, self.centre_split, self.lower_split):
+            split.setChildrenCollapsible(False)  # a panel is narrowed to its minimum, not hidden
         self.main_split.setStretchFactor(0, 0)
         self.main_split.setStretchFactor(1, 1)
         self.main_split.setStretchFactor(2, 0)
@@ -256,9 +312,6 @@ class MainWindow(QtWidgets.QMainWindow):
             "The swatches, strips, sky and spectrum band are the chosen display's colours "
             "converted to this monitor; the readouts are the chosen display's values")
         self.statusBar().addPermanentWidget(self.monitor_status)
-        self.summary = QtWidgets.QLabel(self)
-        self.summary.setObjectName("settings-summary")
-        self.statusBar().addPermanentWidget(self.summary)
 
     def _menus(self) -> None:
         bar = self.menuBar()
@@ -272,12 +325,28 @@ class MainWindow(QtWidgets.QMainWindow):
         self.recent_menu = file.addMenu("Recent settings")
         file.addAction("Back to default settings", self.reset_settings)
         file.addSeparator()
-        file.addAction("Export lookup texture\u2026", lambda: self.export_dialog("lut"))
-        file.addAction("Export palette\u2026", lambda: self.export_dialog("palette"))
+        self.action_export_texture = file.addAction(
+            "Export lookup texture\u2026", lambda: self.export_dialog("lut"),
+            QtGui.QKeySequence(SHORTCUTS["export-texture"]))
+        self.action_export_palette = file.addAction(
+            "Export palette\u2026", lambda: self.export_dialog("palette"),
+            QtGui.QKeySequence(SHORTCUTS["export-palette"]))
         file.addAction("Save a picture of this window\u2026", self._picture_dialog)
         file.addSeparator()
         file.addAction("Quit", self.close, QtGui.QKeySequence.StandardKey.Quit)
+        edit = bar.addMenu("&Edit")
+        self.action_undo = self.undo_stack.createUndoAction(self, "&Undo")
+        self.action_undo.setShortcuts(QtGui.QKeySequence.StandardKey.Undo)
+        self.action_redo = self.undo_stack.createRedoAction(self, "&Redo")
+        self.action_redo.setShortcuts(QtGui.QKeySequence.StandardKey.Redo)
+        edit.addAction(self.action_undo)
+        edit.addAction(self.action_redo)
+        edit.addSeparator()
+        self.action_copy_hex = edit.addAction(
+            "Copy hex colour", self.copy_hex, QtGui.QKeySequence(SHORTCUTS["copy-hex"]))
         view = bar.addMenu("&View")
+        self.action_next_theme = view.addAction(
+            "Next theme", self.next_theme, QtGui.QKeySequence(SHORTCUTS["next-theme"]))
         themes = view.addMenu("Theme")
         group = QtGui.QActionGroup(self)
         self.theme_actions = {}
@@ -300,7 +369,7 @@ class MainWindow(QtWidgets.QMainWindow):
             mgroup.addAction(a)
             self.monitor_actions[key] = a
         monitors.addSeparator()
-        monitors.addAction("From a display profile\u2026", self._monitor_profile_dialog)
+        monitors.addAction("From a display profile (JSON)\u2026", self._monitor_profile_dialog)
         help_ = bar.addMenu("&Help")
         help_.addAction("Night vision: caution", lambda: self.show_message(
             "Night vision", CAUTION, QtWidgets.QMessageBox.Icon.Information))
@@ -310,19 +379,22 @@ class MainWindow(QtWidgets.QMainWindow):
             "The Kiln cluster and the Harbourlight dome are invented demo data.",
             QtWidgets.QMessageBox.Icon.Information))
         self._rebuild_recent()
+        for button in bar.findChildren(QtWidgets.QToolButton):  # shown when menus do not fit
+            button.setToolTip("More menus")
 
     def _connect(self) -> None:
         events = self.model.events
         for event in (events.temperature, events.magnitude, events.plots, events.monitor):
             event.connect(lambda _change: self._show_monitor())
         events.settings.connect(lambda _change: self._on_settings())
+        events.history.connect(self._on_history)
         events.plots.connect(lambda _change: self.chroma_key.setText(
             self.chromaticity.key_html()))
         events.rejected.connect(lambda change: self.statusBar().showMessage(
             f"\u26a0 {change.value}", 6000))
         self.sky.star_picked.connect(self._star_picked)
         self.current.status.connect(lambda text: self.statusBar().showMessage(text, 4000))
-        self.look.display.message.connect(
+        self.rendering.display.message.connect(
             lambda title, text: self.show_message(title, text))
 
     # -- model -> window ---------------------------------------------------------------------
@@ -337,6 +409,48 @@ class MainWindow(QtWidgets.QMainWindow):
         self.monitor_status.setText(self.model.monitor_status())
         for key, a in self.monitor_actions.items():
             a.setChecked(key == self.monitor_choice)
+
+    # -- undo ----------------------------------------------------------------------------------
+    @property
+    def look(self) -> RenderingPanel:
+        """The old name of :attr:`rendering` (kept for scripts written before issue 12)."""
+        return self.rendering
+
+    def _on_history(self, change) -> None:
+        """Mirror the model's history in the undo stack."""
+        h = change.value
+        if h.kind == "push":
+            self.undo_stack.push(SettingsCommand(self, h.entry.text))
+        elif h.kind == "clear":
+            self.undo_stack.clear()
+        elif not self._stack_driving:  # the model was asked directly: move the stack along
+            self._stack_driving = True
+            try:
+                (self.undo_stack.redo if h.kind == "redo" else self.undo_stack.undo)()
+            finally:
+                self._stack_driving = False
+
+    def _history_step(self, redo: bool) -> None:
+        """The undo stack's command asks the model (unless the model moved first)."""
+        if self._stack_driving:
+            return
+        self._stack_driving = True
+        try:
+            try:
+                (self.model.redo if redo else self.model.undo)()
+            except INPUT_ERRORS as exc:  # cannot happen (the settings were valid); shown if so
+                self.statusBar().showMessage(f"\u26a0 {exc}", 6000)
+        finally:
+            self._stack_driving = False
+
+    def copy_hex(self) -> str:
+        """Copy the current colour's hex code to the clipboard (Edit > Copy hex colour)."""
+        return self.current.readouts.copy("hex")
+
+    def next_theme(self) -> None:
+        """Switch to the next theme of View > Theme."""
+        keys = list(THEMES)
+        self.set_theme(keys[(keys.index(self.theme.key) + 1) % len(keys)])
 
     # -- the monitor -------------------------------------------------------------------------
     def set_monitor_choice(self, key) -> None:
@@ -357,7 +471,8 @@ class MainWindow(QtWidgets.QMainWindow):
         from starkiln.engine.colour.monitor import load_monitor
 
         path, _ = QtWidgets.QFileDialog.getOpenFileName(
-            self, "Monitor display profile", self._last_dir(), "Display profiles (*.json)")
+            self, "Monitor: open a display profile (JSON)", self._last_dir(),
+            "Display profiles, JSON (*.json)")
         if path:
             try:
                 self.set_monitor_choice(load_monitor(path))
@@ -418,7 +533,7 @@ class MainWindow(QtWidgets.QMainWindow):
         except INPUT_ERRORS as exc:
             self.show_message("Settings not loaded", str(exc))
             return False
-        self.look.refresh(force=True)
+        self.rendering.refresh(force=True)
         self.settings_path = path
         self._add_recent(path)
         self.setWindowTitle(f"{APP_TITLE} \u2014 {path.name}")
@@ -442,7 +557,7 @@ class MainWindow(QtWidgets.QMainWindow):
     def reset_settings(self) -> None:
         """Back to the engine's default settings."""
         self.model.reset_settings(origin="file")
-        self.look.refresh(force=True)
+        self.rendering.refresh(force=True)
 
     def _open_dialog(self) -> None:
         path, _ = QtWidgets.QFileDialog.getOpenFileName(self, "Open settings", self._last_dir(),
@@ -458,7 +573,7 @@ class MainWindow(QtWidgets.QMainWindow):
 
     def _save_as_dialog(self) -> None:
         path, _ = QtWidgets.QFileDialog.getSaveFileName(
-            self, "Save settings", str(Path(self._last_dir()) / "look.toml"),
+            self, "Save settings", str(Path(self._last_dir()) / "settings.toml"),
             "Starkiln settings (*.toml)")
         if path:
             self.save_settings_file(path)
