@@ -120,3 +120,101 @@ def settings_from_args(args) -> "Settings":
     if getattr(args, "naked_eye", None):
         changes["aperture_mm"] = None
     return base.replace(**changes) if changes else base
+
+
+#: The command that prints one star's colour (:mod:`starkiln.cli.colour`).
+COLOUR_COMMAND = ("starkiln", "colour")
+
+
+def _option_value(value) -> str:
+    """A settings value as command-line text that parses back to the same value
+    (``repr`` of a float round-trips exactly: Python's shortest repr, IEEE 754)."""
+    if isinstance(value, float):
+        return repr(value)
+    return str(value)
+
+
+def command_words_for(settings: "Settings", temperature_K: float, magnitude=None,
+                      display_profile=None, json_output: bool = True) -> list[str]:
+    """The words of the ``starkiln colour`` command that renders exactly this star.
+
+    Every settings field in :data:`SETTING_OPTIONS` is written out (defaults included, so
+    the command does not depend on a settings file or on future defaults), numbers as their
+    shortest round-tripping text. A preset display or working space is named; any other
+    display must be given as ``display_profile``, the path of a JSON display profile holding
+    exactly that display (checked by reading it back), since a display has no option per
+    field.
+
+    Parameters
+    ----------
+    settings : Settings
+        The settings shown.
+    temperature_K : float
+        The star's temperature, K.
+    magnitude : float, optional
+        Its apparent magnitude (turns on the night-vision model in the command's output).
+    display_profile : path-like, optional
+        A JSON display profile of ``settings.display``; needed when it is not a preset.
+    json_output : bool
+        Add ``--json``.
+
+    Returns
+    -------
+    list of str
+        ``["starkiln", "colour", "--temperature", ...]``.
+
+    Raises
+    ------
+    StarkilnError
+        A custom display without a profile, or a profile that holds another display.
+
+    References
+    ----------
+    The options: :func:`add_colour_options`; float text: Python's ``repr`` (shortest string
+    that reads back to the same IEEE 754 double).
+    """
+    from pathlib import Path
+
+    from starkiln.engine.colour.displays import PRESETS, WORKING_SPACES, load_display_profile
+
+    words = list(COLOUR_COMMAND) + ["--temperature", _option_value(float(temperature_K))]
+    if magnitude is not None:
+        words += ["--magnitude", _option_value(float(magnitude))]
+    for key, option in SETTING_OPTIONS.items():
+        value = getattr(settings, key)
+        if key == "display":
+            named = {**PRESETS, **WORKING_SPACES}.get(value.name)
+            if named is not None and named == value:
+                words += [option, value.name]
+                continue
+            if display_profile is None:
+                raise StarkilnError(f"display {value.name!r} is not a preset; accepted: the "
+                                    "path of a JSON display profile holding it")
+            if load_display_profile(display_profile) != value:
+                raise StarkilnError(f"{display_profile}: this display profile does not hold "
+                                    f"display {value.name!r}; accepted: a profile saved from it")
+            words += [option, str(Path(display_profile))]
+        elif key == "aperture_mm" and value is None:
+            words.append("--naked-eye")
+        elif key == "compensate":
+            words.append("--compensate" if value else "--no-compensate")
+        else:
+            words += [option, _option_value(value)]
+    if json_output:
+        words.append("--json")
+    return words
+
+
+def command_line_for(settings: "Settings", temperature_K: float, magnitude=None,
+                     display_profile=None, json_output: bool = True) -> str:
+    """:func:`command_words_for` as one shell line (each word quoted by :func:`shlex.join`).
+
+    References
+    ----------
+    POSIX shell quoting (IEEE Std 1003.1, Shell Command Language, 2.2 Quoting), as
+    :func:`shlex.quote` applies it.
+    """
+    import shlex
+
+    return shlex.join(command_words_for(settings, temperature_K, magnitude, display_profile,
+                                        json_output))
