@@ -158,6 +158,8 @@ class ModelEvents:
         ``plots`` follows).
     history : value a :class:`HistoryChange`: a change was pushed, undone or redone (emitted
         after ``settings`` and ``plots``).
+    pins : value the tuple of :class:`Pin` now pinned (a pin was added or removed, or the A/B
+        pair loaded); the strips follow from :meth:`WindowModel.pin_strips`.
     """
 
     def __init__(self):
@@ -169,6 +171,7 @@ class ModelEvents:
         self.monitor = Event("monitor")
         self.viewing = Event("viewing")
         self.history = Event("history")
+        self.pins = Event("pins")
 
 
 #: Origins of the history's own steps: changes made by undo and redo are not pushed again.
@@ -384,6 +387,53 @@ def settings_from_toml(text: str, source: str = "last session") -> Settings | No
         return None
 
 
+# -- pins ----------------------------------------------------------------------------------------
+#: Most settings pinned side by side (issue 12: "up to four candidate settings").
+MAX_PINS = 4
+#: Temperatures of every pin's strip, K: the same for every pin, so they read across.
+PIN_TEMPERATURES_K = (1500.0, 2000.0, 2500.0, 3000.0, 3500.0, 4000.0, 4500.0, 5000.0, 5772.0,
+                      6500.0, 8000.0, 10000.0, 15000.0, 25000.0, 40000.0)
+#: Roles of the A/B pair's pins.
+AB_ROLES = ("A", "B")
+
+
+def settings_words(settings: Settings) -> str:
+    """Short words for a settings object: white, display, adaptation, gamut, night sky."""
+    s = settings
+    night = "naked eye" if s.aperture_mm is None else f"{s.aperture_mm:g} mm"
+    return (f"white {s.scene_white} \u2192 {s.display.name} \u00b7 {s.adaptation} \u00b7 "
+            f"gamut {s.gamut} \u00b7 vision {s.vision}, {night}")
+
+
+@dataclasses.dataclass(frozen=True)
+class Pin:
+    """One pinned settings object: ``role`` is ``""``, ``"A"`` or ``"B"``; ``label`` its words
+    (the file's name for an A/B pin)."""
+
+    settings: Settings
+    label: str
+    role: str = ""
+
+
+@dataclasses.dataclass(frozen=True)
+class PinStrip:
+    """What one pin's strip paints: the colours of :data:`PIN_TEMPERATURES_K` through the render
+    path (at ``magnitude``, dimmed, if not None), converted to the monitor at the viewing level.
+
+    ``rgb_8bit`` and ``hex`` are the chosen display's values (the tooltips); ``monitor_rgb_8bit``
+    and ``monitor_clipped`` what is painted (:func:`starkiln.engine.colour.monitor.rendered_on_monitor`).
+    """
+
+    pin: Pin
+    temperature_K: np.ndarray
+    magnitude: float | None
+    rendered: Rendered
+    rgb_8bit: np.ndarray
+    hex: np.ndarray
+    monitor_rgb_8bit: np.ndarray
+    monitor_clipped: np.ndarray
+
+
 # -- the model ---------------------------------------------------------------------------------
 class WindowModel:
     """Current settings, temperature and magnitude, their renders, and the plot data.
@@ -440,6 +490,8 @@ class WindowModel:
             raise StarkilnError(f"not a settings object: {settings!r}")
         self._settings = settings
         self.history = SettingsHistory()
+        self._pins: list[Pin] = []
+        self._pin_strips: dict = {}
         self._magnitude = float(check_magnitude(magnitude))
         t = float(check_temperature(temperature_K))
         self._plots = self._plots_for(settings)
@@ -733,6 +785,151 @@ class WindowModel:
     def reset_settings(self, origin: str = "file") -> None:
         """Back to the engine's default settings."""
         self.set_settings(Settings(), origin)
+
+    # -- pins ----------------------------------------------------------------------------------
+    @property
+    def pins(self) -> tuple[Pin, ...]:
+        """The pinned settings, oldest first (at most :data:`MAX_PINS`)."""
+        return tuple(self._pins)
+
+    def pin_current(self, label: str = "", origin: str = "pin") -> Pin:
+        """Pin the current settings (StarkilnError when :data:`MAX_PINS` are pinned already)."""
+        return self.pin_settings(self._settings, label, origin=origin)
+
+    def pin_settings(self, settings: Settings, label: str = "", role: str = "",
+                     origin: str = "pin") -> Pin:
+        """Pin ``settings`` (StarkilnError when no room is left; nothing changes then)."""
+        if not isinstance(settings, Settings):
+            exc = StarkilnError(f"not a settings object: {settings!r}")
+            self._report(origin, exc)
+            raise exc
+        if len(self._pins) >= MAX_PINS:
+            exc = StarkilnError(f"{MAX_PINS} settings are pinned already; accepted: at most "
+                                f"{MAX_PINS} (unpin one first)")
+            self._report(origin, exc)
+            raise exc
+        pin = Pin(settings, label or settings_words(settings), role)
+        self._pins.append(pin)
+        self.events.pins.emit(origin, self.pins)
+        return pin
+
+    def unpin(self, index: int, origin: str = "pin") -> None:
+        """Remove pin ``index`` (StarkilnError if there is no such pin)."""
+        if not 0 <= int(index) < len(self._pins):
+            exc = InputRangeError(f"pin {index} does not exist; accepted: 0-{len(self._pins) - 1}"
+                                  if self._pins else f"pin {index} does not exist; none pinned")
+            self._report(origin, exc)
+            raise exc
+        del self._pins[int(index)]
+        self.events.pins.emit(origin, self.pins)
+
+    def clear_pins(self, origin: str = "pin") -> None:
+        """Remove every pin."""
+        if self._pins:
+            self._pins.clear()
+            self.events.pins.emit(origin, self.pins)
+
+    def load_ab(self, path_a, path_b, origin: str = "ab") -> tuple[Pin, Pin]:
+        """Pin two settings files as the A/B pair (replacing an earlier pair).
+
+        Both files are read first; a file the engine rejects, or no room for two pins, raises
+        StarkilnError (naming the file) and leaves the pins as they were.
+        """
+        try:
+            loaded = [load_settings(p) for p in (path_a, path_b)]
+            kept = [p for p in self._pins if p.role not in AB_ROLES]
+            if len(kept) + 2 > MAX_PINS:
+                raise StarkilnError(f"A/B needs two of the {MAX_PINS} pins and "
+                                    f"{len(kept)} are taken; accepted: unpin "
+                                    f"{len(kept) + 2 - MAX_PINS} first")
+        except StarkilnError as exc:
+            self._report(origin, exc)
+            raise
+        pair = tuple(Pin(s, f"{role}: {Path(p).name}", role)
+                     for s, p, role in zip(loaded, (path_a, path_b), AB_ROLES))
+        self._pins = kept + list(pair)
+        self.events.pins.emit(origin, self.pins)
+        return pair
+
+    def ab_pin(self, role: str) -> Pin | None:
+        """The A or B pin, if an A/B pair is loaded."""
+        return next((p for p in self._pins if p.role == role), None)
+
+    def flip_ab(self, origin: str = "ab") -> str:
+        """Show the A/B pair's other settings in the main view: B when A is shown, else A.
+        Returns the role now shown (StarkilnError when no pair is loaded)."""
+        a, b = self.ab_pin("A"), self.ab_pin("B")
+        if a is None or b is None:
+            exc = StarkilnError("no A/B pair is loaded; accepted: Compare A/B with two "
+                                "settings files first")
+            self._report(origin, exc)
+            raise exc
+        role, pin = ("B", b) if self._settings == a.settings else ("A", a)
+        self.set_settings(pin.settings, origin)
+        return role
+
+    def pin_strips(self, at_magnitude: bool = False) -> list[PinStrip]:
+        """Every pin's strip (kept until the monitor, viewing level or magnitude changes).
+
+        ``at_magnitude``: the colours at the current magnitude (night vision, dimmed), else
+        full colour.
+        """
+        m = self._magnitude if at_magnitude else None
+        out = []
+        for pin in self._pins:
+            key = (pin.settings, self._monitor, self._viewing_level, m)
+            strip = self._pin_strips.get(key)
+            if strip is None:
+                strip = self._pin_strip(pin, m)
+                if len(self._pin_strips) > 4 * MAX_PINS:
+                    self._pin_strips.clear()
+                self._pin_strips[key] = strip
+            elif strip.pin != pin:
+                strip = dataclasses.replace(strip, pin=pin)
+            out.append(strip)
+        return out
+
+    def _pin_strip(self, pin: Pin, magnitude: float | None) -> PinStrip:
+        t = np.asarray(PIN_TEMPERATURES_K)
+        r = render(pin.settings, t) if magnitude is None else render(pin.settings, t, magnitude)
+        dimmed = magnitude is not None
+        m8, mc = rendered_on_monitor(r, self._monitor, dimmed=dimmed,
+                                     viewing_level=self._viewing_level)
+        encoded = r.rgb_dimmed_encoded if dimmed else r.rgb_encoded
+        return PinStrip(pin=pin, temperature_K=t, magnitude=magnitude, rendered=r,
+                        rgb_8bit=to_8bit(encoded), hex=to_hex(encoded),
+                        monitor_rgb_8bit=m8, monitor_clipped=mc)
+
+    # -- the command line --------------------------------------------------------------------
+    def command_line(self, profile_dir=None) -> str:
+        """The ``starkiln colour`` command that prints the current render (at the current
+        magnitude: its text output shows the full colour and the colour at the magnitude, its
+        ``--json`` output the latter); :func:`starkiln.cli.options.command_line_for`.
+
+        A display that is not a preset is saved, atomically, as a JSON display profile named by
+        its content (``display-<hash>.json``) in ``profile_dir`` and the command points to it
+        (StarkilnError without a ``profile_dir`` then).
+        """
+        import hashlib
+        import json as _json
+
+        from starkiln.cli.options import command_line_for
+        from starkiln.engine.colour.displays import PRESETS, WORKING_SPACES, save_display_profile
+
+        s = self._settings
+        profile = None
+        if {**PRESETS, **WORKING_SPACES}.get(s.display.name) != s.display:
+            if profile_dir is None:
+                raise StarkilnError(f"display {s.display.name!r} is not a preset; accepted: a "
+                                    "folder to save its display profile in")
+            text = _json.dumps(s.display.to_profile(), sort_keys=True)
+            digest = hashlib.sha256(text.encode("utf-8")).hexdigest()[:16]
+            profile = Path(profile_dir) / f"display-{digest}.json"
+            if not profile.exists():
+                Path(profile_dir).mkdir(parents=True, exist_ok=True)
+                save_display_profile(s.display, profile, overwrite=True)
+        return command_line_for(s, self._temperature_K, self._magnitude,
+                                display_profile=profile)
 
     # -- demo sky ------------------------------------------------------------------------------
     @property

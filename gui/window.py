@@ -44,6 +44,7 @@ from starkiln.engine.colour.displays import PRESETS, Display
 from starkiln.engine.colour.monitor import SRGB_MONITOR, monitor_from_primaries
 from starkiln.engine.errors import StarkilnError
 from starkiln.gui.audition import AuditionPanel
+from starkiln.gui.compare import ComparePanel
 from starkiln.gui.controls import CAUTION, RenderingPanel
 from starkiln.gui.current import CurrentColourPanel
 from starkiln.gui.fields import INPUT_ERRORS
@@ -71,8 +72,10 @@ SHORTCUTS = {
     "export-palette": "Ctrl+Shift+E",
     "copy-hex": "Ctrl+Shift+C",
     "next-theme": "Ctrl+Shift+T",
+    "pin": "Ctrl+P",
+    "flip-ab": "Ctrl+Shift+B",
+    "copy-command-line": "Ctrl+Shift+L",
 }
-# TODO(issue 12, item 5): a shortcut for pinning a candidate once pinning exists.
 
 
 class SettingsCommand(QtGui.QUndoCommand):
@@ -219,6 +222,17 @@ class MainWindow(QtWidgets.QMainWindow):
         self.chromaticity = ChromaticityView(m, self)
         self.sky = SkyPreview(m, self)
         self.rendering = RenderingPanel(m, self)
+        self.compare = ComparePanel(m, self)
+        self.compare_dock = QtWidgets.QDockWidget("Compare", self)
+        self.compare_dock.setObjectName("dock-compare")
+        self.compare_dock.setWidget(self.compare)
+        self.addDockWidget(QtCore.Qt.DockWidgetArea.BottomDockWidgetArea, self.compare_dock)
+        self.compare_dock.hide()  # shown with the first pin, or from Compare > Compare
+        for button, tip in (("qt_dockwidget_floatbutton", "Float the Compare panel"),
+                            ("qt_dockwidget_closebutton", "Hide the Compare panel (the pins stay)")):
+            b = self.compare_dock.findChild(QtWidgets.QAbstractButton, button)
+            if b is not None:
+                b.setToolTip(tip)
 
         overlay_bar = QtWidgets.QWidget(self)
         ob = QtWidgets.QHBoxLayout(overlay_bar)
@@ -344,6 +358,16 @@ class MainWindow(QtWidgets.QMainWindow):
         edit.addSeparator()
         self.action_copy_hex = edit.addAction(
             "Copy hex colour", self.copy_hex, QtGui.QKeySequence(SHORTCUTS["copy-hex"]))
+        self.action_copy_command = edit.addAction(
+            "Copy command line", self.copy_command_line,
+            QtGui.QKeySequence(SHORTCUTS["copy-command-line"]))
+        compare = bar.addMenu("&Compare")
+        self.action_pin = compare.addAction("Pin current settings", self.pin_current,
+                                            QtGui.QKeySequence(SHORTCUTS["pin"]))
+        compare.addAction("Compare A/B\u2026", self._ab_dialog)
+        self.action_flip_ab = compare.addAction("Flip A/B", self.compare.flip,
+                                                QtGui.QKeySequence(SHORTCUTS["flip-ab"]))
+        compare.addAction(self.compare_dock.toggleViewAction())
         view = bar.addMenu("&View")
         self.action_next_theme = view.addAction(
             "Next theme", self.next_theme, QtGui.QKeySequence(SHORTCUTS["next-theme"]))
@@ -394,6 +418,9 @@ class MainWindow(QtWidgets.QMainWindow):
             f"\u26a0 {change.value}", 6000))
         self.sky.star_picked.connect(self._star_picked)
         self.current.status.connect(lambda text: self.statusBar().showMessage(text, 4000))
+        self.compare.status.connect(lambda text: self.statusBar().showMessage(text, 6000))
+        self.compare.ab_requested.connect(self._ab_dialog)
+        events.pins.connect(lambda change: change.value and self.compare_dock.show())
         self.rendering.display.message.connect(
             lambda title, text: self.show_message(title, text))
 
@@ -447,6 +474,42 @@ class MainWindow(QtWidgets.QMainWindow):
         """Copy the current colour's hex code to the clipboard (Edit > Copy hex colour)."""
         return self.current.readouts.copy("hex")
 
+    # -- comparing ---------------------------------------------------------------------------
+    def pin_current(self) -> bool:
+        """Pin the current settings (Compare > Pin); a fifth is refused in the status bar."""
+        return self.compare.pin_current()
+
+    def _ab_dialog(self) -> bool:
+        a, _ = QtWidgets.QFileDialog.getOpenFileName(self, "Compare A/B: settings A",
+                                                     self._last_dir(), "Starkiln settings (*.toml)")
+        if not a:
+            return False
+        b, _ = QtWidgets.QFileDialog.getOpenFileName(self, "Compare A/B: settings B",
+                                                     str(Path(a).parent),
+                                                     "Starkiln settings (*.toml)")
+        if not b:
+            return False
+        self.compare_dock.show()
+        return self.compare.load_ab(a, b)
+
+    def profile_dir(self) -> Path:
+        """Where Copy command line saves a custom display's JSON display profile."""
+        base = QtCore.QStandardPaths.writableLocation(
+            QtCore.QStandardPaths.StandardLocation.AppDataLocation) or str(Path.home())
+        return Path(base) / "display-profiles"
+
+    def copy_command_line(self) -> str:
+        """Copy the ``starkiln colour`` command that prints what is shown (Edit menu); returns
+        it ("" and a status message if it cannot be made)."""
+        try:
+            line = self.model.command_line(self.profile_dir())
+        except (INPUT_ERRORS + (OSError,)) as exc:
+            self.statusBar().showMessage(f"\u26a0 {exc}", 6000)
+            return ""
+        QtGui.QGuiApplication.clipboard().setText(line)
+        self.statusBar().showMessage(f"Copied: {line}", 6000)
+        return line
+
     def next_theme(self) -> None:
         """Switch to the next theme of View > Theme."""
         keys = list(THEMES)
@@ -490,7 +553,8 @@ class MainWindow(QtWidgets.QMainWindow):
         theme = THEMES.get(key, THEMES[DEFAULT_THEME])
         self.theme = theme
         apply_theme(self, theme)
-        for view in (self.audition, self.current, self.spectrum, self.chromaticity, self.sky):
+        for view in (self.audition, self.current, self.spectrum, self.chromaticity, self.sky,
+                     self.compare):
             view.set_theme(theme)
         self.chroma_key.setText(self.chromaticity.key_html())
         for k, a in self.theme_actions.items():

@@ -80,6 +80,10 @@ def reset_window(w):
             setattr(w, name, None)
     w.set_monitor_choice("as the platform reports")  # offscreen: sRGB, assumed
     m = w.model
+    m.clear_pins()
+    w.compare.show_error("")
+    w.compare.at_magnitude.setChecked(False)
+    w.compare_dock.hide()
     m.set_settings(Settings(), origin="file")
     m.set_magnitude(1.0)
     m.set_temperature(5772.0)
