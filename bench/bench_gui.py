@@ -15,7 +15,8 @@ Run: ``QT_QPA_PLATFORM=offscreen python bench/bench_gui.py [--steps 300] [--star
    through the monitor conversion with a matrix, P3 -> the sRGB monitor the offscreen
    platform is assumed to be) are printed beside them, with the same goal, and so are the
    steps in the dim theme with the demo dome display at its dome level (every painted
-   colour converted and dimmed to 15 % in linear light).
+   colour converted and dimmed to 15 % in linear light), and the steps with four settings
+   pinned in the Compare panel (shown: four more strips in the window).
 2. Cold start: a fresh interpreter (``python -c``) imports the window, builds
    it, shows it and reports when the first paint has been processed; timed
    from before the process is spawned to the moment its line arrives. Goal: < 2 s.
@@ -49,7 +50,7 @@ def _percentile(values, q):
 
 
 def bench_steps(steps: int, table: bool = True, display: str = "srgb",
-                dome_level: bool = False) -> list[float]:
+                dome_level: bool = False, pins: int = 0) -> list[float]:
     from PySide6 import QtCore, QtWidgets
 
     from starkiln.engine.pipeline.settings import Settings
@@ -63,6 +64,10 @@ def bench_steps(steps: int, table: bool = True, display: str = "srgb",
     if dome_level:
         window.set_theme("dim")
         window.current.use_dome_level()
+    candidates = [Settings(), Settings(scene_white="D50"), Settings(display="display-p3"),
+                  Settings(scene_white="D75", gamut="clip")]
+    for settings in candidates[:pins]:
+        window.model.pin_settings(settings)
     for _ in range(5):
         app.processEvents()
     if window.model.table_ready != table:
@@ -184,6 +189,8 @@ def main(argv=None) -> int:
     dome = bench_steps(max(a.steps, 200), display=str(asset_path("dome_projector.json")),
                        dome_level=True)
     vmed, vp95 = statistics.median(dome), _percentile(dome, 0.95)
+    pinned = bench_steps(max(a.steps, 200), pins=4)
+    qmed, qp95 = statistics.median(pinned), _percentile(pinned, 0.95)
     build = bench_table_build()
     starts = bench_start(a.starts)
     smed = statistics.median(starts)
@@ -197,6 +204,9 @@ def main(argv=None) -> int:
           f"ratio to the goal {pmed / STEP_GOAL_MS:.2f}")
     print(f"  demo dome at its dome level, dim theme (converted and dimmed): median "
           f"{vmed:.2f} ms, p95 {vp95:.2f} ms; ratio to the goal {vmed / STEP_GOAL_MS:.2f}")
+    print(f"  four settings pinned (Compare panel shown): median {qmed:.2f} ms, p95 "
+          f"{qp95:.2f} ms; pinned / none = {qmed / med:.2f}, ratio to the goal "
+          f"{qmed / STEP_GOAL_MS:.2f}")
     print(f"  building the table after a settings change: {build:.1f} ms (idle time)")
     print(f"cold start -> shown window, {len(starts)} runs")
     print(f"  median {smed:7.2f} s    goal {START_GOAL_S:.1f} s    ratio {smed / START_GOAL_S:.2f}"
@@ -215,6 +225,9 @@ def main(argv=None) -> int:
           f'(dim theme, every colour dimmed), median of {len(dome)}" value={vmed:.3g} unit=ms '
           f'reference={STEP_GOAL_MS:g} reference_label="goal" ratio={vmed / STEP_GOAL_MS:.3g} '
           f'sense="of the goal (below 1 meets it)"')
+    print(f'RESULT name=gui_step_pins goal="the same with four settings pinned, median of '
+          f'{len(pinned)}" value={qmed:.3g} unit=ms reference={STEP_GOAL_MS:g} '
+          f'reference_label="goal" ratio={qmed / STEP_GOAL_MS:.3g} sense="of the goal (below 1 meets it)"')
     print(f'RESULT name=gui_start goal="cold start to a shown window, median of {len(starts)}" '
           f'value={smed:.3g} unit=s reference={START_GOAL_S:g} reference_label="goal" '
           f'ratio={smed / START_GOAL_S:.3g} sense="of the goal (below 1 meets it)"')
