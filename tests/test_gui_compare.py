@@ -218,3 +218,21 @@ def test_copy_command_line_reproduces_the_render(window, qapp, tmp_path, monkeyp
     assert profile.parent == tmp_path / "profiles" and profile.suffix == ".json"
     _same_as_window(window, _run(line))
     assert window.copy_command_line() == line  # the same display: the same saved profile
+
+
+def test_compare_keys_are_bound_and_work(window, qapp):
+    """Ctrl+P pins, Ctrl+Shift+L copies the command line (issue 12's keys), Ctrl+Shift+B flips."""
+    from starkiln.gui.window import SHORTCUTS
+
+    for key, action in (("pin", window.action_pin), ("copy-command-line",
+                                                     window.action_copy_command),
+                        ("flip-ab", window.action_flip_ab)):
+        assert action.shortcut() == QtGui.QKeySequence(SHORTCUTS[key]), key
+    assert SHORTCUTS["pin"] == "Ctrl+P" and SHORTCUTS["copy-command-line"] == "Ctrl+Shift+L"
+    window.action_pin.trigger()
+    assert window.model.pins[0].settings == window.model.settings
+    window.action_copy_command.trigger()
+    words = shlex.split(QtGui.QGuiApplication.clipboard().text())
+    assert words[:4] == ["starkiln", "colour", "--temperature", "5772.0"]
+    window.action_flip_ab.trigger()  # no A/B pair: said inline, nothing changes
+    assert "no A/B pair" in window.compare.error.text()
