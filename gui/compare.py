@@ -98,22 +98,34 @@ class ComparePanel(QtWidgets.QWidget):
         self.error.setWordWrap(True)
         self.error.hide()
         outer.addWidget(self.error)
+        # the rows scroll, so a short window can keep the panel docked and small
+        self.scroll = QtWidgets.QScrollArea(self)
+        self.scroll.setObjectName("compare-rows")
+        self.scroll.setWidgetResizable(True)
+        self.scroll.setFrameShape(QtWidgets.QFrame.Shape.NoFrame)
+        inner = QtWidgets.QWidget(self.scroll)
+        rows = QtWidgets.QVBoxLayout(inner)
+        rows.setContentsMargins(0, 0, 0, 0)
+        rows.setSpacing(3)
         self.rows: list[PinRow] = []
         for i in range(MAX_PINS):
-            row = PinRow(i, self)
+            row = PinRow(i, inner)
             row.use.clicked.connect(lambda _=False, i=i: self.use_pin(i))
             row.unpin.clicked.connect(lambda _=False, i=i: self.unpin(i))
             row.strip.picked.connect(self._cell_picked)
             row.hide()
-            outer.addWidget(row)
+            rows.addWidget(row)
             self.rows.append(row)
         self.empty = QtWidgets.QLabel("Nothing pinned: Pin current settings (Ctrl+P) keeps the "
-                                      "main view's settings here to compare", self)
+                                      "main view's settings here to compare", inner)
         self.empty.setObjectName("compare-empty")
         self.empty.setProperty("role", "muted")
         self.empty.setWordWrap(True)
-        outer.addWidget(self.empty)
-        outer.addStretch(1)
+        rows.addWidget(self.empty)
+        rows.addStretch(1)
+        self.scroll.setWidget(inner)
+        self.scroll.setMinimumHeight(self.rows[0].sizeHint().height())
+        outer.addWidget(self.scroll, 1)
         self.pin_button.clicked.connect(self.pin_current)
         self.ab_button.clicked.connect(self.ab_requested.emit)
         self.flip_button.clicked.connect(self.flip)
@@ -178,6 +190,13 @@ class ComparePanel(QtWidgets.QWidget):
         if strips:
             self.model.set_temperature(float(strips[0].temperature_K[index]), origin="pin")
 
+    def wanted_height(self) -> int:
+        """Height that shows every pin without scrolling, px."""
+        inner = self.scroll.widget()
+        bar = self.pin_button.sizeHint().height() + 8
+        error = self.error.sizeHint().height() if self.error.isVisible() else 0
+        return bar + error + inner.sizeHint().height() + 8
+
     # -- view -----------------------------------------------------------------------------
     def set_theme(self, theme: Theme) -> None:
         """Interface colours of the strips."""
@@ -202,5 +221,6 @@ class ComparePanel(QtWidgets.QWidget):
                                 tooltips=tips, clipped=s.monitor_clipped)
             row.show()
         self.empty.setVisible(not strips)
+        self.updateGeometry()
         has_ab = self.model.ab_pin("A") is not None and self.model.ab_pin("B") is not None
         self.flip_button.setEnabled(has_ab)

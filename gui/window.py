@@ -420,7 +420,8 @@ class MainWindow(QtWidgets.QMainWindow):
         self.current.status.connect(lambda text: self.statusBar().showMessage(text, 4000))
         self.compare.status.connect(lambda text: self.statusBar().showMessage(text, 6000))
         self.compare.ab_requested.connect(self._ab_dialog)
-        events.pins.connect(lambda change: change.value and self.compare_dock.show())
+        events.pins.connect(lambda change: change.value and self.show_compare())
+        events.pins.connect(lambda _change: self._fit_compare())
         self.rendering.display.message.connect(
             lambda title, text: self.show_message(title, text))
 
@@ -489,8 +490,40 @@ class MainWindow(QtWidgets.QMainWindow):
                                                      "Starkiln settings (*.toml)")
         if not b:
             return False
-        self.compare_dock.show()
+        self.show_compare()
         return self.compare.load_ab(a, b)
+
+    def show_compare(self) -> None:
+        """Show the Compare panel: docked under the views where the window has the height for
+        it, else floating over the window's lower part (docked, it would squeeze the views
+        below their minimum)."""
+        dock = self.compare_dock
+        if dock.isVisible():
+            return
+        central = self.centralWidget()
+        room = central.height() - central.minimumSizeHint().height()
+        wanted = self.compare.wanted_height() + 24  # the dock's title bar
+        if self.isVisible() and room < wanted:
+            dock.setFloating(True)
+            dock.resize(round(self.width() * 0.9), wanted)
+            corner = self.mapToGlobal(QtCore.QPoint(round(self.width() * 0.05),
+                                                    self.height() - wanted - 30))
+            dock.move(corner)
+        dock.show()
+
+    def _fit_compare(self) -> None:
+        """Give the Compare panel the height its pins want, as far as the views leave room."""
+        dock = self.compare_dock
+        if not dock.isVisible():
+            return
+        wanted = self.compare.wanted_height() + 24
+        if dock.isFloating():
+            dock.resize(dock.width(), wanted)
+            return
+        central = self.centralWidget()
+        room = central.height() - central.minimumSizeHint().height()
+        height = max(min(wanted, dock.height() + max(room, 0)), dock.minimumSizeHint().height())
+        self.resizeDocks([dock], [height], QtCore.Qt.Orientation.Vertical)
 
     def profile_dir(self) -> Path:
         """Where Copy command line saves a custom display's JSON display profile."""

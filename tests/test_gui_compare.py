@@ -236,3 +236,34 @@ def test_compare_keys_are_bound_and_work(window, qapp):
     assert words[:4] == ["starkiln", "colour", "--temperature", "5772.0"]
     window.action_flip_ab.trigger()  # no A/B pair: said inline, nothing changes
     assert "no A/B pair" in window.compare.error.text()
+
+
+@pytest.mark.parametrize("size, floating", [((1024, 680), True), ((1280, 1100), False)])
+def test_pins_never_squeeze_the_views(qapp, size, floating):
+    """At the minimum size the panel floats over the window; where there is room it docks and
+    takes the height its pins want. Either way the views keep at least their own minimum
+    (Qt's minimumSizeHint) or what they had."""
+    from PySide6 import QtTest
+
+    from starkiln.gui import create_window
+
+    w = create_window(Settings(), 5772.0, store=None)
+    w.resize(*size)
+    w.show()
+    QtTest.QTest.qWaitForWindowExposed(w)
+    qapp.processEvents()
+    before = w.centralWidget().height()
+    for white in ("D65", "D50", "D75", "E"):
+        w.model.change(scene_white=white)
+        w.pin_current()
+    for _ in range(5):
+        qapp.processEvents()
+    assert w.compare_dock.isVisible() and w.compare_dock.isFloating() == floating
+    central = w.centralWidget()
+    assert central.height() >= min(before, central.minimumSizeHint().height())
+    rows = w.compare.rows
+    if not floating:  # every row shown whole, no scrolling
+        assert all(r.visibleRegion().boundingRect().height() == r.height() for r in rows)
+    w.close()
+    w.deleteLater()
+    qapp.processEvents()

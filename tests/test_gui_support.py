@@ -84,6 +84,7 @@ def reset_window(w):
     w.compare.show_error("")
     w.compare.at_magnitude.setChecked(False)
     w.compare_dock.hide()
+    w.compare_dock.setFloating(False)
     m.set_settings(Settings(), origin="file")
     m.set_magnitude(1.0)
     m.set_temperature(5772.0)
