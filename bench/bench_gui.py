@@ -16,7 +16,8 @@ Run: ``QT_QPA_PLATFORM=offscreen python bench/bench_gui.py [--steps 300] [--star
    platform is assumed to be) are printed beside them, with the same goal, and so are the
    steps in the dim theme with the demo dome display at its dome level (every painted
    colour converted and dimmed to 15 % in linear light), and the steps with four settings
-   pinned in the Compare panel (shown: four more strips in the window).
+   pinned in the Compare panel (shown: four more strips; at 1280 x 800 the panel floats
+   over the window, as it does when the window is too short to dock it).
 2. Cold start: a fresh interpreter (``python -c``) imports the window, builds
    it, shows it and reports when the first paint has been processed; timed
    from before the process is spawned to the moment its line arrives. Goal: < 2 s.
