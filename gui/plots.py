@@ -372,8 +372,10 @@ class SpectrumView(pg.PlotWidget):
         goes beside the peak's line (to the right while the peak lies in the left 70 % of the
         plot, else to the left; the other side next) with its foot at 1.06 of the curve's
         height; where that meets a caption it moves down a row at a time, to just under the
-        captions and lower, until it is free (:func:`_free`). Run at every new curve and
-        whenever the plot's size changes.
+        captions and lower, and then further aside (half its width at a time), until it is
+        free of the captions (:func:`_free`) and wholly above the curve; failing that, the
+        first spot free of the captions. Run at every new curve and whenever the plot's size
+        changes.
         """
         frame = _label_frame(self)
         if frame is None:
@@ -416,14 +418,31 @@ class SpectrumView(pg.PlotWidget):
         while y + h <= bounds.bottom():
             rows.append(y)
             y += h
-        spots = [QtCore.QRectF(line + gap if s > 0 else line - gap - w, y, w, h)
-                 for y in rows for s in sides]
-        chosen = next((r for r in spots if _free(r, bounds, placed)), None)
+        spots = [QtCore.QRectF(line + gap + shift if s > 0 else line - gap - w - shift, y, w, h)
+                 for shift in (0.0, 0.5 * w, w, 2.0 * w) for y in rows for s in sides]
+        chosen = next((r for r in spots if _free(r, bounds, placed)
+                       and self._above_curve(r, box)), None)
+        if chosen is None:  # no spot clear of the curve: clear of the captions at least
+            chosen = next((r for r in spots[:len(rows) * len(sides)]
+                           if _free(r, bounds, placed)), None)
         if chosen is None:  # a plot too small for any free spot: keep the text readable
             r = spots[0]
             chosen = r.translated(min(max(r.left(), bounds.left()), bounds.right() - w)
                                   - r.left(), 0.0)
         _set_centre(item, box, chosen)
+
+    def _above_curve(self, rect: QtCore.QRectF, box: pg.ViewBox) -> bool:
+        """Whether ``rect`` (scene px) lies wholly above the drawn curve (and its outline)."""
+        x, y = self.curve.x, self.curve.y
+        if len(x) == 0:
+            return True
+        a = box.mapSceneToView(rect.bottomLeft())
+        b = box.mapSceneToView(rect.bottomRight())
+        i0, i1 = np.searchsorted(x, [a.x(), b.x()])
+        i0, i1 = max(i0 - 1, 0), min(i1 + 1, len(x))
+        top = float(np.max(y[i0:i1])) if i1 > i0 else 0.0
+        curve_top = box.mapViewToScene(QtCore.QPointF(a.x(), top)).y()
+        return rect.bottom() + 0.5 * OUTLINE_WIDTH + LABEL_PAD_PX <= curve_top
 
     @property
     def peak_text(self) -> str:
