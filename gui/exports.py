@@ -7,7 +7,11 @@
 and writes atomically, so a file written here is byte-identical to the command line's with
 the same settings and options. The previews are built by the functions those exports use
 (:func:`~starkiln.engine.exports.textures.build_lut` at a reduced size for large textures,
-:func:`~starkiln.engine.exports.palettes.build_palette`).
+:func:`~starkiln.engine.exports.palettes.build_palette`). What a preview paints is converted
+from the chosen display's colours to the monitor at the viewing level, as every colour the
+window paints is (:func:`~starkiln.engine.colour.monitor.rendered_on_monitor` for the palette's
+swatches, :func:`~starkiln.engine.colour.monitor.encoded_on_monitor` for the contact sheet and
+the texture); the files keep the display's values.
 """
 
 from __future__ import annotations
@@ -139,7 +143,18 @@ class _ExportDialog(QtWidgets.QDialog):
         return True
 
     def _show_array(self, rgb8: np.ndarray) -> None:
-        img = _array_image(rgb8)
+        """Paint an image of the display's 8-bit code values, converted to the monitor.
+
+        ``preview_image`` keeps the display's values (the file's pixels at 8 bits),
+        ``preview_monitor_image`` is what is painted."""
+        from starkiln.engine.colour.monitor import encoded_on_monitor
+
+        m = self.model
+        display_rgb8 = np.ascontiguousarray(rgb8[..., :3], dtype=np.uint8)
+        shown, _clipped = encoded_on_monitor(display_rgb8, m.settings.display, m.monitor,
+                                             m.viewing_level)
+        self.preview_image = _array_image(display_rgb8)
+        img = self.preview_monitor_image = _array_image(shown)
         area = self.preview.size()
         pix = QtGui.QPixmap.fromImage(img)
         if pix.width() < area.width() // 2:
@@ -149,7 +164,6 @@ class _ExportDialog(QtWidgets.QDialog):
             pix = pix.scaled(area, QtCore.Qt.AspectRatioMode.KeepAspectRatio,
                              QtCore.Qt.TransformationMode.SmoothTransformation)
         self.preview.setPixmap(pix)
-        self.preview_image = img
 
 
 class LutDialog(_ExportDialog):
@@ -406,13 +420,17 @@ class PaletteDialog(_ExportDialog):
         return build_palette(self.model.settings, **self.palette_options())
 
     def _preview(self) -> None:
+        from starkiln.engine.colour.monitor import rendered_on_monitor
         from starkiln.engine.exports.contact_sheets import sheet_image
         from starkiln.engine.exports.palettes import palette_format_for_path
 
         path = Path(self.path.text().strip() or self.default_name)
         fmt = palette_format_for_path(path)
         palette = self._build()
-        self.strip.set_cells(palette.rgb_8bit, tooltips=[
+        m = self.model  # painted on the monitor; the tooltips keep the display's values
+        shown, clipped = rendered_on_monitor(palette.rendered, m.monitor,
+                                             viewing_level=m.viewing_level)
+        self.strip.set_cells(shown, clipped=clipped, tooltips=[
             f"{n}  {h}" for n, h in zip(palette.names, palette.hex)])
         if fmt == "sheet":
             img = sheet_image(palette, self.name.text().strip() or None)

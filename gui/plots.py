@@ -26,6 +26,124 @@ OVERLAYS = {  # key -> (legend text, engine curve keys)
 OUTLINE_WIDTH = 4.0
 
 
+#: Gap (px) between a label and the point or line it names.
+LABEL_GAP_PX = 4.0
+#: Room (px) kept free around a placed label, so that labels never touch.
+LABEL_PAD_PX = 2.0
+#: Turns (degrees) tried away from a label's preferred direction, in order.
+LABEL_TURNS_DEG = (0.0, 30.0, -30.0, 60.0, -60.0, 90.0, -90.0)
+
+
+def _text_size(item: pg.TextItem) -> tuple[float, float]:
+    """Width and height (scene px) of a text item's text; a TextItem is drawn unscaled."""
+    r = item.textItem.boundingRect()
+    return float(r.width()), float(r.height())
+
+
+def _rect_beside(point: QtCore.QPointF, direction, size, gap: float) -> QtCore.QRectF:
+    """The rectangle of ``size`` (w, h px) whose nearest side lies ``gap`` px from ``point``
+    along the unit ``direction`` (scene px, y down)."""
+    dx, dy = direction
+    w, h = size
+    reach = gap + 0.5 * (abs(dx) * w + abs(dy) * h)  # centre to the side facing the point
+    cx, cy = point.x() + dx * reach, point.y() + dy * reach
+    return QtCore.QRectF(cx - 0.5 * w, cy - 0.5 * h, w, h)
+
+
+def _turned(direction, degrees: float):
+    a = np.radians(degrees)
+    dx, dy = direction
+    return (dx * np.cos(a) - dy * np.sin(a), dx * np.sin(a) + dy * np.cos(a))
+
+
+def _free(rect: QtCore.QRectF, bounds: QtCore.QRectF, taken) -> bool:
+    if not bounds.contains(rect):
+        return False
+    grown = rect.adjusted(-LABEL_PAD_PX, -LABEL_PAD_PX, LABEL_PAD_PX, LABEL_PAD_PX)
+    return not any(grown.intersects(r) for r in taken)
+
+
+def place_labels(wanted, bounds: QtCore.QRectF, taken=()) -> list[QtCore.QRectF | None]:
+    """Greedy label placement: each label, in priority order, takes the first free spot.
+
+    Parameters
+    ----------
+    wanted : sequence of (point, size, directions)
+        In priority order: the point named (scene px), the label's size (w, h px) and the
+        unit directions (scene px, y down) to try, best first.
+    bounds : QRectF
+        Where labels may lie (the plot's view box): a label is never cut by its edge.
+    taken : sequence of QRectF
+        Rectangles already occupied (other labels).
+
+    Returns
+    -------
+    list of QRectF or None
+        Where each label goes, None for a label dropped because every spot collides.
+
+    Notes
+    -----
+    The rule, for every label: try its directions in order, first at :data:`LABEL_GAP_PX`
+    then at three times that from the point; the first rectangle inside ``bounds`` and at
+    least :data:`LABEL_PAD_PX` from every rectangle placed before is kept; a label with no
+    such spot is dropped, so a label of lower priority gives way. Greedy placement in
+    priority order is common practice in map and chart labelling.
+    """
+    placed = list(taken)
+    out = []
+    for point, size, directions in wanted:
+        chosen = None
+        for gap in (LABEL_GAP_PX, 3.0 * LABEL_GAP_PX):
+            for d in directions:
+                r = _rect_beside(point, d, size, gap)
+                if _free(r, bounds, placed):
+                    chosen = r
+                    break
+            if chosen is not None:
+                break
+        if chosen is not None:
+            placed.append(chosen)
+        out.append(chosen)
+    return out
+
+
+def _set_centre(item: pg.TextItem, box: pg.ViewBox, rect: QtCore.QRectF | None) -> None:
+    """Show ``item`` centred on ``rect`` (scene px), or hide it for None."""
+    if rect is None:
+        item.setVisible(False)
+        return
+    item.setAnchor((0.5, 0.5))
+    item.setPos(box.mapSceneToView(rect.center()))
+    item.setVisible(True)
+
+
+def _label_frame(view: pg.PlotWidget):
+    """The view box of ``view``, its scene rectangle and a view-to-scene point mapping, or
+    None while the plot has no size yet."""
+    box = view.getPlotItem().getViewBox()
+    bounds = box.sceneBoundingRect()
+    if bounds.width() < 2 or bounds.height() < 2:
+        return None
+
+    def at(x, y):
+        return box.mapViewToScene(QtCore.QPointF(float(x), float(y)))
+
+    return box, bounds, at
+
+
+def _normal_px(box: pg.ViewBox, curve_xy: np.ndarray, xy) -> tuple[float, float]:
+    """Unit normal (scene px, y down) of the curve ``curve_xy`` (N, 2, view units) at its
+    point nearest ``xy``, by the central difference of its neighbours; its sign is the
+    caller's to choose."""
+    i = int(np.argmin(np.hypot(curve_xy[:, 0] - xy[0], curve_xy[:, 1] - xy[1])))
+    a, b = curve_xy[max(i - 1, 0)], curve_xy[min(i + 1, len(curve_xy) - 1)]
+    pa = box.mapViewToScene(QtCore.QPointF(float(a[0]), float(a[1])))
+    pb = box.mapViewToScene(QtCore.QPointF(float(b[0]), float(b[1])))
+    tx, ty = pb.x() - pa.x(), pb.y() - pa.y()
+    n = float(np.hypot(tx, ty)) or 1.0
+    return (-ty / n, tx / n)
+
+
 def _pen(colour: str, width: float = 1.5, style=QtCore.Qt.PenStyle.SolidLine) -> QtGui.QPen:
     pen = pg.mkPen(QtGui.QColor(colour), width=width)
     pen.setStyle(style)
@@ -161,6 +279,7 @@ class SpectrumView(pg.PlotWidget):
         self._overlay_on = {k: False for k in OVERLAYS}
         self._peak_nm = float("nan")
         self.set_theme(DIM)
+        plot.getViewBox().sigResized.connect(lambda *_a: self._place_labels())
         model.events.plots.connect(lambda _change: self._show_plots())
         model.events.temperature.connect(lambda _change: self._show_curve())
         self._show_plots()
@@ -242,6 +361,88 @@ class SpectrumView(pg.PlotWidget):
                 self.peak_label.setText(f"peak {c.peak_nm:,.0f} nm (infrared) \u25b6")
                 self.peak_label.setAnchor((1.0, 1.0))
                 self.peak_label.setPos(hi, 1.06)
+        self._place_labels()
+
+    def _place_labels(self) -> None:
+        """Place the region captions and the peak label so that none meets another.
+
+        The rule: the captions sit in a row along the plot's top, "visible" first, then
+        "infrared", then "UV", each centred over its region, or pushed against the plot's
+        nearer side edge if that spot is taken, or hidden if neither is free. The peak label
+        goes beside the peak's line (to the right while the peak lies in the left 70 % of the
+        plot, else to the left; the other side next) with its foot at 1.06 of the curve's
+        height; where that meets a caption it moves down a row at a time, to just under the
+        captions and lower, and then further aside (half its width at a time), until it is
+        free of the captions (:func:`_free`) and wholly above the curve; failing that, the
+        first spot free of the captions. Run at every new curve and whenever the plot's size
+        changes.
+        """
+        frame = _label_frame(self)
+        if frame is None:
+            return
+        box, bounds, at = frame
+
+        lo, hi = SPECTRUM_PLOT_RANGE_NM
+        a, b = VISIBLE_BAND_NM
+        top = bounds.top() + LABEL_PAD_PX
+        placed: list[QtCore.QRectF] = []
+        for k, x_nm, side in ((1, 0.5 * (a + b), 0), (2, 2150.0, 1), (0, 0.5 * (lo + a), -1)):
+            item = self.region_labels[k]
+            w, h = _text_size(item)
+            left, right = bounds.left() + LABEL_PAD_PX, bounds.right() - LABEL_PAD_PX - w
+            natural = min(max(at(x_nm, 1.0).x() - 0.5 * w, left), right)
+            spots = [natural] + ([left] if side < 0 else [right] if side > 0 else [])
+            chosen = None
+            for x in spots:
+                r = QtCore.QRectF(x, top, w, h)
+                if _free(r, bounds, placed):
+                    chosen = r
+                    break
+            if chosen is not None:
+                placed.append(chosen)
+            _set_centre(item, box, chosen)
+        captions_bottom = max((r.bottom() for r in placed), default=top)
+        item = self.peak_label
+        w, h = _text_size(item)
+        peak = self._peak_nm
+        if lo <= peak <= hi:
+            line = at(peak, 1.0).x()
+            sides = (1, -1) if peak < 0.7 * hi else (-1, 1)
+            gap = LABEL_GAP_PX
+        else:  # off the plot: against the side it lies beyond
+            line = bounds.left() if peak < lo else bounds.right()
+            sides = (1,) if peak < lo else (-1,)
+            gap = LABEL_PAD_PX
+        rows = [at(lo, 1.06).y() - h]
+        y = captions_bottom + LABEL_PAD_PX + 1.0
+        while y + h <= bounds.bottom():
+            rows.append(y)
+            y += h
+        spots = [QtCore.QRectF(line + gap + shift if s > 0 else line - gap - w - shift, y, w, h)
+                 for shift in (0.0, 0.5 * w, w, 2.0 * w) for y in rows for s in sides]
+        chosen = next((r for r in spots if _free(r, bounds, placed)
+                       and self._above_curve(r, box)), None)
+        if chosen is None:  # no spot clear of the curve: clear of the captions at least
+            chosen = next((r for r in spots[:len(rows) * len(sides)]
+                           if _free(r, bounds, placed)), None)
+        if chosen is None:  # a plot too small for any free spot: keep the text readable
+            r = spots[0]
+            chosen = r.translated(min(max(r.left(), bounds.left()), bounds.right() - w)
+                                  - r.left(), 0.0)
+        _set_centre(item, box, chosen)
+
+    def _above_curve(self, rect: QtCore.QRectF, box: pg.ViewBox) -> bool:
+        """Whether ``rect`` (scene px) lies wholly above the drawn curve (and its outline)."""
+        x, y = self.curve.x, self.curve.y
+        if len(x) == 0:
+            return True
+        a = box.mapSceneToView(rect.bottomLeft())
+        b = box.mapSceneToView(rect.bottomRight())
+        i0, i1 = np.searchsorted(x, [a.x(), b.x()])
+        i0, i1 = max(i0 - 1, 0), min(i1 + 1, len(x))
+        top = float(np.max(y[i0:i1])) if i1 > i0 else 0.0
+        curve_top = box.mapViewToScene(QtCore.QPointF(a.x(), top)).y()
+        return rect.bottom() + 0.5 * OUTLINE_WIDTH + LABEL_PAD_PX <= curve_top
 
     @property
     def peak_text(self) -> str:
@@ -306,6 +507,9 @@ class ChromaticityView(pg.PlotWidget):
         self._star_xy = (float("nan"), float("nan"))
         self.set_theme(DIM)
         self.set_zoom("whole")
+        box = plot.getViewBox()  # a new size or range places the labels again
+        box.sigResized.connect(lambda *_a: self._place_labels())
+        box.sigRangeChanged.connect(lambda *_a: self._place_labels())
         model.events.plots.connect(lambda _change: self._show_plots())
         model.events.temperature.connect(lambda _change: self._show_star())
         self._show_plots()
@@ -364,14 +568,13 @@ class ChromaticityView(pg.PlotWidget):
             plot.removeItem(item)
         self.tick_labels = []
         for t, (x, y) in zip(d.tick_temperature_K, d.tick_xy):
-            item = pg.TextItem(f"{t:.0f} K", anchor=(0.0, -0.15))
+            item = pg.TextItem(f"{t:.0f} K", anchor=(0.5, 0.5))
             item.setPos(x, y)
             plot.addItem(item)
             self.tick_labels.append((float(t), item))
         self.wavelength_labels = []
         for wl, (x, y) in zip(d.spectral_tick_nm, d.spectral_tick_xy):
-            anchor = (1.15, 0.5) if x < 0.2 else (-0.2, 0.6)
-            item = pg.TextItem(f"{wl:.0f}", anchor=anchor)
+            item = pg.TextItem(f"{wl:.0f}", anchor=(0.5, 0.5))
             item.setPos(x, y)
             plot.addItem(item)
             self.wavelength_labels.append(item)
@@ -408,7 +611,61 @@ class ChromaticityView(pg.PlotWidget):
         self._label_visibility()
 
     def _label_visibility(self) -> None:
-        for t, item in self.tick_labels:
-            item.setVisible(self._zoom == "locus" or t in WHOLE_LABELS_K)
+        self._place_labels()
+
+    def _place_labels(self) -> None:
+        """Place the temperature and wavelength labels so that none overlaps another.
+
+        The rule (:func:`place_labels`): temperature labels first, the round ones
+        (:data:`WHOLE_LABELS_K`) before the others, each offset from its tick along the
+        Planckian locus's normal, below the locus first (away from the spectral locus),
+        above it next; then the wavelength labels, every other one first (460, 500, 540,
+        ... nm), each offset outward along the spectral locus's normal (away from the
+        equal-energy white, x = y = 1/3), turned up to 90 degrees either way if that spot
+        is taken. A label that finds no free spot inside the plot is hidden. The whole
+        diagram shows the round temperatures only, the locus view every temperature and no
+        wavelength. Run again whenever the plot's size or range changes.
+        """
+        d = self.diagram
+        if d is None or not self.tick_labels and not self.wavelength_labels:
+            return
+        frame = _label_frame(self)
+        if frame is None:
+            return
+        box, bounds, at = frame
+
+        wanted, items = [], []
+        temps = [(t, item, xy) for (t, item), xy in zip(self.tick_labels, d.tick_xy)
+                 if self._zoom == "locus" or t in WHOLE_LABELS_K]
+        temps.sort(key=lambda e: e[0] not in WHOLE_LABELS_K)  # stable: round ones first
+        for t, item, xy in temps:
+            nx, ny = _normal_px(box, d.planckian_xy, xy)
+            down = (nx, ny) if ny >= 0 else (-nx, -ny)
+            up = (-down[0], -down[1])
+            dirs = [_turned(down, a) for a in LABEL_TURNS_DEG[:5]] + \
+                [_turned(up, a) for a in LABEL_TURNS_DEG[:5]]
+            wanted.append((at(*xy), _text_size(item), dirs))
+            items.append(item)
+        shown = set(id(i) for i in items)
+        if self._zoom != "locus":
+            white = at(1.0 / 3.0, 1.0 / 3.0)
+            order = sorted(range(len(self.wavelength_labels)),
+                           key=lambda k: int(round(d.spectral_tick_nm[k] - 460.0)) % 40 != 0)
+            for k in order:
+                item, xy = self.wavelength_labels[k], d.spectral_tick_xy[k]
+                p = at(*xy)
+                nx, ny = _normal_px(box, d.spectral_locus_xy, xy)
+                if nx * (p.x() - white.x()) + ny * (p.y() - white.y()) < 0:
+                    nx, ny = -nx, -ny  # outward, away from the white
+                wanted.append((p, _text_size(item), [_turned((nx, ny), a)
+                                                     for a in LABEL_TURNS_DEG]))
+                items.append(item)
+                shown.add(id(item))
+        for item, rect in zip(items, place_labels(wanted, bounds)):
+            _set_centre(item, box, rect)
+        for _t, item in self.tick_labels:
+            if id(item) not in shown:
+                item.setVisible(False)
         for item in self.wavelength_labels:
-            item.setVisible(self._zoom != "locus")
+            if id(item) not in shown:
+                item.setVisible(False)

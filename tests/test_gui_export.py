@@ -113,12 +113,15 @@ def test_palette_dialog_matches_the_command_line(window, tmp_path, capsys, suffi
     _cli(["palette", str(cli_out), "--settings", str(toml), "--temperatures", "2500:12000",
           "--steps", "7", "--axis", "mired", "--name", "Kiln dome test"], capsys)
     assert gui_out.read_bytes() == cli_out.read_bytes()
-    # the preview strip shows the palette's own 8-bit colours
+    # the preview strip shows the palette's own colours converted to the monitor (issue 12,
+    # item 1: the file keeps the display's values, the window paints the monitor's)
+    from starkiln.engine.colour.monitor import rendered_on_monitor
     from starkiln.engine.exports.palettes import build_palette
 
     p = build_palette(window.model.settings, range_K=(2500.0, 12000.0), steps=7, axis="mired")
+    shown, _ = rendered_on_monitor(p.rendered, window.model.monitor)
     assert d.strip.cell_count == 7
-    assert all(d.strip.cell_colour(i) == tuple(int(v) for v in p.rgb_8bit[i]) for i in range(7))
+    assert all(d.strip.cell_colour(i) == tuple(int(v) for v in shown[i]) for i in range(7))
 
 
 def test_palette_classes_match_the_command_line(window, tmp_path, capsys):

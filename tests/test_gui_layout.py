@@ -264,10 +264,6 @@ def _plot_label_problems(view, where):
     return out
 
 
-@pytest.mark.xfail(strict=True, reason="known, not yet fixed: the diagram's wavelength and "
-                   "temperature labels collide in the whole view below 4K and near the locus "
-                   "at 1024 x 680, and the spectrum's peak label meets 'visible' at 1024 x 680; "
-                   "the labels are placed in gui/plots.py (issue 12, item 4)")
 @pytest.mark.parametrize("zoom", ["whole", "locus"])
 def test_chromaticity_and_spectrum_labels_do_not_collide(window, qapp, zoom):
     window.zoom.setCurrentIndex(window.zoom.findData(zoom))
@@ -278,3 +274,23 @@ def test_chromaticity_and_spectrum_labels_do_not_collide(window, qapp, zoom):
         seen += _plot_label_problems(window.spectrum, f"{size} spectrum")
     _settle(qapp, window, (1280, 800))
     assert not seen, "\n".join(seen)
+
+
+def test_label_placement_rule_gives_way_and_keeps_inside():
+    # the rule of gui/plots.place_labels: first free spot in priority order, never past the
+    # bounds, a label with no free spot dropped (plain rectangle geometry)
+    from starkiln.gui.plots import LABEL_GAP_PX, place_labels
+
+    bounds = QtCore.QRectF(0.0, 0.0, 200.0, 100.0)
+    right, left = (1.0, 0.0), (-1.0, 0.0)
+    wanted = [(QtCore.QPointF(100.0, 50.0), (40.0, 20.0), [right]),
+              (QtCore.QPointF(100.0, 50.0), (40.0, 20.0), [right, left]),  # right is taken
+              (QtCore.QPointF(100.0, 50.0), (40.0, 20.0), [right, left]),  # both taken
+              (QtCore.QPointF(195.0, 10.0), (40.0, 20.0), [right, left])]  # right leaves
+    first, second, third, fourth = place_labels(wanted, bounds)
+    assert first.left() == pytest.approx(100.0 + LABEL_GAP_PX)
+    assert second.right() == pytest.approx(100.0 - LABEL_GAP_PX)
+    assert third is None
+    assert fourth.right() == pytest.approx(195.0 - LABEL_GAP_PX)
+    assert all(bounds.contains(r) for r in (first, second, fourth))
+    assert not first.intersects(second)

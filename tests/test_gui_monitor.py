@@ -187,3 +187,82 @@ def test_monitor_option_reaches_the_window(qapp, tmp_path):
         w.deleteLater()
     out = screenshot(tmp_path / "p3.png", monitor="display-p3")
     assert out.exists()
+
+
+def _p3_decoded(code_8bit):
+    """colour-science: Display P3 code values (its sRGB-curve encoding, [EG432-1]) to linear."""
+    return colour.cctf_decoding(np.asarray(code_8bit, float) / 255.0, "sRGB")
+
+
+def _palette_dialog(window, tmp_path, name):
+    d = window.export_dialog("palette")
+    d.path.setText(str(tmp_path / name))
+    d.steps.setText("8")
+    assert d.refresh_preview()
+    return d
+
+
+def test_palette_preview_strip_is_converted_for_the_monitor(window, tmp_path):
+    from starkiln.engine.colour.monitor import monitor_rgb_8bit
+
+    _choose_display(window, "display-p3")
+    d = _palette_dialog(window, tmp_path, "p.json")
+    palette = d._build()
+    lin = palette.rendered.rgb_linear
+    expected, _ = _on_srgb(lin, "Display P3")  # colour-science, [EG432-1] primaries
+    ours, _ = monitor_rgb_8bit(lin, "display-p3", "srgb")
+    for i in range(len(palette.names)):
+        pixel = _cell_pixel(d.strip, i)
+        _close(pixel, expected[i])
+        _close(pixel, ours[i])
+    # the conversion really happened: P3 code values are not what the strip paints
+    assert not np.array_equal(np.array([_cell_pixel(d.strip, 0)]), palette.rgb_8bit[:1])
+    d.close()
+
+
+def test_contact_sheet_preview_is_converted_and_the_file_keeps_the_display_values(
+        window, tmp_path):
+    from starkiln.engine.exports.contact_sheets import sheet_swatch_boxes
+
+    _choose_display(window, "display-p3")
+    d = _palette_dialog(window, tmp_path, "sheet.png")
+    palette = d._build()
+    img, codes = d.preview_monitor_image, d.preview_image  # painted, and the file's pixels
+    boxes = sheet_swatch_boxes(len(palette.names))
+    for i, (left, top, right, bottom) in enumerate(boxes):
+        cx, cy = (left + right) // 2, (top + bottom) // 2
+        f = codes.pixelColor(cx, cy)
+        file_px = np.array([f.red(), f.green(), f.blue()])
+        assert file_px.tolist() == palette.rgb_8bit[i].tolist()  # the display's values
+        expected, _ = _on_srgb(_p3_decoded(file_px), "Display P3")
+        c = img.pixelColor(cx, cy)
+        _close((c.red(), c.green(), c.blue()), expected)
+    assert d.export()
+    written = QtGui.QImage(str(tmp_path / "sheet.png")).convertToFormat(
+        QtGui.QImage.Format.Format_RGB888)
+    left, top, right, bottom = boxes[0]
+    c = written.pixelColor((left + right) // 2, (top + bottom) // 2)
+    assert [c.red(), c.green(), c.blue()] == palette.rgb_8bit[0].tolist()
+    d.close()
+
+
+def test_texture_preview_is_converted_at_the_viewing_level(window):
+    _choose_display(window, "display-p3")
+    window.model.set_viewing_level(0.5)
+    try:
+        d = window.export_dialog("lut")
+        assert d.refresh_preview()
+        codes, img = d.preview_image, d.preview_monitor_image  # the file's, and painted
+        w, h = codes.width(), codes.height()
+        for x, y in ((0, 0), (w // 2, h // 2), (w - 1, h - 1)):
+            f = codes.pixelColor(x, y)
+            lin = colour.RGB_to_RGB(_p3_decoded([f.red(), f.green(), f.blue()]),
+                                    _space("Display P3"),
+                                    _space("sRGB"), chromatic_adaptation_transform="Bradford")
+            # dimmed in the monitor's linear light (starkiln.engine.colour.viewing)
+            expected = 255.0 * colour.cctf_encoding(0.5 * np.clip(lin, 0.0, 1.0), "sRGB")
+            c = img.pixelColor(x, y)
+            _close((c.red(), c.green(), c.blue()), expected)
+        d.close()
+    finally:
+        window.model.set_viewing_level(1.0)

@@ -179,3 +179,30 @@ def test_monitor_option_bad_value_exits_2(tmp_path, capsys):
     assert "working space" in err and len(err.splitlines()) == 1
     assert not out.exists()
     assert main(["--monitor", "srgb", "displays"]) == 2  # a window option with a command
+
+
+def test_encoded_image_on_the_monitor_matches_colour_science():
+    from starkiln.engine.colour.monitor import encoded_on_monitor
+
+    rng = np.random.default_rng(12)
+    codes = rng.integers(0, 256, (16, 9, 3)).astype(np.uint8)
+    got, clipped = encoded_on_monitor(codes, "display-p3", "srgb")
+    # Display P3 code values use the sRGB curve ([EG432-1] primaries, [IEC61966-2-1] curve)
+    lin = colour.RGB_to_RGB(colour.cctf_decoding(codes / 255.0, "sRGB"),
+                            _derived("Display P3"), _derived("sRGB"),
+                            chromatic_adaptation_transform="Bradford")
+    expected = 255.0 * colour.cctf_encoding(np.clip(lin, 0.0, 1.0), "sRGB")
+    assert got.shape == codes.shape and got.dtype == np.uint8
+    assert np.abs(got - expected).max() <= 1.0
+    assert np.array_equal(clipped, np.any((lin < -1e-4) | (lin > 1 + 1e-4), axis=-1))
+    with_alpha = np.concatenate([codes, np.full(codes.shape[:2] + (1,), 7, np.uint8)], -1)
+    assert np.array_equal(encoded_on_monitor(with_alpha, "display-p3", "srgb")[0], got)
+
+
+def test_encoded_image_must_be_8bit_rgb():
+    from starkiln.engine.colour.monitor import encoded_on_monitor
+
+    with pytest.raises(SettingsError, match=r"float64 with shape \(2, 3\) is not 8-bit RGB"):
+        encoded_on_monitor(np.zeros((2, 3)), "srgb")
+    with pytest.raises(SettingsError, match="integers 0-255"):
+        encoded_on_monitor([[0, 256, 0]], "srgb")

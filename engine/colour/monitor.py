@@ -192,6 +192,56 @@ def rendered_on_monitor(rendered, monitor=SRGB_MONITOR, dimmed: bool = False,
     return monitor_rgb_8bit(rgb, rendered.display, monitor, viewing_level)
 
 
+def encoded_on_monitor(rgb_8bit_display, display, monitor=SRGB_MONITOR,
+                       viewing_level: float = 1.0):
+    """:func:`monitor_rgb_8bit` of an image held in a display's 8-bit code values.
+
+    For previews of what a file will show (a contact sheet, a texture): each code value is
+    decoded with the display's transfer function (one 256-entry table per channel), then
+    converted as :func:`monitor_rgb_8bit` converts. The file keeps the display's values; only
+    what the window paints is converted.
+
+    Parameters
+    ----------
+    rgb_8bit_display : array_like of integers 0-255, (..., 3) or (..., 4)
+        The display's 8-bit code values (an alpha channel is ignored).
+    display : Display or str
+        What the code values are for.
+    monitor : Display or str
+        The monitor (default sRGB).
+    viewing_level : float
+        As :func:`monitor_rgb_8bit`.
+
+    Returns
+    -------
+    (numpy.ndarray of uint8, numpy.ndarray of bool)
+        As :func:`monitor_rgb_8bit`, of shape (..., 3) and (...,).
+
+    References
+    ----------
+    As :func:`monitor_rgb_8bit`; the display's transfer function as in
+    :func:`starkiln.engine.colour.displays.decode`.
+
+    Examples
+    --------
+    On the same display and monitor the code values come back unchanged:
+
+    >>> encoded_on_monitor([[12, 128, 250]], "srgb", "srgb")[0].tolist()
+    [[12, 128, 250]]
+    """
+    display = get_display(display)
+    codes = np.asarray(rgb_8bit_display)
+    if not np.issubdtype(codes.dtype, np.integer) or codes.ndim == 0 or \
+            codes.shape[-1] not in (3, 4) or (codes.size and (codes.min() < 0
+                                                                or codes.max() > 255)):
+        raise SettingsError(f"image of {codes.dtype} with shape {codes.shape} is not 8-bit "
+                            "RGB; accepted: integers 0-255 of shape (..., 3) or (..., 4)")
+    ramp = np.repeat((np.arange(256.0) / 255.0)[:, None], 3, axis=1)
+    table = display.decode(ramp)  # (256, 3): each channel's linear value per code
+    rgb = np.stack([table[codes[..., c], c] for c in range(3)], axis=-1)
+    return monitor_rgb_8bit(rgb, display, monitor, viewing_level)
+
+
 def monitor_from_primaries(primaries, white_xy=None, transfer: str = "srgb",
                            gamma: float = 2.2, name: str = "monitor") -> Display:
     """The monitor's Display from what the platform reports of its colour space.
