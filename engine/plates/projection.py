@@ -252,7 +252,7 @@ def fisheye_valid_pixels(spec: PlateSpec) -> np.ndarray:
     Parameters
     ----------
     spec : PlateSpec
-        A fisheye spec.
+        The fisheye plate (its size; the circle is the same for every field of view).
 
     Returns
     -------
