@@ -1,0 +1,165 @@
+"""Benchmark: drawing star plates (issue 13, the engine core: projection + deposit).
+
+Prints measured figures beside the goals, with ratios, in one run:
+
+- 120 000 stars into a 4096 x 4096 fisheye (ARC), float32 RGB: goal < 1 s;
+- 1 M and 10 M stars into an 8192 x 4096 equirectangular (CAR) float32 RGB plate, the stars
+  streamed in chunks of 1 M (bounded memory: the image plus a chunk): goal 10 M < 20 s, peak
+  resident memory < 2 GB (the 10 M run in a separate process);
+- the slope in stars (s per million between 1 M and 10 M) and in pixels (the same 1 M stars on
+  a plate of a quarter of the pixels);
+- side by side, a plain per-star loop (each star its own small numpy slice, the same
+  pixel-integrated Gaussian), timed on a sample and scaled: goal >= 50x.
+
+The stars are invented (uniform on the sphere, random colours), not catalogue rows.
+
+Usage::
+
+    python bench/bench_plates.py [--big-stars 10000000] [--sample 3000]
+"""
+
+from __future__ import annotations
+
+import argparse
+import math
+import resource
+import subprocess
+import sys
+import time
+
+import numpy as np
+
+GOAL_FISHEYE_S = 1.0
+GOAL_BIG_S = 20.0
+GOAL_RSS_MB = 2048.0
+GOAL_LOOP_RATIO = 50.0
+SIGMA_PX = 0.7
+CHUNK = 1_000_000
+
+
+def _stars(rng, n):
+    lon = rng.uniform(0.0, 360.0, n)
+    lat = np.degrees(np.arcsin(rng.uniform(-1.0, 1.0, n)))
+    values = rng.uniform(0.0, 1.0, (n, 3)).astype(np.float32)
+    return lon, lat, values
+
+
+def draw_equirect(n_stars, height, seed=1):
+    """Seconds to draw ``n_stars`` into a 2h x h float32 plate, streamed in chunks."""
+    from starkiln.engine.plates.drawing import deposit
+    from starkiln.engine.plates.projection import PlateSpec, project
+    spec = PlateSpec("equirect", 2 * height, height)
+    image = np.zeros((height, 2 * height, 3), np.float32)
+    rng = np.random.default_rng(seed)
+    t = 0.0
+    for lo in range(0, n_stars, CHUNK):
+        lon, lat, values = _stars(rng, min(CHUNK, n_stars - lo))
+        t0 = time.perf_counter()
+        x, y, _, inside = project(lon, lat, spec)
+        deposit(image, x[inside], y[inside], values[inside], SIGMA_PX, wrap_x=True)
+        t += time.perf_counter() - t0
+    return t, image
+
+
+def draw_fisheye(n_stars, size, seed=2):
+    from starkiln.engine.plates.drawing import deposit
+    from starkiln.engine.plates.projection import PlateSpec, fisheye_valid_pixels, project
+    spec = PlateSpec("fisheye", size, size)
+    rng = np.random.default_rng(seed)
+    lon, lat, values = _stars(rng, n_stars)
+    image = np.zeros((size, size, 3), np.float32)
+    t0 = time.perf_counter()
+    valid = fisheye_valid_pixels(spec)
+    x, y, _, inside = project(lon, lat, spec)
+    deposit(image, x[inside], y[inside], values[inside], SIGMA_PX, valid=valid)
+    return time.perf_counter() - t0, int(inside.sum())
+
+
+def per_star_loop(n_sample, height, seed=3):
+    """Seconds per star for a plain loop: each star its own small numpy slice."""
+    from scipy.special import erf
+    from starkiln.engine.plates.projection import PlateSpec, project
+    spec = PlateSpec("equirect", 2 * height, height)
+    image = np.zeros((height, 2 * height, 3), np.float32)
+    rng = np.random.default_rng(seed)
+    lon, lat, values = _stars(rng, n_sample)
+    x, y, _, _ = project(lon, lat, spec)
+    k = math.ceil(4 * SIGMA_PX)
+    offs = np.arange(-k, k + 2)
+    t0 = time.perf_counter()
+    for i in range(n_sample):
+        cx, cy = int(x[i]), int(y[i])
+        ex = erf((cx + offs - x[i]) / (SIGMA_PX * math.sqrt(2)))
+        ey = erf((cy + offs - y[i]) / (SIGMA_PX * math.sqrt(2)))
+        wx = np.diff(ex) / (ex[-1] - ex[0])
+        wy = np.diff(ey) / (ey[-1] - ey[0])
+        r0, r1 = max(cy - k, 0), min(cy + k + 1, height)
+        c0, c1 = max(cx - k, 0), min(cx + k + 1, 2 * height)
+        patch = np.outer(wy, wx)[r0 - (cy - k):r1 - (cy - k), c0 - (cx - k):c1 - (cx - k)]
+        image[r0:r1, c0:c1] += patch[:, :, None] * values[i]
+    return (time.perf_counter() - t0) / n_sample
+
+
+def _child(n_stars):
+    t, _ = draw_equirect(n_stars, 4096)
+    rss_mb = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024.0
+    print(f"{t} {rss_mb}")
+
+
+def main():
+    ap = argparse.ArgumentParser()
+    ap.add_argument("--big-stars", type=int, default=10_000_000)
+    ap.add_argument("--sample", type=int, default=3000)
+    ap.add_argument("--child", type=int, default=0, help=argparse.SUPPRESS)
+    args = ap.parse_args()
+    if args.child:
+        _child(args.child)
+        return
+    draw_fisheye(1000, 256)                                 # warm imports
+    t_fish, n_in = draw_fisheye(120_000, 4096)
+    t_1m, _ = draw_equirect(1_000_000, 4096)
+    t_1m_small, _ = draw_equirect(1_000_000, 2048)
+    out = subprocess.run([sys.executable, __file__, "--child", str(args.big_stars)],
+                         check=True, capture_output=True, text=True).stdout.split()
+    t_big, rss_mb = float(out[0]), float(out[1])
+    slope_stars = (t_big - t_1m) / ((args.big_stars - 1_000_000) / 1e6)
+    pixels_big, pixels_small = 8192 * 4096, 4096 * 2048
+    slope_pixels = (t_1m - t_1m_small) / ((pixels_big - pixels_small) / 1e6)
+    per_star = per_star_loop(args.sample, 4096)
+    t_loop_1m = per_star * 1_000_000
+    print(f"{'case':<52}{'measured':>12}{'goal':>10}{'ratio':>8}")
+    print(f"{'fisheye 4096^2, 120 000 stars (%d inside), s' % n_in:<52}{t_fish:>12.3f}"
+          f"{GOAL_FISHEYE_S:>10.3g}{GOAL_FISHEYE_S / t_fish:>8.2f}")
+    print(f"{'equirect 8192x4096, 1 M stars, s':<52}{t_1m:>12.3f}")
+    print(f"{'equirect 8192x4096, %d stars, s' % args.big_stars:<52}{t_big:>12.3f}"
+          f"{GOAL_BIG_S:>10.3g}{GOAL_BIG_S / t_big:>8.2f}")
+    print(f"{'peak resident memory of that run, MB':<52}{rss_mb:>12.0f}{GOAL_RSS_MB:>10.0f}"
+          f"{GOAL_RSS_MB / rss_mb:>8.2f}")
+    print(f"{'slope in stars, s per million':<52}{slope_stars:>12.3f}")
+    print(f"{'slope in pixels (1 M stars), s per megapixel':<52}{slope_pixels:>12.4f}")
+    print(f"{'per-star loop, 1 M stars (scaled from %d), s' % args.sample:<52}{t_loop_1m:>12.1f}"
+          f"{'':>10}{t_loop_1m / t_1m:>8.1f}x")
+    for name, goal, value, unit, ref, ref_label, ratio, sense in (
+            ("plate_fisheye_120k", "120 000 stars into a 4096 x 4096 fisheye", t_fish, "s",
+             GOAL_FISHEYE_S, "goal", GOAL_FISHEYE_S / t_fish, "x under the goal"),
+            ("plate_equirect_1m", "1 M stars into an 8192 x 4096 equirect plate", t_1m, "s",
+             None, None, None, None),
+            ("plate_equirect_10m", "10 M stars into an 8192 x 4096 equirect plate", t_big, "s",
+             GOAL_BIG_S, "goal", GOAL_BIG_S / t_big, "x under the goal"),
+            ("plate_equirect_10m_rss", "peak memory, 10 M stars equirect", rss_mb, "MB",
+             GOAL_RSS_MB, "goal", GOAL_RSS_MB / rss_mb, "x under the goal"),
+            ("plate_slope_stars", "time per million stars (1 M to 10 M)", slope_stars, "s",
+             None, None, None, None),
+            ("plate_slope_pixels", "time per megapixel of plate (1 M stars)", slope_pixels, "s",
+             None, None, None, None),
+            ("plate_vs_loop", "1 M stars equirect against a per-star loop", t_1m, "s",
+             t_loop_1m, "per-star loop, scaled from a sample", t_loop_1m / t_1m, "x faster")):
+        line = f'RESULT name={name} goal="{goal}" value={value:.4g} unit={unit}'
+        if ref is not None:
+            line += (f' reference={ref:.4g} reference_label="{ref_label}" ratio={ratio:.4g} '
+                     f'sense="{sense}"')
+        print(line)
+
+
+if __name__ == "__main__":
+    main()
