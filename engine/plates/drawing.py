@@ -159,36 +159,51 @@ def deposit(image, x_px, y_px, values, sigma_px, wrap_x=False, face=None, *, val
 
 def _deposit_chunk(flat, x, y, vals, sigma, f, k, height, width, channels, channel_offsets,
                    wrap_x, valid_flat, dtype):
-    """One chunk of stars sharing the footprint half-width ``k`` (vectorised)."""
-    n = x.size
+    """One chunk of stars sharing the footprint half-width ``k`` (vectorised).
+
+    The work on the ``(n, side, side, C)`` arrays is kept to one broadcast add for the flat
+    indices and one broadcast multiply for the contributions; everything else is per axis.
+    """
     side = 2 * k + 1
     col0, wx = _axis_weights(x, sigma, k)
     row0, wy = _axis_weights(y, sigma, k)
     cols = col0[:, None] + np.arange(side)               # (n, side)
     rows = row0[:, None] + np.arange(side)
-    weight = wy[:, :, None] * wx[:, None, :]             # (n, side, side), sums to 1 per star
+    itype = np.int32 if flat.size < 2 ** 31 else np.int64
+    wtype = np.float32 if dtype == np.float32 else np.float64
+    folded = None
     if wrap_x:
         over_top, over_bottom = rows < 0, rows >= height
         folded = over_top | over_bottom
         rows = np.where(over_top, -1 - rows, np.where(over_bottom, 2 * height - 1 - rows, rows))
-        shift = np.where(folded, width // 2, 0)          # over the pole: half-way round
         rows = rows.clip(0, height - 1)                  # a footprint taller than the image
-        cols_2d = np.mod(cols[:, None, :] + shift[:, :, None], width)
-        pixel = (f[:, None, None] * height + rows[:, :, None]) * width + cols_2d
+        cols = np.mod(cols, width)
     else:
-        on = ((rows >= 0) & (rows < height))[:, :, None] & ((cols >= 0) & (cols < width))[:, None, :]
-        rows_c, cols_c = rows.clip(0, height - 1), cols.clip(0, width - 1)
-        pixel = (f[:, None, None] * height + rows_c[:, :, None]) * width + cols_c[:, None, :]
-        weight = weight * on
-        if valid_flat is not None:
-            weight = weight * valid_flat[pixel % (height * width)]
-            total = weight.sum(axis=(1, 2), keepdims=True)
-            weight = np.divide(weight, total, out=np.zeros_like(weight), where=total > 0)
-    pixel = pixel.reshape(n, side * side)
-    weight = weight.reshape(n, side * side)
-    index = (pixel * channels)[:, :, None] + channel_offsets          # (n, side², C)
-    contrib = (weight[:, :, None] * vals[:, None, :]).astype(dtype, copy=False)
-    np.add.at(flat, index.reshape(-1), contrib.reshape(-1))
+        # off the image: the per-axis weight is zero there (separable), the index clipped
+        wx = np.where((cols >= 0) & (cols < width), wx, 0.0)
+        wy = np.where((rows >= 0) & (rows < height), wy, 0.0)
+        cols, rows = cols.clip(0, width - 1), rows.clip(0, height - 1)
+    row_part = (((f[:, None] * height + rows) * width) * channels).astype(itype)
+    col_part = (cols * channels).astype(itype)
+    index = row_part[:, :, None, None] + col_part[:, None, :, None] + channel_offsets.astype(itype)
+    if folded is not None and folded.any():
+        # rows over a pole: half-way round in longitude (a few stars near the poles)
+        few = np.flatnonzero(folded.any(axis=1))
+        turned = (np.mod(cols[few] + width // 2, width) * channels).astype(itype)
+        over = row_part[few][:, :, None, None] + turned[:, None, :, None] \
+            + channel_offsets.astype(itype)
+        index[few] = np.where(folded[few][:, :, None, None], over, index[few])
+    if valid_flat is not None:
+        weight = wy[:, :, None] * wx[:, None, :]
+        pixel = index[..., 0] // channels
+        weight = weight * valid_flat[pixel % (height * width)]
+        total = weight.sum(axis=(1, 2), keepdims=True)
+        weight = np.divide(weight, total, out=np.zeros_like(weight), where=total > 0)
+        contrib = weight[:, :, :, None].astype(wtype) * vals[:, None, None, :].astype(wtype)
+    else:
+        wxv = (wx[:, :, None] * vals[:, None, :]).astype(wtype)          # (n, side, C)
+        contrib = wy.astype(wtype)[:, :, None, None] * wxv[:, None, :, :]
+    np.add.at(flat, index.reshape(-1), contrib.reshape(-1).astype(dtype, copy=False))
 
 
 def kept_fraction(x_px, y_px, sigma_px, width_px, height_px) -> np.ndarray:
