@@ -44,6 +44,7 @@ SCRIPTS = [
     ("working-spaces", "bench_working_spaces.py", []),
     ("icc", "bench_icc.py", []),
     ("png-icc", "bench_png_icc.py", []),
+    ("plates", "bench_plates.py", []),
 ]
 
 

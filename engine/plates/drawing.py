@@ -169,7 +169,7 @@ def _deposit_chunk(flat, x, y, vals, sigma, f, k, height, width, channels, chann
     row0, wy = _axis_weights(y, sigma, k)
     cols = col0[:, None] + np.arange(side)               # (n, side)
     rows = row0[:, None] + np.arange(side)
-    itype = np.int32 if flat.size < 2 ** 31 else np.int64
+    itype = np.intp                                      # numpy.add.at has its fast path for intp
     wtype = np.float32 if dtype == np.float32 else np.float64
     folded = None
     if wrap_x:
@@ -185,13 +185,14 @@ def _deposit_chunk(flat, x, y, vals, sigma, f, k, height, width, channels, chann
         cols, rows = cols.clip(0, width - 1), rows.clip(0, height - 1)
     row_part = (((f[:, None] * height + rows) * width) * channels).astype(itype)
     col_part = (cols * channels).astype(itype)
-    index = row_part[:, :, None, None] + col_part[:, None, :, None] + channel_offsets.astype(itype)
+    col_part = col_part[:, :, None] + channel_offsets.astype(itype)   # (n, side, C)
+    index = row_part[:, :, None, None] + col_part[:, None, :, :]       # one pass, (n, side, side, C)
     if folded is not None and folded.any():
         # rows over a pole: half-way round in longitude (a few stars near the poles)
         few = np.flatnonzero(folded.any(axis=1))
         turned = (np.mod(cols[few] + width // 2, width) * channels).astype(itype)
-        over = row_part[few][:, :, None, None] + turned[:, None, :, None] \
-            + channel_offsets.astype(itype)
+        turned = turned[:, :, None] + channel_offsets.astype(itype)
+        over = row_part[few][:, :, None, None] + turned[:, None, :, :]
         index[few] = np.where(folded[few][:, :, None, None], over, index[few])
     if valid_flat is not None:
         weight = wy[:, :, None] * wx[:, None, :]
