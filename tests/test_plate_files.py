@@ -1,9 +1,5 @@
 """Plate metadata (``starkiln.engine.plates.plate_files``): embedded, read back, rebuilt."""
 
-import sys
-import types
-from dataclasses import dataclass
-
 import numpy as np
 import pytest
 
@@ -12,32 +8,7 @@ from starkiln.engine.pipeline.settings import Settings
 from starkiln.engine.plates.plate_files import (check_plate_memory, plate_metadata,
                                                 plate_request_from_metadata,
                                                 spec_from_metadata)
-
-
-@dataclass(frozen=True)
-class _StandInPlateSpec:
-    """TEMPORARY stand-in for the projection module's PlateSpec (same fields), until the
-    real engine/plates/projection.py merges in."""
-
-    projection: str
-    width_px: int
-    height_px: int
-    fov_deg: float = 180.0
-    centre_lon_deg: float = 0.0
-    centre_lat_deg: float = 90.0
-    tilt_deg: float = 0.0
-
-
-@pytest.fixture
-def projection_module(monkeypatch):
-    try:
-        import starkiln.engine.plates.projection as real  # noqa: F401
-        return real
-    except ImportError:
-        fake = types.ModuleType("starkiln.engine.plates.projection")
-        fake.PlateSpec = _StandInPlateSpec
-        monkeypatch.setitem(sys.modules, "starkiln.engine.plates.projection", fake)
-        return fake
+from tests.plate_stand_ins import plate_modules  # noqa: F401 (fixture)
 
 
 def _meta(spec):
@@ -51,13 +22,13 @@ def _meta(spec):
                           output_type="png16")
 
 
-def test_metadata_survives_a_png_text_chunk_and_rebuilds_the_spec(tmp_path, projection_module):
+def test_metadata_survives_a_png_text_chunk_and_rebuilds_the_spec(tmp_path, plate_modules):
     # Reference: PNG specification (W3C, 2003) section 11.3.4.3, tEXt holds Latin-1 text
     # that a reader returns unchanged.
     from starkiln.engine.exports.image_files import read_embedded_json, write_png
     from starkiln.engine.exports.texture_metadata import metadata_json
 
-    spec = projection_module.PlateSpec("fisheye", 64, 64, fov_deg=200.0, tilt_deg=15.0)
+    spec = plate_modules("fisheye", 64, 64, fov_deg=200.0, tilt_deg=15.0)
     meta = _meta(spec)
     path = tmp_path / "plate.png"
     write_png(path, np.zeros((4, 4, 3), np.uint16), {"starkiln": metadata_json(meta)})
@@ -86,8 +57,8 @@ def test_memory_guard_says_how_much_before_allocating():
         check_plate_memory(30000, 30000, faces=6)
 
 
-def test_unknown_values_kind_refused(projection_module):
-    spec = projection_module.PlateSpec("equirect", 8, 4)
+def test_unknown_values_kind_refused(plate_modules):
+    spec = plate_modules("equirect", 8, 4)
     with pytest.raises(StarkilnError, match="--values"):
         plate_metadata(Settings(), spec, frame={}, psf_sigma_px=0.7, values="nits",
                        counts={}, columns={}, output_type="png16")

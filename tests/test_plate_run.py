@@ -6,10 +6,6 @@ plate-carree mapping and a nearest-pixel deposit), so that this module's glue (c
 skip counts, colours) is checked alone. With the real modules present they are used.
 """
 
-import sys
-import types
-from dataclasses import dataclass
-
 import numpy as np
 import pytest
 
@@ -18,48 +14,7 @@ from starkiln.engine.errors import StarkilnError
 from starkiln.engine.pipeline.render import render
 from starkiln.engine.pipeline.settings import Settings
 from starkiln.engine.plates.run import draw_chunk, radec_columns
-
-
-@dataclass(frozen=True)
-class _StandInSpec:
-    projection: str
-    width_px: int
-    height_px: int
-    fov_deg: float = 180.0
-    centre_lon_deg: float = 0.0
-    centre_lat_deg: float = 90.0
-    tilt_deg: float = 0.0
-
-
-def _stand_in_project(lon_deg, lat_deg, spec):
-    # TEMPORARY: plate carree, longitude increasing to the left.
-    x = (360.0 - np.asarray(lon_deg)) % 360.0 / 360.0 * spec.width_px
-    y = (90.0 - np.asarray(lat_deg)) / 180.0 * spec.height_px
-    return x, y, None, np.ones(x.shape, bool)
-
-
-def _stand_in_deposit(image, x_px, y_px, values, sigma_px, wrap_x=False, face=None):
-    # TEMPORARY: all of each star's value into its nearest pixel.
-    h, w = image.shape[:2]
-    i = np.clip(np.floor(y_px).astype(int), 0, h - 1)
-    j = np.floor(x_px).astype(int) % w
-    np.add.at(image, (i, j), values)
-
-
-@pytest.fixture
-def plate_modules(monkeypatch):
-    try:
-        from starkiln.engine.plates.projection import PlateSpec  # real modules merged in
-        import starkiln.engine.plates.drawing  # noqa: F401
-        return PlateSpec
-    except ImportError:
-        proj = types.ModuleType("starkiln.engine.plates.projection")
-        proj.PlateSpec, proj.project = _StandInSpec, _stand_in_project
-        draw = types.ModuleType("starkiln.engine.plates.drawing")
-        draw.deposit = _stand_in_deposit
-        monkeypatch.setitem(sys.modules, "starkiln.engine.plates.projection", proj)
-        monkeypatch.setitem(sys.modules, "starkiln.engine.plates.drawing", draw)
-        return _StandInSpec
+from tests.plate_stand_ins import plate_modules  # noqa: F401 (fixture)
 
 
 def _col(a):
