@@ -140,3 +140,80 @@ def draw_chunk(image, plan, columns, ra_column, dec_column, spec, *, psf_sigma_p
                 face=None if face is None else np.asarray(face)[inside])
     counts["drawn"] = counts.get("drawn", 0) + int(inside.sum())
     return counts
+
+
+def plate_chunks(path, plan, names, chunk_rows=1 << 17):
+    """Chunks ``name -> (values, missing)`` of the columns ``names`` from a catalogue file.
+
+    Parameters
+    ----------
+    path : path
+        Any single file ``starkiln catalogue`` reads (CSV, ECSV, FITS, VOTable, Parquet).
+    plan : CataloguePlan
+    names : list of str
+        Columns to read (RA, Dec and the plan's input columns).
+    chunk_rows : int
+
+    Yields
+    ------
+    (list of str, dict)
+        The file's column names, then one chunk.
+
+    References
+    ----------
+    :class:`starkiln.engine.catalogue.streaming.StreamSource` (CSV/Parquet, streamed);
+    :func:`starkiln.engine.catalogue.formats.read_astropy` (the others, read whole).
+    """
+    from pathlib import Path
+
+    from starkiln.engine.catalogue.columns import arrow_values, numpy_values
+    from starkiln.engine.catalogue.formats import astropy_guard, format_of, read_astropy
+    from starkiln.engine.catalogue.streaming import StreamSource
+
+    path = Path(path)
+    fmt = format_of(path, "input")
+    if fmt in ("csv", "parquet"):
+        source = StreamSource([path], fmt, plan, chunk_rows)
+        all_names = list(source.schema.names)
+        _check_names(all_names, names, path)
+        for batch in source.batches():
+            yield all_names, {n: arrow_values(batch.column(n)) for n in names}
+        return
+    with astropy_guard():
+        table = read_astropy(path, fmt)
+    all_names = list(table.colnames)
+    _check_names(all_names, names, path)
+    values = {n: numpy_values(table[n]) for n in names}
+    rows = len(table)
+    for start in range(0, rows, chunk_rows):
+        stop = min(start + chunk_rows, rows)
+        yield all_names, {k: (v[start:stop], None if m is None else m[start:stop])
+                          for k, (v, m) in values.items()}
+
+
+def _check_names(all_names, names, path):
+    missing = [n for n in names if n not in all_names]
+    if missing:
+        raise StarkilnError(f"{path}: no column {missing[0]!r}; accepted: one of "
+                            + ", ".join(map(repr, all_names[:12])))
+
+
+def column_names(path):
+    """The column names of a catalogue file (read from its header / schema)."""
+    from pathlib import Path
+
+    from starkiln.engine.catalogue.formats import astropy_guard, format_of, read_astropy
+
+    path = Path(path)
+    fmt = format_of(path, "input")
+    if fmt == "csv":
+        import pyarrow.csv as pcsv
+
+        with pcsv.open_csv(path) as reader:
+            return list(reader.schema.names)
+    if fmt == "parquet":
+        import pyarrow.parquet as pq
+
+        return list(pq.read_schema(path).names)
+    with astropy_guard():
+        return list(read_astropy(path, fmt).colnames)
