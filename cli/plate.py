@@ -90,6 +90,8 @@ def cmd_plate(args, out) -> int:
     from starkiln.engine.plates import frames
     from starkiln.engine.plates.plate_files import check_plate_memory, plate_metadata
 
+    if args.settings_from:
+        _apply_old_plate(args)
     args.exact = False
     args.prefix = ""
     args.linear_columns = None
@@ -126,6 +128,10 @@ def cmd_plate(args, out) -> int:
     centre = _pair(args.centre, "--centre") if args.centre else (0.0, 90.0)
     check_writable(args.output, args.force)
     settings = settings_from_args(args)
+    if getattr(args, "old_settings", None) is not None:
+        from starkiln.engine.pipeline.settings import Settings
+
+        settings = Settings.from_dict(args.old_settings, source=args.settings_from)
     plan = plan_from_args(args, settings)
     if values == "flux":
         from dataclasses import replace
@@ -169,6 +175,38 @@ def cmd_plate(args, out) -> int:
         if k != "drawn" and v:
             out.write(f"  skipped, {k}: {v:,}\n")
     return 0
+
+
+def _apply_old_plate(args):
+    """``--settings-from OLD``: take the look, projection, frame, PSF, values and columns
+    that OLD's metadata records (the file's own description, plate_files)."""
+    from starkiln.engine.exports.image_files import read_embedded_json
+    from starkiln.engine.plates.plate_files import plate_request_from_metadata
+
+    old = plate_request_from_metadata(read_embedded_json(args.settings_from),
+                                      args.settings_from)
+    proj = old["projection"]
+    args.projection = proj["projection"]
+    args.size = f"{proj['width_px']}x{proj['height_px']}"
+    args.fov, args.tilt = proj["fov_deg"], proj["tilt_deg"]
+    args.centre = f"{proj['centre_lon_deg']!r},{proj['centre_lat_deg']!r}"
+    frame = old["frame"]
+    args.frame = frame.get("frame", "equatorial")
+    args.site, args.time = frame.get("site"), frame.get("time")
+    args.refraction = bool(frame.get("refraction", False))
+    args.below_horizon = frame.get("below_horizon", "drop")
+    args.psf_px, args.values = old["psf_sigma_px"], old["values"]
+    cols = old["columns"]
+    args.ra_column, args.dec_column = cols.get("ra"), cols.get("dec")
+    source_option = {"temperature": "temperature_column", "bv": "bv_column",
+                     "bp-rp": "bp_rp_column"}.get(cols.get("source"))
+    if source_option:
+        for k in ("temperature_column", "bv_column", "bp_rp_column"):
+            setattr(args, k, None)
+        setattr(args, source_option, cols.get("source_column"))
+    if cols.get("magnitude"):
+        args.magnitude_column, args.magnitude = cols["magnitude"], None
+    args.old_settings = old["settings"]
 
 
 def _write(path, image, meta, overwrite, atomic_path):

@@ -61,3 +61,11 @@ def test_horizon_frame_drops_stars_below_the_horizon(tmp_path, plate_modules):
     assert 1000 < below < 3000 and meta["counts"]["drawn"] + below + \
         meta["counts"].get("outside the plate", 0) == 4000
     assert meta["frame"]["site"] == "-31.5,115.25,250.0"
+
+
+def test_settings_from_rebuilds_the_plate_identically(tmp_path, plate_modules):
+    # The rebuilt file must match the first byte for byte (same metadata, same pixels).
+    first, again = tmp_path / "a.png", tmp_path / "b.png"
+    assert main(["plate", SKY, str(first), "--size", "96", "--psf-px", "1.1", *BASE]) == 0
+    assert main(["plate", SKY, str(again), "--settings-from", str(first)]) == 0
+    assert first.read_bytes() == again.read_bytes()
