@@ -16,12 +16,12 @@ import signal
 import sys
 import threading
 
-from starkiln.cli import catalogue, colour, exports, ocio, settings_cmd
+from starkiln.cli import catalogue, colour, exports, ocio, plate, settings_cmd
 from starkiln.cli.options import EXIT_BAD_INPUT, Parser, number
 from starkiln import __version__
 from starkiln.engine.errors import StarkilnError
 
-COMMAND_MODULES = (colour, exports, catalogue, settings_cmd, ocio)
+COMMAND_MODULES = (colour, exports, catalogue, settings_cmd, ocio, plate)
 
 
 def build_parser() -> argparse.ArgumentParser:

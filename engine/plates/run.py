@@ -1,0 +1,219 @@
+"""Drawing a star plate from a catalogue file: read in chunks, colour, project, deposit.
+
+:func:`radec_columns` picks the RA / Dec columns (the first named like ``ra`` / ``dec``
+unless named); :func:`plate_chunks` yields ``name -> (values, missing)`` chunks from any
+file ``starkiln catalogue`` reads (CSV and Parquet streamed through
+:class:`starkiln.engine.catalogue.streaming.StreamSource`, the others read by astropy);
+:func:`draw_chunk` colours one chunk through the catalogue's per-chunk colouring
+(:func:`starkiln.engine.catalogue.colouring.colour_values`, the one render path), turns the
+positions into the plate's frame (:mod:`starkiln.engine.plates.frames`) and deposits each
+star with the projection module's ``project`` and the drawing module's ``deposit``.
+Skipped rows are counted per reason, never silently.
+"""
+
+from __future__ import annotations
+
+import re
+
+import numpy as np
+
+from starkiln.engine.errors import StarkilnError
+from starkiln.engine.plates.frames import check_radec, plate_coordinates
+
+_RA_NAMES = re.compile(r"^(ra|raj2000|ra_icrs|ra_deg|right_ascension)$", re.IGNORECASE)
+_DEC_NAMES = re.compile(r"^(dec|de|dej2000|dec_icrs|dec_deg|de_icrs|declination)$",
+                        re.IGNORECASE)
+
+
+def radec_columns(names, ra_column=None, dec_column=None):
+    """The RA and Dec column names, and a log line saying which were chosen.
+
+    Parameters
+    ----------
+    names : list of str
+        The catalogue's columns.
+    ra_column, dec_column : str, optional
+        Given by ``--ra-column`` / ``--dec-column``; otherwise the first column named like
+        ra / dec (``ra``, ``RAJ2000``, ``ra_deg``, ...; case ignored).
+
+    Returns
+    -------
+    (str, str, str)
+
+    Raises
+    ------
+    StarkilnError
+        A named column is missing, or no column looks like RA or Dec.
+
+    References
+    ----------
+    Common practice for catalogue column names (RAJ2000 / DEJ2000, ra / dec).
+    """
+    picked = []
+    for given, pattern, option in ((ra_column, _RA_NAMES, "--ra-column"),
+                                   (dec_column, _DEC_NAMES, "--dec-column")):
+        if given is not None:
+            if given not in names:
+                raise StarkilnError(f"{option} {given!r} is not a column; accepted: one of "
+                                    + ", ".join(map(repr, names[:12])))
+            picked.append(given)
+            continue
+        found = [n for n in names if pattern.match(n)]
+        if not found:
+            raise StarkilnError(f"no column named like {option[2:-7]}; name it with {option} "
+                                "(degrees, ICRS)")
+        picked.append(found[0])
+    return picked[0], picked[1], f"positions: RA from {picked[0]!r}, Dec from {picked[1]!r} " \
+                                 "(degrees, ICRS)"
+
+
+def draw_chunk(image, plan, columns, ra_column, dec_column, spec, *, psf_sigma_px=0.7,
+               values="display", frame=None, counts=None):
+    """Colour, place and deposit one chunk of stars into ``image`` (in place).
+
+    Parameters
+    ----------
+    image : ndarray, float32
+        The plate (as the drawing module's ``deposit`` takes it).
+    plan : CataloguePlan
+        Colour settings and columns; for ``values="flux"`` it must carry one linear
+        working space (``linear_columns``) and a magnitude column.
+    columns : dict
+        ``name -> (values, missing)``, as :func:`colour_values` takes.
+    ra_column, dec_column : str
+    spec : PlateSpec
+    psf_sigma_px : float
+    values : {"display", "flux"}
+        display: the render path's display colour times its intensity; flux: its linear
+        colour times 10^(-0.4 m) (Pogson's ratio, common practice).
+    frame : dict, optional
+        Keywords for :func:`starkiln.engine.plates.frames.plate_coordinates`.
+    counts : dict, optional
+        Updated in place: ``drawn``, ``outside the plate``, ``below horizon``,
+        the RA/Dec reasons and ``render-flagged``.
+
+    Returns
+    -------
+    dict
+        ``counts``.
+
+    References
+    ----------
+    :func:`starkiln.engine.catalogue.colouring.colour_values`; Pogson (1856) magnitudes.
+    """
+    from starkiln.engine.catalogue.colouring import colour_values
+    from starkiln.engine.plates.drawing import deposit
+    from starkiln.engine.plates.projection import project
+
+    counts = {} if counts is None else counts
+    ra, ra_miss = columns[ra_column]
+    dec, dec_miss = columns[dec_column]
+    ra = np.array(ra, dtype=float)
+    dec = np.array(dec, dtype=float)
+    for v, m in ((ra, ra_miss), (dec, dec_miss)):
+        if m is not None:
+            v[m] = np.nan
+    ok, reasons = check_radec(ra, dec)
+    for k, n in reasons.items():
+        counts[k] = counts.get(k, 0) + n
+    colour_cols = {k: columns[k] for k in plan.input_columns}
+    res = colour_values(plan, colour_cols)
+    flagged = ok & (res.blank if res.blank is not None else np.zeros(ok.shape, bool))
+    counts["render-flagged"] = counts.get("render-flagged", 0) + int(flagged.sum())
+    ok &= ~flagged
+    if values == "flux":
+        if not res.linear or plan.magnitude_column is None:
+            raise StarkilnError("--values flux needs a magnitude column and a linear space")
+        mag = columns[plan.magnitude_column][0]
+        weight = 10.0 ** (-0.4 * mag)
+        rgb = np.stack(res.linear[:3], axis=-1) * weight[:, None]
+    else:
+        rgb = np.stack([res.r, res.g, res.b], axis=-1) * res.intensity[:, None]
+    lon, lat, keep = plate_coordinates(ra[ok], dec[ok], **(frame or {}))
+    counts["below horizon"] = counts.get("below horizon", 0) + int((~keep).sum())
+    lon, lat, rgb = lon[keep], lat[keep], rgb[ok][keep]
+    x, y, face, inside = project(lon, lat, spec)
+    counts["outside the plate"] = counts.get("outside the plate", 0) + int((~inside).sum())
+    if inside.any():
+        deposit(image, x[inside], y[inside], rgb[inside].astype(np.float32), psf_sigma_px,
+                wrap_x=spec.projection == "equirect",
+                face=None if face is None else np.asarray(face)[inside])
+    counts["drawn"] = counts.get("drawn", 0) + int(inside.sum())
+    return counts
+
+
+def plate_chunks(path, plan, names, chunk_rows=1 << 17):
+    """Chunks ``name -> (values, missing)`` of the columns ``names`` from a catalogue file.
+
+    Parameters
+    ----------
+    path : path
+        Any single file ``starkiln catalogue`` reads (CSV, ECSV, FITS, VOTable, Parquet).
+    plan : CataloguePlan
+    names : list of str
+        Columns to read (RA, Dec and the plan's input columns).
+    chunk_rows : int
+
+    Yields
+    ------
+    (list of str, dict)
+        The file's column names, then one chunk.
+
+    References
+    ----------
+    :class:`starkiln.engine.catalogue.streaming.StreamSource` (CSV/Parquet, streamed);
+    :func:`starkiln.engine.catalogue.formats.read_astropy` (the others, read whole).
+    """
+    from pathlib import Path
+
+    from starkiln.engine.catalogue.columns import arrow_values, numpy_values
+    from starkiln.engine.catalogue.formats import astropy_guard, format_of, read_astropy
+    from starkiln.engine.catalogue.streaming import StreamSource
+
+    path = Path(path)
+    fmt = format_of(path, "input")
+    if fmt in ("csv", "parquet"):
+        source = StreamSource([path], fmt, plan, chunk_rows)
+        all_names = list(source.schema.names)
+        _check_names(all_names, names, path)
+        for batch in source.batches():
+            yield all_names, {n: arrow_values(batch.column(n)) for n in names}
+        return
+    with astropy_guard():
+        table = read_astropy(path, fmt)
+    all_names = list(table.colnames)
+    _check_names(all_names, names, path)
+    values = {n: numpy_values(table[n]) for n in names}
+    rows = len(table)
+    for start in range(0, rows, chunk_rows):
+        stop = min(start + chunk_rows, rows)
+        yield all_names, {k: (v[start:stop], None if m is None else m[start:stop])
+                          for k, (v, m) in values.items()}
+
+
+def _check_names(all_names, names, path):
+    missing = [n for n in names if n not in all_names]
+    if missing:
+        raise StarkilnError(f"{path}: no column {missing[0]!r}; accepted: one of "
+                            + ", ".join(map(repr, all_names[:12])))
+
+
+def column_names(path):
+    """The column names of a catalogue file (read from its header / schema)."""
+    from pathlib import Path
+
+    from starkiln.engine.catalogue.formats import astropy_guard, format_of, read_astropy
+
+    path = Path(path)
+    fmt = format_of(path, "input")
+    if fmt == "csv":
+        import pyarrow.csv as pcsv
+
+        with pcsv.open_csv(path) as reader:
+            return list(reader.schema.names)
+    if fmt == "parquet":
+        import pyarrow.parquet as pq
+
+        return list(pq.read_schema(path).names)
+    with astropy_guard():
+        return list(read_astropy(path, fmt).colnames)
