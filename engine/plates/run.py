@@ -103,7 +103,7 @@ def draw_chunk(image, plan, columns, ra_column, dec_column, spec, *, psf_sigma_p
     """
     from starkiln.engine.catalogue.colouring import colour_values
     from starkiln.engine.plates.drawing import deposit
-    from starkiln.engine.plates.projection import project
+    from starkiln.engine.plates.projection import fisheye_valid_pixels, project
 
     counts = {} if counts is None else counts
     ra, ra_miss = columns[ra_column]
@@ -132,12 +132,18 @@ def draw_chunk(image, plan, columns, ra_column, dec_column, spec, *, psf_sigma_p
     lon, lat, keep = plate_coordinates(ra[ok], dec[ok], **(frame or {}))
     counts["below horizon"] = counts.get("below horizon", 0) + int((~keep).sum())
     lon, lat, rgb = lon[keep], lat[keep], rgb[ok][keep]
+    if (frame or {}).get("site") is not None:
+        # Azimuth runs north through east, left-handed seen from inside; project() takes a
+        # right-handed longitude like RA, so the sky over a site is not mirrored.
+        lon = -lon
     x, y, face, inside = project(lon, lat, spec)
     counts["outside the plate"] = counts.get("outside the plate", 0) + int((~inside).sum())
     if inside.any():
+        cube = spec.projection == "cube"
+        valid = fisheye_valid_pixels(spec) if spec.projection == "fisheye" else None
         deposit(image, x[inside], y[inside], rgb[inside].astype(np.float32), psf_sigma_px,
                 wrap_x=spec.projection == "equirect",
-                face=None if face is None else np.asarray(face)[inside])
+                face=np.asarray(face)[inside] if cube else None, valid=valid)
     counts["drawn"] = counts.get("drawn", 0) + int(inside.sum())
     return counts
 
