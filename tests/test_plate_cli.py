@@ -1,13 +1,13 @@
 """``starkiln plate``: bad input exits 2 with one line and writes nothing; a good run
-writes a self-describing plate. The projection / drawing modules come from the temporary
-stand-in (tests/plate_stand_ins.py) until the real ones merge in."""
+writes a self-describing plate, through the real projection and drawing modules
+(engine/plates)."""
 
 import numpy as np
 import pytest
 
 from starkiln.cli.main import main
 from tests.conftest import REPO_ROOT
-from tests.plate_stand_ins import plate_modules  # noqa: F401 (fixture)
+from starkiln.engine.plates.projection import PlateSpec
 
 SKY = str(REPO_ROOT / "assets" / "demo_sky.csv")
 BASE = ["--temperature-column", "temperature_K", "--magnitude-column", "magnitude"]
@@ -25,7 +25,7 @@ BASE = ["--temperature-column", "temperature_K", "--magnitude-column", "magnitud
     (["--below-horizon", "maybe", "--site", "1,2", "--time", "2026-01-01T00:00:00"],
      "--below-horizon"),
 ])
-def test_bad_input_exits_2_with_one_line_and_writes_nothing(tmp_path, capsys, plate_modules,
+def test_bad_input_exits_2_with_one_line_and_writes_nothing(tmp_path, capsys,
                                                             extra, word):
     out = tmp_path / "plate.png"
     assert main(["plate", SKY, str(out), "--size", "64", *BASE, *extra]) == 2
@@ -34,7 +34,7 @@ def test_bad_input_exits_2_with_one_line_and_writes_nothing(tmp_path, capsys, pl
     assert list(tmp_path.iterdir()) == []
 
 
-def test_good_run_writes_a_self_describing_png(tmp_path, capsys, plate_modules):
+def test_good_run_writes_a_self_describing_png(tmp_path, capsys):
     # Reference for the expected count: every demo row has valid RA/Dec and a temperature
     # inside 500-100000 K (assets/make_demo_sky.py's recipe), so all 4000 are drawn.
     from starkiln.engine.exports.image_files import read_embedded_json
@@ -49,7 +49,7 @@ def test_good_run_writes_a_self_describing_png(tmp_path, capsys, plate_modules):
     assert main(["plate", SKY, str(out), "--size", "128", *BASE]) == 2  # exists, no --force
 
 
-def test_horizon_frame_drops_stars_below_the_horizon(tmp_path, plate_modules):
+def test_horizon_frame_drops_stars_below_the_horizon(tmp_path):
     # Half the sphere is below any horizon (geometry), so roughly half the uniform sky drops.
     from starkiln.engine.exports.image_files import read_embedded_json
 
@@ -63,7 +63,7 @@ def test_horizon_frame_drops_stars_below_the_horizon(tmp_path, plate_modules):
     assert meta["frame"]["site"] == "-31.5,115.25,250.0"
 
 
-def test_settings_from_rebuilds_the_plate_identically(tmp_path, plate_modules):
+def test_settings_from_rebuilds_the_plate_identically(tmp_path):
     # The rebuilt file must match the first byte for byte (same metadata, same pixels).
     first, again = tmp_path / "a.png", tmp_path / "b.png"
     assert main(["plate", SKY, str(first), "--size", "96", "--psf-px", "1.1", *BASE]) == 0

@@ -8,7 +8,7 @@ from starkiln.engine.pipeline.settings import Settings
 from starkiln.engine.plates.plate_files import (check_plate_memory, plate_metadata,
                                                 plate_request_from_metadata,
                                                 spec_from_metadata)
-from tests.plate_stand_ins import plate_modules  # noqa: F401 (fixture)
+from starkiln.engine.plates.projection import PlateSpec
 
 
 def _meta(spec):
@@ -22,13 +22,13 @@ def _meta(spec):
                           output_type="png16")
 
 
-def test_metadata_survives_a_png_text_chunk_and_rebuilds_the_spec(tmp_path, plate_modules):
+def test_metadata_survives_a_png_text_chunk_and_rebuilds_the_spec(tmp_path):
     # Reference: PNG specification (W3C, 2003) section 11.3.4.3, tEXt holds Latin-1 text
     # that a reader returns unchanged.
     from starkiln.engine.exports.image_files import read_embedded_json, write_png
     from starkiln.engine.exports.texture_metadata import metadata_json
 
-    spec = plate_modules("fisheye", 64, 64, fov_deg=200.0, tilt_deg=15.0)
+    spec = PlateSpec("fisheye", 64, 64, fov_deg=200.0, tilt_deg=15.0)
     meta = _meta(spec)
     path = tmp_path / "plate.png"
     write_png(path, np.zeros((4, 4, 3), np.uint16), {"starkiln": metadata_json(meta)})
@@ -57,8 +57,8 @@ def test_memory_guard_says_how_much_before_allocating():
         check_plate_memory(30000, 30000, faces=6)
 
 
-def test_unknown_values_kind_refused(plate_modules):
-    spec = plate_modules("equirect", 8, 4)
+def test_unknown_values_kind_refused():
+    spec = PlateSpec("equirect", 8, 4)
     with pytest.raises(StarkilnError, match="--values"):
         plate_metadata(Settings(), spec, frame={}, psf_sigma_px=0.7, values="nits",
                        counts={}, columns={}, output_type="png16")

@@ -1,9 +1,7 @@
 """Drawing a plate chunk (``starkiln.engine.plates.run``) through the one render path.
 
-The projection and drawing modules are written in another branch; until they merge in,
-the fixture below puts a clearly TEMPORARY stand-in in ``sys.modules`` (a plain
-plate-carree mapping and a nearest-pixel deposit), so that this module's glue (columns,
-skip counts, colours) is checked alone. With the real modules present they are used.
+Uses the real projection and drawing (engine/plates); this module checks the glue:
+columns, skip counts, colours.
 """
 
 import numpy as np
@@ -14,7 +12,7 @@ from starkiln.engine.errors import StarkilnError
 from starkiln.engine.pipeline.render import render
 from starkiln.engine.pipeline.settings import Settings
 from starkiln.engine.plates.run import draw_chunk, radec_columns
-from tests.plate_stand_ins import plate_modules  # noqa: F401 (fixture)
+from starkiln.engine.plates.projection import PlateSpec
 
 
 def _col(a):
@@ -30,10 +28,10 @@ def test_default_columns_are_the_first_named_like_ra_and_dec():
         radec_columns(["ra", "dec"], ra_column="alpha")
 
 
-def test_isolated_star_carries_the_render_path_colour_and_intensity(plate_modules):
+def test_isolated_star_carries_the_render_path_colour_and_intensity():
     # Reference: the issue's colour check: an isolated star's footprint equals the one
     # render path's display colour times its intensity (render() called here directly).
-    spec = plate_modules("equirect", 64, 32)
+    spec = PlateSpec("equirect", 64, 32)
     plan = CataloguePlan(settings=Settings(), source="temperature", source_column="t",
                          magnitude_column="m", exact=True)
     image = np.zeros((32, 64, 3), np.float32)
@@ -45,8 +43,8 @@ def test_isolated_star_carries_the_render_path_colour_and_intensity(plate_module
     assert counts["drawn"] == 1
 
 
-def test_bad_rows_are_skipped_and_counted_by_reason(plate_modules):
-    spec = plate_modules("equirect", 32, 16)
+def test_bad_rows_are_skipped_and_counted_by_reason():
+    spec = PlateSpec("equirect", 32, 16)
     plan = CataloguePlan(settings=Settings(), source="temperature", source_column="t",
                          magnitude_column="m", exact=True)
     image = np.zeros((16, 32, 3), np.float32)
