@@ -154,7 +154,11 @@ class ExportDialog(QtWidgets.QDialog):
         shown, _clipped = encoded_on_monitor(display_rgb8, m.settings.display, m.monitor,
                                              m.viewing_level)
         self.preview_image = array_image(display_rgb8)
-        img = self.preview_monitor_image = array_image(shown)
+        self.show_monitor_image(array_image(shown))
+
+    def show_monitor_image(self, img: QtGui.QImage) -> None:
+        """Paint an image already in the monitor's colours, fitted to the preview area."""
+        self.preview_monitor_image = img
         area = self.preview.size()
         pix = QtGui.QPixmap.fromImage(img)
         if pix.width() < area.width() // 2:

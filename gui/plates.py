@@ -433,7 +433,6 @@ class PlateDialog(ExportDialog):
 
     def _preview(self) -> None:
         from starkiln.gui.exports import PREVIEW_MAX, array_image
-        from PySide6 import QtGui
 
         t = self.table()
         c = t.choice
@@ -451,13 +450,7 @@ class PlateDialog(ExportDialog):
                       below_horizon="drop")
         plate = self.model.star_plate(small, psf_sigma_px=min(psf, 50.0), frame=kw)
         self.preview_plate = plate
-        img = array_image(self.model.star_plate_rgb_8bit(plate))
-        pix = QtGui.QPixmap.fromImage(img)
-        area = self.preview.size()
-        if pix.width() > area.width() or pix.height() > area.height():
-            pix = pix.scaled(area, QtCore.Qt.AspectRatioMode.KeepAspectRatio,
-                             QtCore.Qt.TransformationMode.SmoothTransformation)
-        self.preview.setPixmap(pix)
+        self.show_monitor_image(array_image(self.model.star_plate_rgb_8bit(plate)))
         self.preview_note.setText(
             f"{spec.width_px} \u00d7 {spec.height_px} pixels; preview at "
             f"{small.width_px} \u00d7 {small.height_px} in this monitor's colours, "

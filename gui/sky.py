@@ -240,9 +240,12 @@ class SkyPreview(QtWidgets.QWidget):
         timer = QtCore.QElapsedTimer()
         timer.start()
         app = QtWidgets.QApplication.instance()
-        while (self._running or self._pending) and timer.elapsed() < timeout_ms:
+        def waiting():
+            return self._running or self._pending or self._timer.isActive()
+
+        while waiting() and timer.elapsed() < timeout_ms:
             app.processEvents(QtCore.QEventLoop.ProcessEventsFlag.AllEvents, 20)
-        return not (self._running or self._pending)
+        return not waiting()
 
     def showEvent(self, event):  # noqa: N802 - Qt API
         super().showEvent(event)

@@ -212,14 +212,25 @@ def column_names(path):
 
     path = Path(path)
     fmt = format_of(path, "input")
-    if fmt == "csv":
-        import pyarrow.csv as pcsv
+    if fmt in ("csv", "parquet"):
+        import pyarrow as pa
 
-        with pcsv.open_csv(path) as reader:
-            return list(reader.schema.names)
-    if fmt == "parquet":
-        import pyarrow.parquet as pq
+        from starkiln.engine.catalogue.streaming import csv_error
 
-        return list(pq.read_schema(path).names)
+        try:
+            if fmt == "parquet":
+                import pyarrow.parquet as pq
+
+                return list(pq.read_schema(path).names)
+            import pyarrow.csv as pcsv
+
+            with pcsv.open_csv(path) as reader:
+                return list(reader.schema.names)
+        except OSError as exc:
+            raise StarkilnError(f"{path}: cannot read ({exc.strerror or exc})") from None
+        except pa.ArrowException as exc:  # not a table pyarrow can read
+            if fmt == "csv":
+                raise csv_error(path, exc) from None
+            raise StarkilnError(f"{path}: cannot read as Parquet ({exc})") from None
     with astropy_guard():
         return list(read_astropy(path, fmt).colnames)
