@@ -7,8 +7,9 @@
 - :func:`load_star_table` reads those columns of any file ``starkiln catalogue`` reads, once,
   with the command's own reader (:func:`starkiln.engine.plates.run.plate_chunks`).
 - :func:`preview_plate` draws the table into a plate of the given :class:`PlateSpec` with the
-  given settings through :func:`starkiln.engine.plates.run.draw_chunk`, the very function
-  ``starkiln plate`` draws each chunk with: same colours, same places, same footprints.
+  given settings through the two halves of :func:`starkiln.engine.plates.run.draw_chunk`,
+  the very function ``starkiln plate`` draws each chunk with (``chunk_colours`` for the whole
+  table, then ``place_chunk`` chunk by chunk): same colours, same places, same footprints.
 - :func:`plate_on_monitor` turns a plate of display values into the monitor's 8-bit colours
   at the viewing level (:func:`starkiln.engine.colour.monitor.monitor_rgb_8bit`), as every
   colour the window paints is.
@@ -31,8 +32,8 @@ from starkiln.engine.errors import StarkilnError
 
 #: Most rows the window holds in memory (about 40 bytes a row for five columns).
 MAX_TABLE_ROWS = 20_000_000
-#: Rows drawn between two looks at the interface (tens of milliseconds each).
-PREVIEW_CHUNK_ROWS = 16_384
+#: Rows placed between two looks at the interface (a few milliseconds each).
+PREVIEW_CHUNK_ROWS = 4096
 _SOURCE_NAMES = (
     ("temperature", re.compile(r"^(temperature_?k?|teff|t_?eff|temp)$", re.IGNORECASE)),
     ("bv", re.compile(r"^(b_?v|b-v|bmv|b_minus_v)$", re.IGNORECASE)),
@@ -196,9 +197,12 @@ def preview_plate(settings, table: StarTable, spec, psf_sigma_px: float = 0.7,
                   chunk_rows: int = PREVIEW_CHUNK_ROWS, should_stop=None, frame=None):
     """Draw a star table into a plate with ``settings`` (display values, float32).
 
-    The rows go to :func:`starkiln.engine.plates.run.draw_chunk` in chunks of ``chunk_rows``
-    (a window's worker thread lets the interface run between them, and can stop early),
-    with the catalogue's rule for small runs: up to
+    The two halves of :func:`starkiln.engine.plates.run.draw_chunk`, the command's drawing:
+    the whole table is coloured at once (:func:`~starkiln.engine.plates.run.chunk_colours`),
+    then placed and deposited in chunks of ``chunk_rows``
+    (:func:`~starkiln.engine.plates.run.place_chunk`; a window's worker thread lets the
+    interface run between them, and can stop early), with the catalogue's rule for small
+    runs: up to
     :data:`starkiln.engine.catalogue.plan.EXACT_ROWS_WITH_MAGNITUDE` rows with magnitudes
     are coloured by the render path row by row (:meth:`CataloguePlan.for_rows`), larger
     ones through the colour grid.
@@ -227,20 +231,23 @@ def preview_plate(settings, table: StarTable, spec, psf_sigma_px: float = 0.7,
     ----------
     :func:`starkiln.engine.plates.run.draw_chunk` (the command's drawing of each chunk).
     """
-    from starkiln.engine.plates.run import draw_chunk
+    from starkiln.engine.plates.run import chunk_colours, place_chunk
 
     image = np.zeros((spec.height_px, spec.width_px, 3), dtype=np.float32)
     counts: dict = {}
     c = table.choice
     plan = table.plan(settings).for_rows(table.rows)
+    # draw_chunk's two halves: the whole table coloured at once (the render path's work
+    # shared by every row of a temperature), then placed and deposited chunk by chunk
+    rgb, coloured = chunk_colours(plan, {k: table.columns[k] for k in plan.input_columns})
     for start in range(0, table.rows, int(chunk_rows)):
         if should_stop is not None and should_stop():
             return None
         stop = min(start + int(chunk_rows), table.rows)
         chunk = {k: (v[start:stop], None if m is None else m[start:stop])
-                 for k, (v, m) in table.columns.items()}
-        draw_chunk(image, plan, chunk, c.ra, c.dec, spec, psf_sigma_px=psf_sigma_px,
-                   frame=frame, counts=counts)
+                 for k, (v, m) in ((n, table.columns[n]) for n in (c.ra, c.dec))}
+        place_chunk(image, chunk, c.ra, c.dec, rgb[start:stop], coloured[start:stop], spec,
+                    psf_sigma_px=psf_sigma_px, frame=frame, counts=counts)
     return image, counts
 
 
