@@ -162,7 +162,7 @@ def place_chunk(image, columns, ra_column, dec_column, rgb, coloured, spec, *,
     Returns
     -------
     dict
-        ``counts``.
+        The counts, updated: drawn, and the rows skipped by reason.
 
     References
     ----------
