@@ -32,6 +32,9 @@ CATALOGUE_FILTER = "Catalogues (*.csv *.ecsv *.fits *.fit *.vot *.xml *.parquet)
 #: Words for the colour sources (the plan's names).
 SOURCE_WORDS = {"temperature": "Temperature, K", "bv": "B\u2212V colour index",
                 "bp-rp": "Gaia BP\u2212RP colour"}
+#: The same, inside a sentence.
+SOURCE_PHRASES = {"temperature": "temperature (K)", "bv": "B\u2212V",
+                  "bp-rp": "Gaia BP\u2212RP"}
 NO_MAGNITUDE = "(none: every star equally bright)"
 
 
@@ -367,8 +370,15 @@ class PlateDialog(ExportDialog):
             w.editingFinished.connect(self.refresh_preview)
         for c in (self.projection, self.values):
             c.currentIndexChanged.connect(self.refresh_preview)
+        self.projection.currentIndexChanged.connect(self._projection_chosen)
+        self._projection_chosen()
         self.path.setText(str(Path.home() / self.default_name))
         self.resize(560, 640)
+
+    def _projection_chosen(self, *_args) -> None:
+        dome = self.projection.currentData() == "fisheye"
+        for w in (self.fov, self.tilt, self.centre):
+            w.setEnabled(dome)  # still passed (and recorded), as the command passes them
 
     # -- the options, as the command checks them -----------------------------------------
     def table(self):
@@ -436,14 +446,17 @@ class PlateDialog(ExportDialog):
 
         t = self.table()
         c = t.choice
-        colour = f"{SOURCE_WORDS[c.source].lower()} from {c.source_column!r}"
+        colour = f"{SOURCE_PHRASES[c.source]} from {c.source_column!r}"
         mag = f"magnitude from {c.magnitude!r}" if c.magnitude else "no magnitudes"
         self.source_note.setText(f"{t.path.name}, {t.rows:,} rows: RA {c.ra!r}, Dec {c.dec!r}, "
                                  f"{colour}, {mag}")
         spec = self.spec()
         frame = self.frame()
         psf = self.psf_px()
-        small = self.spec(width=min(spec.width_px, PREVIEW_MAX[0]))
+        # drawn at about the size it is shown, so that no star is averaged away
+        room = self.preview.width() if spec.projection == "equirect" else \
+            min(self.preview.width(), self.preview.height())
+        small = self.spec(width=max(16, min(spec.width_px, PREVIEW_MAX[0], room)))
         kw = None
         if frame["site"] is not None:
             kw = dict(site=frame["site"], time=frame["moment"], refraction=False,

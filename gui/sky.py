@@ -289,8 +289,16 @@ class SkyPreview(QtWidgets.QWidget):
         t = self._theme
         if self._image is not None:
             if self.showing_plate():  # a plate keeps its shape: centred
-                p.drawImage((self.width() - self._image.width()) // 2,
-                            (self.height() - self._image.height()) // 2, self._image)
+                x0 = (self.width() - self._image.width()) // 2
+                y0 = (self.height() - self._image.height()) // 2
+                p.drawImage(x0, y0, self._image)
+                if self.plate is not None and self.plate.spec.projection == "fisheye":
+                    # the dome's rim, in the interface's muted colour (the sky is black both
+                    # sides of it)
+                    p.setRenderHint(QtGui.QPainter.RenderHint.Antialiasing)
+                    p.setPen(QtGui.QPen(QtGui.QColor(t.muted), 1, QtCore.Qt.PenStyle.DotLine))
+                    p.drawEllipse(QtCore.QRectF(x0 + 0.5, y0 + 0.5, self._image.width() - 1,
+                                                self._image.height() - 1))
             else:
                 p.drawImage(0, 0, self._image)
         if 0 <= self._selected and self._sky is not None and not self.showing_plate():
@@ -327,11 +335,15 @@ class SkyPreview(QtWidgets.QWidget):
         elif self.plate is None:
             text = f"{table.path.name}: drawing {table.rows:,} stars\u2026"
         else:
-            drawn = self.plate.counts.get("drawn", 0)
-            skipped = table.rows - drawn
-            text = f"{table.path.name}: {drawn:,} stars"
+            counts = self.plate.counts
+            drawn = counts.get("drawn", 0)
+            outside = counts.get("outside the plate", 0) + counts.get("below horizon", 0)
+            skipped = table.rows - drawn - outside
+            text = f"{drawn:,} stars"
+            if outside:
+                text += f", {outside:,} outside the view"
             if skipped:
-                text += f", {skipped:,} not drawn"
+                text += f", {skipped:,} skipped"
             if self._running:
                 text += " \u00b7 redrawing\u2026"
         self._caption(p, t, text)
