@@ -83,7 +83,7 @@ class SkyPreview(QtWidgets.QWidget):
         self._generation = 0
         self._running = False
         self._pending = False
-        self._jobs = set()
+        self._jobs = {}
         self._timer = QtCore.QTimer(self)
         self._timer.setSingleShot(True)
         self._timer.setInterval(0)
@@ -214,14 +214,15 @@ class SkyPreview(QtWidgets.QWidget):
         job = _PlateJob(gen, lambda: model.star_plate(
             spec, settings, should_stop=lambda: self._generation != gen))
         job.setAutoDelete(False)
-        self._jobs.add(job)  # kept alive until its signal has been delivered
-        job.signals.done.connect(lambda g, r, j=job: self._finished(j, g, r),
-                                 QtCore.Qt.ConnectionType.QueuedConnection)
+        self._jobs[gen] = job  # kept alive until its signal has been delivered
+        # a bound slot of this widget: Qt drops the call if the widget is gone by then
+        job.signals.done.connect(self._finished, QtCore.Qt.ConnectionType.QueuedConnection)
         self._running, self._pending = True, False
         QtCore.QThreadPool.globalInstance().start(job)
 
-    def _finished(self, job, generation, result) -> None:
-        self._jobs.discard(job)
+    @QtCore.Slot(int, object)
+    def _finished(self, generation, result) -> None:
+        self._jobs.pop(generation, None)
         self._running = False
         if generation == self._generation and result is not None:
             if isinstance(result, StarkilnError):

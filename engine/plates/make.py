@@ -48,7 +48,12 @@ class PlateResult:
 
 
 def plate_file_type(path) -> str:
-    """``png16`` or ``exr-float`` for an output path (StarkilnError for another extension)."""
+    """``png16`` or ``exr-float`` for an output path (StarkilnError for another extension).
+
+    References
+    ----------
+    [PNG] (16-bit samples); OpenEXR (float samples); file types by extension, common practice.
+    """
     ext = str(path).lower().rsplit(".", 1)[-1]
     if ext not in PLATE_FILE_TYPES:
         raise StarkilnError(f"{path}: unknown image type; accepted: .png, .exr")
