@@ -9,7 +9,7 @@ from __future__ import annotations
 from starkiln.cli.options import add_colour_options, number, settings_from_args
 from starkiln.engine.errors import StarkilnError
 
-PROJECTIONS = ("equirect", "fisheye")
+from starkiln.engine.plates.make import PLATE_PROJECTIONS as PROJECTIONS
 
 
 def add_parsers(sub) -> None:
@@ -83,12 +83,11 @@ def _size(text, projection):
 
 def cmd_plate(args, out) -> int:
     """``starkiln plate``: check every option, then draw and write the plate atomically."""
-    import numpy as np
-
     from starkiln.cli.catalogue import plan_from_args
-    from starkiln.engine.atomic import atomic_path, check_writable
+    from starkiln.engine.atomic import check_writable
     from starkiln.engine.plates import frames
-    from starkiln.engine.plates.plate_files import check_plate_memory, plate_metadata
+    from starkiln.engine.plates.make import plate_file_type
+    from starkiln.engine.plates.plate_files import check_plate_memory
 
     if args.settings_from:
         _apply_old_plate(args)
@@ -101,14 +100,10 @@ def cmd_plate(args, out) -> int:
                             + ", ".join(PROJECTIONS))
     if not 1.0 <= args.fov <= 360.0:
         raise StarkilnError(f"--fov {args.fov:g} is out of range; accepted: 1-360 degrees")
-    if not (args.psf_px > 0 and args.psf_px <= 50):
-        raise StarkilnError(f"--psf-px {args.psf_px:g} is out of range; accepted: 0-50 px")
     values = str(args.values).strip().lower()
     if values not in ("display", "flux"):
         raise StarkilnError(f"--values {args.values!r} unknown; accepted: display, flux")
-    ext = str(args.output).lower().rsplit(".", 1)[-1]
-    if ext not in ("png", "exr"):
-        raise StarkilnError(f"{args.output}: unknown image type; accepted: .png, .exr")
+    plate_file_type(args.output)
     frame_name = str(args.frame).strip().lower()
     if frame_name not in frames.FRAMES:
         raise StarkilnError(f"--frame {args.frame!r} unknown; accepted: equatorial, horizon")
@@ -133,47 +128,22 @@ def cmd_plate(args, out) -> int:
 
         settings = Settings.from_dict(args.old_settings, source=args.settings_from)
     plan = plan_from_args(args, settings)
-    if values == "flux":
-        from dataclasses import replace
 
-        if plan.magnitude_column is None:
-            raise StarkilnError("--values flux needs --magnitude-column")
-        plan = replace(plan, linear_columns=("lin-srgb",))
+    import sys
 
+    from starkiln.engine.plates.make import make_plate
     from starkiln.engine.plates.projection import PlateSpec
-    from starkiln.engine.plates.run import column_names, draw_chunk, plate_chunks, radec_columns
 
     spec = PlateSpec(projection=projection, width_px=width, height_px=height,
                      fov_deg=float(args.fov), centre_lon_deg=centre[0],
                      centre_lat_deg=centre[1], tilt_deg=float(args.tilt))
-    ra_col, dec_col, line = radec_columns(column_names(args.input), args.ra_column,
-                                          args.dec_column)
-    import sys
-    sys.stderr.write(f"starkiln: {line}\n")
-    frame_kw = {} if site is None else dict(site=site, time=moment, refraction=args.refraction,
-                                            below_horizon=below)
-    image = np.zeros((height, width, 3), dtype=np.float32)
-    counts = {}
-    names = list(dict.fromkeys([ra_col, dec_col, *plan.input_columns]))
-    for _, chunk in plate_chunks(args.input, plan, names):
-        draw_chunk(image, plan, chunk, ra_col, dec_col, spec, psf_sigma_px=args.psf_px,
-                   values=values, frame=frame_kw, counts=counts)
-    frame = {"frame": frame_name}
-    if site is not None:
-        frame.update(site=site.text(), time=moment.isot, refraction=bool(args.refraction),
-                     below_horizon=below)
-    meta = plate_metadata(settings, spec, frame=frame, psf_sigma_px=args.psf_px,
-                          values=values, counts=counts,
-                          columns={"ra": ra_col, "dec": dec_col, "source": plan.source,
-                                   "source_column": plan.source_column,
-                                   "magnitude": plan.magnitude_column},
-                          output_type="png16" if ext == "png" else "exr-float")
-    _write(args.output, image, meta, args.force, atomic_path)
-    out.write(f"{counts.get('drawn', 0):,} stars -> {args.output} ({width} x {height}, "
-              f"{projection}, {values})\n")
-    for k, v in sorted(counts.items()):
-        if k != "drawn" and v:
-            out.write(f"  skipped, {k}: {v:,}\n")
+    result = make_plate(args.input, args.output, plan, spec, ra_column=args.ra_column,
+                        dec_column=args.dec_column, psf_sigma_px=args.psf_px, values=values,
+                        site=site, moment=moment, refraction=bool(args.refraction),
+                        below_horizon=below, overwrite=args.force,
+                        log=lambda line: sys.stderr.write(f"starkiln: {line}\n"))
+    for line in result.lines(args.output, spec, values):
+        out.write(line + "\n")
     return 0
 
 
@@ -207,21 +177,6 @@ def _apply_old_plate(args):
     if cols.get("magnitude"):
         args.magnitude_column, args.magnitude = cols["magnitude"], None
     args.old_settings = old["settings"]
-
-
-def _write(path, image, meta, overwrite, atomic_path):
-    import numpy as np
-
-    from starkiln.engine.exports.image_files import write_exr, write_png
-    from starkiln.engine.exports.texture_metadata import metadata_json
-
-    text = metadata_json(meta)
-    with atomic_path(path, overwrite) as tmp:
-        if str(path).lower().endswith(".png"):
-            q = np.floor(np.clip(image, 0.0, 1.0) * 65535.0 + 0.5).astype(np.uint16)
-            write_png(tmp, q, {"starkiln": text})
-        else:
-            write_exr(tmp, image, {"starkiln": text})
 
 
 COMMANDS = {"plate": cmd_plate}

@@ -30,7 +30,7 @@ from starkiln.gui.swatches import SwatchStrip
 PREVIEW_MAX = (512, 256)
 
 
-def _array_image(rgb8: np.ndarray) -> QtGui.QImage:
+def array_image(rgb8: np.ndarray) -> QtGui.QImage:
     """A QImage sharing nothing with ``rgb8`` (H, W, 3 or 4) uint8."""
     a = np.ascontiguousarray(rgb8[..., :3], dtype=np.uint8)
     img = QtGui.QImage(a.data, a.shape[1], a.shape[0], a.strides[0],
@@ -38,7 +38,7 @@ def _array_image(rgb8: np.ndarray) -> QtGui.QImage:
     return img.copy()
 
 
-class _ExportDialog(QtWidgets.QDialog):
+class ExportDialog(QtWidgets.QDialog):
     """Shared parts: output path, overwrite, preview, status, equivalent command line."""
 
     written = QtCore.Signal(str)
@@ -153,8 +153,12 @@ class _ExportDialog(QtWidgets.QDialog):
         display_rgb8 = np.ascontiguousarray(rgb8[..., :3], dtype=np.uint8)
         shown, _clipped = encoded_on_monitor(display_rgb8, m.settings.display, m.monitor,
                                              m.viewing_level)
-        self.preview_image = _array_image(display_rgb8)
-        img = self.preview_monitor_image = _array_image(shown)
+        self.preview_image = array_image(display_rgb8)
+        self.show_monitor_image(array_image(shown))
+
+    def show_monitor_image(self, img: QtGui.QImage) -> None:
+        """Paint an image already in the monitor's colours, fitted to the preview area."""
+        self.preview_monitor_image = img
         area = self.preview.size()
         pix = QtGui.QPixmap.fromImage(img)
         if pix.width() < area.width() // 2:
@@ -166,7 +170,7 @@ class _ExportDialog(QtWidgets.QDialog):
         self.preview.setPixmap(pix)
 
 
-class LutDialog(_ExportDialog):
+class LutDialog(ExportDialog):
     """Options of ``starkiln lut`` and a preview of the texture."""
 
     default_name = "star-lut.png"
@@ -320,7 +324,7 @@ class LutDialog(_ExportDialog):
         return f"Wrote {path} ({spec.width} \u00d7 {spec.height}, {spec.file_format.upper()})"
 
 
-class PaletteDialog(_ExportDialog):
+class PaletteDialog(ExportDialog):
     """Options of ``starkiln palette`` and a preview of the swatches."""
 
     default_name = "star-palette.json"

@@ -78,6 +78,8 @@ from starkiln.engine.plotdata.plots import (BandColours, ChromaticityDiagram, Mi
                                             spectral_band_colours,
                                             spectrum_plot_wavelengths_nm)
 from starkiln.engine.plotdata.sky import Cluster, SkyImage, load_demo_cluster, sky_image
+from starkiln.engine.plates.preview import (ColumnChoice, StarTable, load_star_table,
+                                            plate_on_monitor, preview_plate)
 from starkiln.engine.stars.temperature import check_temperature, temperature_from_bv
 from starkiln.engine.stars.temperature import temperature_from_spectral_class
 
@@ -160,6 +162,8 @@ class ModelEvents:
         after ``settings`` and ``plots``).
     pins : value the tuple of :class:`Pin` now pinned (a pin was added or removed, or the A/B
         pair loaded); the strips follow from :meth:`WindowModel.pin_strips`.
+    stars : value the :class:`~starkiln.engine.plates.preview.StarTable` now loaded for the
+        sky panel, or None (back to the demo cluster).
     """
 
     def __init__(self):
@@ -172,6 +176,7 @@ class ModelEvents:
         self.viewing = Event("viewing")
         self.history = Event("history")
         self.pins = Event("pins")
+        self.stars = Event("stars")
 
 
 #: Origins of the history's own steps: changes made by undo and redo are not pushed again.
@@ -435,6 +440,18 @@ class PinStrip:
 
 
 # -- the model ---------------------------------------------------------------------------------
+@dataclasses.dataclass(frozen=True)
+class StarPlate:
+    """A catalogue drawn as a plate for the sky panel: the settings, table and spec it was
+    drawn with, the image of display values (H, W, 3) float32 and the row counts."""
+
+    settings: Settings
+    table: StarTable
+    spec: object
+    image: np.ndarray
+    counts: dict
+
+
 class WindowModel:
     """Current settings, temperature and magnitude, their renders, and the plot data.
 
@@ -485,6 +502,7 @@ class WindowModel:
         self._cluster: Cluster | None = None
         self._cluster_error: str | None = None
         self._sky: tuple | None = None
+        self._stars: StarTable | None = None
         settings = settings if settings is not None else Settings()
         if not isinstance(settings, Settings):
             raise StarkilnError(f"not a settings object: {settings!r}")
@@ -975,6 +993,60 @@ class WindowModel:
             self.set_magnitude(float(c.magnitude[index]), origin)
         except StarkilnError:
             pass
+
+    # -- a catalogue in the sky panel ----------------------------------------------------------
+    @property
+    def star_table(self) -> StarTable | None:
+        """The catalogue loaded for the sky panel, or None (the demo cluster is shown)."""
+        return self._stars
+
+    def load_star_table(self, path, choice: ColumnChoice | None = None,
+                        origin: str = "stars") -> StarTable:
+        """Load a catalogue file for the sky panel (the columns ``choice`` names, the rest
+        proposed by :func:`starkiln.engine.plates.preview.guess_columns`).
+
+        A file the engine refuses is reported on ``events.rejected`` and raised again; the
+        catalogue shown before stays.
+        """
+        try:
+            table = load_star_table(path, choice)
+        except StarkilnError as exc:
+            self._report(origin, exc)
+            raise
+        self._stars = table
+        self.events.stars.emit(origin, table)
+        return table
+
+    def clear_star_table(self, origin: str = "stars") -> None:
+        """Back to the demo cluster in the sky panel."""
+        if self._stars is not None:
+            self._stars = None
+            self.events.stars.emit(origin, None)
+
+    def star_plate(self, spec, settings: Settings | None = None, psf_sigma_px: float = 0.7,
+                   should_stop=None, frame=None) -> "StarPlate | None":
+        """The loaded catalogue drawn into a plate of ``spec`` with ``settings`` (default the
+        current ones), by the plate command's drawing
+        (:func:`starkiln.engine.plates.preview.preview_plate`).
+
+        Reads only what it is given and the loaded table (both immutable), so a worker thread
+        may call it; None if ``should_stop`` stopped it. StarkilnError without a catalogue.
+        """
+        table = self._stars
+        if table is None:
+            raise StarkilnError("no catalogue is loaded; accepted: Load\u2026 one in the sky panel first")
+        settings = self._settings if settings is None else settings
+        drawn = preview_plate(settings, table, spec, psf_sigma_px, should_stop=should_stop,
+                              frame=frame)
+        if drawn is None:
+            return None
+        return StarPlate(settings, table, spec, drawn[0], drawn[1])
+
+    def star_plate_rgb_8bit(self, plate: "StarPlate") -> np.ndarray:
+        """What the panel paints of a plate: its display values on the monitor at the viewing
+        level (:func:`starkiln.engine.plates.preview.plate_on_monitor`)."""
+        return plate_on_monitor(plate.image, plate.settings.display, self._monitor,
+                                self._viewing_level)
 
     # -- slider table --------------------------------------------------------------------------
     @property

@@ -145,6 +145,10 @@ def platform_monitor(screen) -> tuple[Display, str]:
     return monitor_from_colour_space(space)
 
 
+#: The sky panel's title while the demo cluster is shown.
+SKY_TITLE = "Demo sky: Kiln cluster"
+
+
 def _titled(title: str, widget: QtWidgets.QWidget, extra: QtWidgets.QWidget | None = None,
             name: str = "") -> QtWidgets.QGroupBox:
     box = QtWidgets.QGroupBox(title)
@@ -285,8 +289,14 @@ class MainWindow(QtWidgets.QMainWindow):
         self.lower_split.setObjectName("split-lower")
         self.lower_split.addWidget(_titled("Chromaticity x, y", chroma_box, zoom_bar,
                                            "box-chromaticity"))
-        self.lower_split.addWidget(_titled("Demo sky: Kiln cluster",
-                                           self.sky, None, "box-sky"))
+        from starkiln.gui.plates import SkyBar
+
+        self.sky_bar = SkyBar(m, self.sky, self)
+        self.sky_box = _titled(SKY_TITLE, self.sky, self.sky_bar, "box-sky")
+        self.lower_split.addWidget(self.sky_box)
+        self.sky_bar.export_button.clicked.connect(self.plate_dialog)
+        m.events.stars.connect(lambda c: self.sky_box.setTitle(
+            SKY_TITLE if c.value is None else f"Sky: {c.value.path.name}"))
         self.lower_split.setSizes([380, 260])
         self.lower_split.setStretchFactor(0, 3)
         self.lower_split.setStretchFactor(1, 2)
@@ -345,6 +355,9 @@ class MainWindow(QtWidgets.QMainWindow):
         self.action_export_palette = file.addAction(
             "Export palette\u2026", lambda: self.export_dialog("palette"),
             QtGui.QKeySequence(SHORTCUTS["export-palette"]))
+        self.action_export_plate = file.addAction("Export star plate\u2026", self.plate_dialog)
+        self.action_load_catalogue = file.addAction("Load a catalogue into the sky\u2026",
+                                                    self.sky_bar._load_dialog)
         file.addAction("Save a picture of this window\u2026", self._picture_dialog)
         file.addSeparator()
         file.addAction("Quit", self.close, QtGui.QKeySequence.StandardKey.Quit)
@@ -730,6 +743,14 @@ class MainWindow(QtWidgets.QMainWindow):
         dialog.show()
         dialog.refresh_preview()
         return dialog
+
+    def plate_dialog(self):
+        """Open (non-modal) the star plate export dialog and return it."""
+        d = self.sky_bar.export_dialog()
+        if not getattr(d, "_connected", False):
+            d.written.connect(lambda msg: self.statusBar().showMessage(msg, 5000))
+            d._connected = True
+        return d
 
     # -- persistence -------------------------------------------------------------------------
     def _restored_session(self):

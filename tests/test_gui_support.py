@@ -96,6 +96,8 @@ def reset_window(w):
         w.set_overlay(key, False)
     w.zoom.setCurrentIndex(0)
     w.settings_path = None
+    m.clear_star_table()
+    w.sky.set_view("cluster")
     w.store.clear()
     w._rebuild_recent()
 

@@ -101,7 +101,73 @@ def draw_chunk(image, plan, columns, ra_column, dec_column, spec, *, psf_sigma_p
     ----------
     :func:`starkiln.engine.catalogue.colouring.colour_values`; Pogson (1856) magnitudes.
     """
+    counts = {} if counts is None else counts
+    rgb, ok = chunk_colours(plan, columns, values)
+    return place_chunk(image, columns, ra_column, dec_column, rgb, ok, spec,
+                       psf_sigma_px=psf_sigma_px, frame=frame, counts=counts)
+
+
+def chunk_colours(plan, columns, values="display"):
+    """The colour each star of a chunk deposits, and which rows the render path coloured.
+
+    The first half of :func:`draw_chunk`: the render path's colour through the catalogue's
+    per-chunk colouring; display values (colour times intensity) or flux.
+
+    Parameters
+    ----------
+    plan, columns, values
+        As :func:`draw_chunk`.
+
+    Returns
+    -------
+    (numpy.ndarray, numpy.ndarray)
+        ``rgb`` (N, 3) and ``coloured`` (N,) bool.
+
+    References
+    ----------
+    :func:`starkiln.engine.catalogue.colouring.colour_values`; Pogson (1856) magnitudes.
+    """
     from starkiln.engine.catalogue.colouring import colour_values
+
+    colour_cols = {k: columns[k] for k in plan.input_columns}
+    res = colour_values(plan, colour_cols)
+    n = len(res.r)
+    flagged = res.blank if res.blank is not None else np.zeros(n, bool)
+    if values == "flux":
+        if not res.linear or plan.magnitude_column is None:
+            raise StarkilnError("--values flux needs a magnitude column and a linear space")
+        mag = columns[plan.magnitude_column][0]
+        weight = 10.0 ** (-0.4 * mag)
+        rgb = np.stack(res.linear[:3], axis=-1) * weight[:, None]
+    else:
+        rgb = np.stack([res.r, res.g, res.b], axis=-1) * res.intensity[:, None]
+    return rgb, ~flagged
+
+
+def place_chunk(image, columns, ra_column, dec_column, rgb, coloured, spec, *,
+                psf_sigma_px=0.7, frame=None, counts=None):
+    """Place and deposit stars already coloured (:func:`chunk_colours`) into ``image``.
+
+    The second half of :func:`draw_chunk`: RA / Dec checked (reasons counted), turned into the
+    plate's frame, projected and deposited.
+
+    Parameters
+    ----------
+    image, columns, ra_column, dec_column, spec, psf_sigma_px, frame, counts
+        As :func:`draw_chunk`.
+    rgb : ndarray (N, 3)
+    coloured : ndarray (N,) bool
+        False for the rows the render path flagged (counted, not drawn).
+
+    Returns
+    -------
+    dict
+        The counts, updated: drawn, and the rows skipped by reason.
+
+    References
+    ----------
+    Calabretta & Greisen 2002, A&A 395, 1077 (the projections); the drawing module.
+    """
     from starkiln.engine.plates.drawing import deposit
     from starkiln.engine.plates.projection import fisheye_valid_pixels, project
 
@@ -116,19 +182,9 @@ def draw_chunk(image, plan, columns, ra_column, dec_column, spec, *, psf_sigma_p
     ok, reasons = check_radec(ra, dec)
     for k, n in reasons.items():
         counts[k] = counts.get(k, 0) + n
-    colour_cols = {k: columns[k] for k in plan.input_columns}
-    res = colour_values(plan, colour_cols)
-    flagged = ok & (res.blank if res.blank is not None else np.zeros(ok.shape, bool))
+    flagged = ok & ~coloured
     counts["render-flagged"] = counts.get("render-flagged", 0) + int(flagged.sum())
     ok &= ~flagged
-    if values == "flux":
-        if not res.linear or plan.magnitude_column is None:
-            raise StarkilnError("--values flux needs a magnitude column and a linear space")
-        mag = columns[plan.magnitude_column][0]
-        weight = 10.0 ** (-0.4 * mag)
-        rgb = np.stack(res.linear[:3], axis=-1) * weight[:, None]
-    else:
-        rgb = np.stack([res.r, res.g, res.b], axis=-1) * res.intensity[:, None]
     lon, lat, keep = plate_coordinates(ra[ok], dec[ok], **(frame or {}))
     counts["below horizon"] = counts.get("below horizon", 0) + int((~keep).sum())
     lon, lat, rgb = lon[keep], lat[keep], rgb[ok][keep]
@@ -212,14 +268,25 @@ def column_names(path):
 
     path = Path(path)
     fmt = format_of(path, "input")
-    if fmt == "csv":
-        import pyarrow.csv as pcsv
+    if fmt in ("csv", "parquet"):
+        import pyarrow as pa
 
-        with pcsv.open_csv(path) as reader:
-            return list(reader.schema.names)
-    if fmt == "parquet":
-        import pyarrow.parquet as pq
+        from starkiln.engine.catalogue.streaming import csv_error
 
-        return list(pq.read_schema(path).names)
+        try:
+            if fmt == "parquet":
+                import pyarrow.parquet as pq
+
+                return list(pq.read_schema(path).names)
+            import pyarrow.csv as pcsv
+
+            with pcsv.open_csv(path) as reader:
+                return list(reader.schema.names)
+        except OSError as exc:
+            raise StarkilnError(f"{path}: cannot read ({exc.strerror or exc})") from None
+        except pa.ArrowException as exc:  # not a table pyarrow can read
+            if fmt == "csv":
+                raise csv_error(path, exc) from None
+            raise StarkilnError(f"{path}: cannot read as Parquet ({exc})") from None
     with astropy_guard():
         return list(read_astropy(path, fmt).colnames)
