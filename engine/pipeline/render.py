@@ -415,7 +415,7 @@ _SOLVE_STEPS = 30
 _SCAN_POINTS = 8
 #: Largest chroma factor tried where nothing limits it (a working space without mapping).
 _FACTOR_CAP = 1.0e4
-_GAMUT_LIMIT_STEPS = 40  # bisection on [0, _FACTOR_CAP]: to 1e-8 of the factor
+_GAMUT_LIMIT_STEPS = 22  # log2 bisection over 33 octaves: to 5e-6 of the factor
 
 
 def _dome_perceived(settings, chain, lab, factor, sp, intensity):
@@ -427,31 +427,42 @@ def _dome_perceived(settings, chain, lab, factor, sp, intensity):
 
 
 def _gamut_limit(settings, chain, lab):
-    """Largest chroma factor (0.._FACTOR_CAP) whose colour has no channel below 0, by bisection;
+    """Largest chroma factor (up to ``_FACTOR_CAP``) whose colour has no channel below 0;
     ``_FACTOR_CAP`` for a target without gamut mapping.
 
-    The same colours as :func:`_scaled_rgb`, written in Oklab's cone space: there the colour
-    of factor f is ``lms' = p + f q + t(f) r`` (neutral part, chroma part, night tint with
+    Bisection on log2 of the factor over [2^-20, _FACTOR_CAP], once per distinct colour (a
+    texture repeats each temperature's colour on every magnitude row). The colours are those
+    of :func:`_scaled_rgb`, written in Oklab's cone space: there the colour of factor f is
+    ``lms' = p + f q + t(f) r`` (neutral part, chroma part, night tint with
     ``t(f) = night_tint (1 - min(f, 1))``), and RGB is a fixed matrix of ``lms'^3``
-    ([Ottosson2020]), so each bisection step is one cube and one 3 x 3 product.
+    ([Ottosson2020]), so each step is one cube and one 3 x 3 product.
     """
     n = lab.shape[0]
     if settings.gamut == NO_MAPPING:
         return np.full(n, _FACTOR_CAP)
+    # distinct colours: rows of one temperature are bitwise equal (checked, not assumed)
+    first_L, inverse = np.unique(lab[:, 0], return_inverse=True)
+    inverse = inverse.reshape(-1)
+    distinct = np.empty((first_L.size, 3))
+    distinct[inverse] = lab
+    if not np.array_equal(distinct[inverse], lab):
+        distinct, inverse = lab, np.arange(n)
     neutral = neutral_ab_per_lightness(chain.rgb_to_XYZ_D65)
-    grey = lab[:, :1] * np.array([1.0, neutral[0], neutral[1]])
+    grey = distinct[:, :1] * np.array([1.0, neutral[0], neutral[1]])
     p = grey @ OKLAB_M2_INV.T
-    q = (lab - grey) @ OKLAB_M2_INV.T
+    q = (distinct - grey) @ OKLAB_M2_INV.T
     r = (settings.night_tint * np.array([0.0, *nv.NIGHT_TINT_AB])) @ OKLAB_M2_INV.T
     to_rgb = (np.linalg.inv(chain.rgb_to_XYZ_D65) @ OKLAB_M1_INV).T
-    lo, hi = np.zeros(n), np.full(n, _FACTOR_CAP)
+    lo = np.full(distinct.shape[0], -20.0)
+    hi = np.full(distinct.shape[0], np.log2(_FACTOR_CAP))
     for _ in range(_GAMUT_LIMIT_STEPS):
         mid = 0.5 * (lo + hi)
-        lms = p + mid[:, None] * q + (1.0 - np.minimum(mid, 1.0))[:, None] * r
+        f = np.exp2(mid)
+        lms = p + f[:, None] * q + (1.0 - np.minimum(f, 1.0))[:, None] * r
         ok = channel_min((lms * lms * lms) @ to_rgb) >= -GAMUT_TOLERANCE
         lo = np.where(ok, mid, lo)
         hi = np.where(ok, hi, mid)
-    return lo
+    return np.exp2(lo)[inverse]
 
 
 def _compensate(settings: Settings, chain: "_Chain", lab, goal, sp, intensity):
