@@ -413,7 +413,7 @@ _SOLVE_TOLERANCE = 1e-3
 _SOLVE_STEPS = 30
 #: Interior points scanned for a bracket where the gamut limit itself falls short.
 _SCAN_POINTS = 8
-#: Largest chroma factor tried where nothing limits it (a working space without mapping).
+#: Upper end of the search for the gamut limit (a nearly white star can take a large factor).
 _FACTOR_CAP = 1.0e4
 _GAMUT_LIMIT_STEPS = 22  # log2 bisection over 33 octaves: to 5e-6 of the factor
 
@@ -427,8 +427,10 @@ def _dome_perceived(settings, chain, lab, factor, sp, intensity):
 
 
 def _gamut_limit(settings, chain, lab):
-    """Largest chroma factor (up to ``_FACTOR_CAP``) whose colour has no channel below 0;
-    ``_FACTOR_CAP`` for a target without gamut mapping.
+    """Largest chroma factor (up to ``_FACTOR_CAP``) whose colour has no channel below 0.
+
+    For every target, a working space without mapping too: the boost stops at the target's
+    cube (a working space's own gamut); a colour outside it already is not boosted further.
 
     Bisection on log2 of the factor over [2^-20, _FACTOR_CAP], once per distinct colour (a
     texture repeats each temperature's colour on every magnitude row). The colours are those
@@ -438,8 +440,6 @@ def _gamut_limit(settings, chain, lab):
     ([Ottosson2020]), so each step is one cube and one 3 x 3 product.
     """
     n = lab.shape[0]
-    if settings.gamut == NO_MAPPING:
-        return np.full(n, _FACTOR_CAP)
     # distinct colours: rows of one temperature are bitwise equal (checked, not assumed)
     first_L, inverse = np.unique(lab[:, 0], return_inverse=True)
     inverse = inverse.reshape(-1)
@@ -487,9 +487,7 @@ def _compensate(settings: Settings, chain: "_Chain", lab, goal, sp, intensity):
     ``reached`` is then tested, not assumed: |P - goal| <= COMPENSATION_TOLERANCE * goal and
     the colour inside the gamut.
     """
-    n = goal.size
-    f = goal.copy()
-    rgb, inside, achieved, p = _dome_perceived(settings, chain, lab, f, sp, intensity)
+    rgb, inside, achieved, p = _dome_perceived(settings, chain, lab, goal, sp, intensity)
     todo = np.flatnonzero(np.abs(p - goal) > _SOLVE_TOLERANCE * goal)
     if todo.size:
         lab_t, sp_t, i_t, g_t = lab[todo], sp[todo], intensity[todo], goal[todo]
@@ -551,7 +549,6 @@ def _compensate(settings: Settings, chain: "_Chain", lab, goal, sp, intensity):
             ga[act] = np.where(up, ga_new, gc)
             side[act] = np.where(up, 1, -1)
             act = act[np.abs(gc) > _SOLVE_TOLERANCE * g_t[act]]
-        f[todo] = f_t
         res, _ = resid(every, f_t)
         rgb[todo], inside[todo], achieved[todo], p[todo] = res
     reached = (np.abs(p - goal) <= nv.COMPENSATION_TOLERANCE * goal) & inside
