@@ -351,11 +351,19 @@ def test_compensation_reached_only_where_the_cie191_percept_is_within_1_percent(
         lp_star = r.photopic_luminance_cd_m2
         m_star, _ = plain_cie191(lp_star, lp_star * sp)
         goal = m_star**2  # the intended saturation of the real star
-        factor = oklab_chroma_from_neutral(r.rgb_linear) / full[None, :]
-        lp_dome = np.maximum(r.intensity * peak * (r.rgb_linear @ y_row), 1e-12)
-        m_dome, _ = plain_cie191(lp_dome, lp_dome * sp)
-        perceived = factor * m_dome**2
+
+        def perceived_on_dome(rgb_linear):
+            factor = oklab_chroma_from_neutral(rgb_linear) / full[None, :]
+            lp_dome = np.maximum(r.intensity * peak * (rgb_linear @ y_row), 1e-12)
+            m_dome, _ = plain_cie191(lp_dome, lp_dome * sp)
+            return factor, factor * m_dome**2
+
+        factor, perceived = perceived_on_dome(r.rgb_linear)
         ok = r.compensation_reached
+        # where out of reach, the boost still never leaves the audience with less than no boost
+        _, unboosted = perceived_on_dome(render(s.replace(compensate=False), GRID_K[None, :],
+                                                GRID_MAG[:, None]).rgb_linear)
+        assert np.all(perceived[~ok] >= unboosted[~ok] * (1.0 - 1e-3) - 1e-9), peak
         assert np.all(np.abs(perceived[ok] - goal[ok]) <= 0.01 * goal[ok] + 1e-9), peak
         # and the engine's own reading of what it did agrees with the independent one (to the
         # small difference of the two sRGB matrices, amplified where a star is nearly white)

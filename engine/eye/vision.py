@@ -66,8 +66,8 @@ The model, in order (all vectorised):
    ends: ``starkiln.engine.pipeline.render._compensate``, docs/science.md).
    The intent counts as *reached* only where ``P`` is within 1 %
    (``COMPENSATION_TOLERANCE``) of ``s`` and the colour fits the gamut;
-   otherwise the colour with the largest ``P`` found is shown and reported
-   out of reach. The displayed light's S/P is taken as the star's (the display
+   otherwise the colour with the largest ``P`` tried is shown (no boost where
+   no colour is seen at any factor) and reported out of reach. The displayed light's S/P is taken as the star's (the display
    reproduces the colour metamerically; its primaries' spectra are unknown):
    an approximation.
 

@@ -477,8 +477,9 @@ def _compensate(settings: Settings, chain: "_Chain", lab, goal, sp, intensity):
     2. The others get the bracket [goal, f_max], f_max the gamut limit (bisection, no vision
        work). Where P(f_max) >= goal the bracket holds a root (intermediate value theorem);
        elsewhere ``_SCAN_POINTS`` geometric interior points are tried and the first one with
-       P >= goal closes the bracket; where none does the goal is out of reach and the point
-       with the largest P is shown.
+       P >= goal closes the bracket (skipped where even the white's luminance at f_max
+       would fall short); where none does the goal is out of reach and the factor with the
+       largest P tried is shown (ties: the smaller, so no boost where no colour is seen).
     3. False position with the Illinois modification on every bracket, at most
        ``_SOLVE_STEPS`` vectorised steps; a star leaves the active set when its residual is
        within ``_SOLVE_TOLERANCE``. Each step keeps a sign change inside the bracket, so the
@@ -491,30 +492,53 @@ def _compensate(settings: Settings, chain: "_Chain", lab, goal, sp, intensity):
     todo = np.flatnonzero(np.abs(p - goal) > _SOLVE_TOLERANCE * goal)
     if todo.size:
         lab_t, sp_t, i_t, g_t = lab[todo], sp[todo], intensity[todo], goal[todo]
+        # the shown result of every star in ``todo``, updated wherever its factor changes
+        shown = [rgb[todo], inside[todo], achieved[todo], p[todo]]
 
-        def resid(idx, factor):
+        def evaluate(idx, factor):
+            """(rgb, inside, achieved, P) of stars ``idx`` at ``factor``, and P - goal."""
             out = _dome_perceived(settings, chain, lab_t[idx], factor, sp_t[idx], i_t[idx])
             return out, out[3] - g_t[idx]
 
+        def show(idx, out, keep=None):
+            """Stars ``idx`` (where ``keep``) take the result ``out`` as the one shown."""
+            sel = idx if keep is None else idx[keep]
+            for store, value in zip(shown, out):
+                store[sel] = value if keep is None else value[keep]
+
+        every = np.arange(todo.size)
         a = g_t.copy()
         ga = p[todo] - g_t
+        # the fixed-point step f <- goal / s_dome(f) from f = goal, as a first guess below
+        with np.errstate(divide="ignore", invalid="ignore"):
+            guess = g_t * g_t / p[todo]
         b = np.maximum(_gamut_limit(settings, chain, lab_t), a)
-        every = np.arange(todo.size)
-        res_b, gb = resid(every, b)
-        best_f, best_p = b.copy(), res_b[3].copy()
+        out, gb = evaluate(every, b)
+        best_p = p[todo]  # shown so far: the factor goal itself
+        keep = (out[3] > best_p) | (gb >= 0.0)
+        show(every, out, keep)
+        best_p = np.where(keep, out[3], best_p)
         bracket = gb >= 0.0
-        # Where the gamut limit falls short, look inside for a point above the goal.
+        # Where the gamut limit falls short, look inside for a point above the goal; not where
+        # even the white's luminance (Y <= 1 at a brightest channel of 1) at the largest
+        # factor falls short: P(f) <= f_max s(m(intensity x peak)) on the whole bracket.
         scan = np.flatnonzero(~bracket & (b > a))
+        if scan.size:
+            ceiling = nv.perceived_saturation(
+                b[scan], i_t[scan] * settings.display.peak_luminance_cd_m2, sp_t[scan])
+            scan = scan[ceiling >= g_t[scan]]
         if scan.size:
             prev_f, prev_g = a[scan].copy(), ga[scan].copy()
             found = np.zeros(scan.size, dtype=bool)
             ratio = b[scan] / a[scan]
             for j in range(1, _SCAN_POINTS + 1):
                 fj = a[scan] * ratio ** (j / (_SCAN_POINTS + 1))
-                res_j, gj = resid(scan, fj)
-                better = res_j[3] > best_p[scan]
-                best_f[scan] = np.where(better, fj, best_f[scan])
-                best_p[scan] = np.where(better, res_j[3], best_p[scan])
+                # until bracketed, a star shows the point with the largest P so far (ties: the
+                # smaller factor, so no boost where the dome shows no colour at any factor)
+                out, gj = evaluate(scan, fj)
+                keep = ~found & ((out[3] > best_p[scan]) | (gj >= 0.0))
+                show(scan, out, keep)
+                best_p[scan] = np.where(keep, out[3], best_p[scan])
                 new = ~found & (gj >= 0.0)
                 a[scan] = np.where(new, prev_f, a[scan])
                 ga[scan] = np.where(new, prev_g, ga[scan])
@@ -523,22 +547,18 @@ def _compensate(settings: Settings, chain: "_Chain", lab, goal, sp, intensity):
                 found |= new
                 prev_f, prev_g = np.where(found, prev_f, fj), np.where(found, prev_g, gj)
             bracket[scan] = found
-        f_t = best_f
-        # Illinois false position on the brackets (ga < 0 <= gb).
-        act = np.flatnonzero(bracket)
-        f_t[act] = b[act]
-        done_now = np.abs(gb[act]) <= _SOLVE_TOLERANCE * g_t[act]
-        act = act[~done_now]
+        # Illinois false position on the brackets (ga < 0 <= gb), first trial the guess.
+        act = np.flatnonzero(bracket & (np.abs(gb) > _SOLVE_TOLERANCE * g_t))
         side = np.zeros(todo.size, dtype=np.int8)  # which end moved last: -1 a, +1 b
-        for _ in range(_SOLVE_STEPS):
+        for step in range(_SOLVE_STEPS):
             if act.size == 0:
                 break
             fa, fb, va, vb = a[act], b[act], ga[act], gb[act]
             with np.errstate(divide="ignore", invalid="ignore"):
-                c = fb - vb * (fb - fa) / (vb - va)
+                c = guess[act] if step == 0 else fb - vb * (fb - fa) / (vb - va)
             c = np.where(np.isfinite(c) & (c > fa) & (c < fb), c, 0.5 * (fa + fb))
-            _, gc = resid(act, c)
-            f_t[act] = c
+            out, gc = evaluate(act, c)
+            show(act, out)
             up = gc >= 0.0
             # the root lies in [a, c] where gc >= 0, else in [c, b]
             ga_new = np.where(up & (side[act] == 1), 0.5 * va, va)  # Illinois: halve the stale end
@@ -549,8 +569,7 @@ def _compensate(settings: Settings, chain: "_Chain", lab, goal, sp, intensity):
             ga[act] = np.where(up, ga_new, gc)
             side[act] = np.where(up, 1, -1)
             act = act[np.abs(gc) > _SOLVE_TOLERANCE * g_t[act]]
-        res, _ = resid(every, f_t)
-        rgb[todo], inside[todo], achieved[todo], p[todo] = res
+        rgb[todo], inside[todo], achieved[todo], p[todo] = shown
     reached = (np.abs(p - goal) <= nv.COMPENSATION_TOLERANCE * goal) & inside
     return rgb, achieved, reached
 
