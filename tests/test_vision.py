@@ -255,10 +255,10 @@ def test_log_curve_is_linear_in_magnitude():
 
 # --- dome compensation ----------------------------------------------------------------------
 
-def dim_dome(peak):
+def dim_dome(peak, preset="dci-p3"):
     from starkiln.engine.colour.displays import PRESETS
     import dataclasses
-    return dataclasses.replace(PRESETS["dci-p3"], name="test-dome", peak_luminance_cd_m2=peak)
+    return dataclasses.replace(PRESETS[preset], name="test-dome", peak_luminance_cd_m2=peak)
 
 
 def test_compensation_makes_the_dome_percept_match_the_intent():
@@ -275,7 +275,8 @@ def test_compensation_makes_the_dome_percept_match_the_intent():
     perceived = r.saturation * nv.saturation_from_cone_weight(cone_dome)
     ok = r.compensation_reached
     assert ok.any()
-    np.testing.assert_allclose(perceived[ok], intended[ok], rtol=0.05)
+    # "reached" means within 1 % of the intent (issue 15); the solve aims at 0.1 %
+    np.testing.assert_allclose(perceived[ok], intended[ok], rtol=0.01)
     assert np.all(r.saturation >= intended - 1e-9)  # the boost never lowers chroma
 
 
@@ -284,6 +285,174 @@ def test_compensation_reports_out_of_reach():
     s = Settings(display=dim_dome(0.01), scene_white="DCI", compensate=True)
     r = render(s, np.array([3000.0, 20000.0]), 0.0)
     assert not r.compensation_reached.any()
+
+
+SRGB_CS = "sRGB"  # colour-science's colourspace: [IEC61966-2-1] primaries, D65 white
+
+
+def srgb_dome(peak):
+    return dim_dome(peak, "srgb")
+
+
+def srgb_y_row():
+    """The Y row of colour-science's sRGB matrix ([IEC61966-2-1])."""
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        return colour.RGB_COLOURSPACES[SRGB_CS].matrix_RGB_to_XYZ[1]
+
+
+def oklab_chroma_from_neutral(rgb_linear):
+    """Oklab chroma per unit lightness of sRGB-linear colours, measured from the Oklab
+    coordinates of the sRGB white, all by colour-science ([Ottosson2020] Oklab; [IEC61966-2-1]
+    primaries; rgb (1, 1, 1) is the white by definition of the RGB matrix, [RP177]).
+    Oklab is homogeneous of degree 1/3, so chroma / L does not change when a colour is scaled."""
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        cs = colour.RGB_COLOURSPACES[SRGB_CS]
+        lab = colour.XYZ_to_Oklab(np.asarray(rgb_linear) @ cs.matrix_RGB_to_XYZ.T)
+        white = colour.XYZ_to_Oklab(cs.matrix_RGB_to_XYZ @ np.ones(3))
+    ab = lab[..., 1:] / lab[..., :1] - white[1:] / white[0]
+    return np.hypot(ab[..., 0], ab[..., 1])
+
+
+def colour_science_sp(temperature_K):
+    """S/P of Planckian radiators with colour-science's LEFs (CIE 1924 photopic, CIE 1951
+    scotopic; K_m 683, K'_m 1700 lm/W, [CIES010])."""
+    out = []
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        lefs = colour.colorimetry.SDS_LEFS
+        for t in np.ravel(temperature_K):
+            sd = colour.sd_blackbody(float(t), colour.SpectralShape(360, 830, 1))
+            phot = colour.luminous_flux(sd, lefs["CIE 1924 Photopic Standard Observer"], K_m=683)
+            scot = colour.luminous_flux(sd, lefs["CIE 1951 Scotopic Standard Observer"], K_m=1700)
+            out.append(scot / phot)
+    return np.reshape(out, np.shape(temperature_K))
+
+
+GRID_K = np.geomspace(2500.0, 40000.0, 12)
+GRID_MAG = np.linspace(-1.5, 6.5, 9)
+GRID_PEAKS = (0.1, 0.5, 3.0, 14.0, 100.0)
+
+
+def test_compensation_reached_only_where_the_cie191_percept_is_within_1_percent():
+    # Independent of the engine's vision module: the perceived dome saturation of each output
+    # colour is recomputed from its RGB (chroma factor by colour-science's Oklab against the full
+    # colour), the CIE 191:2010 MES2 iteration as the standard states it (plain_cie191, a = 0.7670,
+    # b = 0.3334, m_0 = 0.5) at the dome luminance intensity x peak x Y ([IEC61966-2-1] Y row),
+    # S/P from colour-science, and s = m^2 (the model's appearance choice, vision module step 4).
+    sp = colour_science_sp(GRID_K)[None, :]
+    y_row = srgb_y_row()
+    full = oklab_chroma_from_neutral(render(Settings(display="srgb"), GRID_K).rgb_linear)
+    reached_any = unreached_any = 0
+    for peak in GRID_PEAKS:
+        s = Settings(display=srgb_dome(peak), compensate=True)
+        r = render(s, GRID_K[None, :], GRID_MAG[:, None])
+        lp_star = r.photopic_luminance_cd_m2
+        m_star, _ = plain_cie191(lp_star, lp_star * sp)
+        goal = m_star**2  # the intended saturation of the real star
+
+        def perceived_on_dome(rgb_linear):
+            factor = oklab_chroma_from_neutral(rgb_linear) / full[None, :]
+            lp_dome = np.maximum(r.intensity * peak * (rgb_linear @ y_row), 1e-12)
+            m_dome, _ = plain_cie191(lp_dome, lp_dome * sp)
+            return factor, factor * m_dome**2
+
+        factor, perceived = perceived_on_dome(r.rgb_linear)
+        ok = r.compensation_reached
+        # where out of reach, the boost still never leaves the audience with less than no boost
+        _, unboosted = perceived_on_dome(render(s.replace(compensate=False), GRID_K[None, :],
+                                                GRID_MAG[:, None]).rgb_linear)
+        assert np.all(perceived[~ok] >= unboosted[~ok] * (1.0 - 1e-3) - 1e-9), peak
+        assert np.all(np.abs(perceived[ok] - goal[ok]) <= 0.01 * goal[ok] + 1e-9), peak
+        # and the engine's own reading of what it did agrees with the independent one (to the
+        # small difference of the two sRGB matrices, amplified where a star is nearly white)
+        np.testing.assert_allclose(r.saturation[ok & (goal > 1e-6)],
+                                   factor[ok & (goal > 1e-6)], rtol=1e-3)
+        reached_any += int(np.sum(ok & (goal > 0.05)))
+        unreached_any += int(np.sum(~ok))
+        if peak >= 100.0:  # a bright display reaches every colour of this grid
+            assert ok.all()
+    assert reached_any > 100 and unreached_any > 20  # both kinds occur on the grid
+
+
+def test_compensation_does_not_claim_the_unreachable():
+    # The case of issue 15: a 31 748 K star of magnitude -1.5 on a 0.5 cd/m2 display (default
+    # look otherwise). The dome percept, recomputed as above (CIE 191:2010 MES2 from the
+    # standard's text, colour-science Oklab and S/P), falls short of the intent by > 1 %, so
+    # the render must say "not reached".
+    t = np.array([31748.0])
+    s = Settings(display=srgb_dome(0.5), compensate=True)
+    r = render(s, t, -1.5)
+    sp = colour_science_sp(t)
+    m_star, _ = plain_cie191(r.photopic_luminance_cd_m2, r.photopic_luminance_cd_m2 * sp)
+    lp_dome = r.intensity * 0.5 * (r.rgb_linear @ srgb_y_row())
+    m_dome, _ = plain_cie191(lp_dome, lp_dome * sp)
+    factor = (oklab_chroma_from_neutral(r.rgb_linear)
+              / oklab_chroma_from_neutral(render(Settings(display="srgb"), t).rgb_linear))
+    perceived, goal = factor * m_dome**2, m_star**2
+    assert abs(perceived - goal).item() > 0.01 * goal.item()
+    assert not r.compensation_reached.item()
+
+
+# --- neutral is neutral ---------------------------------------------------------------------
+
+def test_oklab_white_is_not_exactly_at_the_origin():
+    # Why the neutral axis is needed: Oklab's published matrices ([Ottosson2020], as
+    # colour-science implements them) put the D65 white of [IEC61966-2-1] a few 1e-5 to 1e-4
+    # off a = b = 0.
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        cs = colour.RGB_COLOURSPACES[SRGB_CS]
+        white = colour.XYZ_to_Oklab(cs.matrix_RGB_to_XYZ @ np.ones(3))
+    assert 1e-5 < np.hypot(white[1], white[2]) < 1e-3
+
+
+@pytest.mark.parametrize("compensate", [False, True])
+@pytest.mark.parametrize("target", ["srgb", "display-p3", "dci-p3", "rec2020", "rec2100-pq",
+                                    "acescg", "lin-rec2020", "aces2065-1"])
+def test_colourless_stars_are_exactly_the_display_white(target, compensate):
+    # rgb (1, 1, 1) is the white of a display (or working space) by definition of its RGB
+    # matrix ([RP177]); colour-science's colourspaces agree (white point = M (1, 1, 1)). A star
+    # too faint for colour (saturation 0) must render as that white, channel for channel.
+    from starkiln.engine.colour.displays import get_display
+    names = {"srgb": "sRGB", "display-p3": "Display P3", "dci-p3": "DCI-P3",
+             "rec2020": "ITU-R BT.2020", "rec2100-pq": "ITU-R BT.2020", "acescg": "ACEScg",
+             "lin-rec2020": "ITU-R BT.2020", "aces2065-1": "ACES2065-1"}
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        cs = colour.RGB_COLOURSPACES[names[target]]
+        np.testing.assert_allclose(colour.XYZ_to_xy(cs.matrix_RGB_to_XYZ @ np.ones(3)),
+                                   cs.whitepoint, atol=2e-4)
+    np.testing.assert_allclose(colour.XYZ_to_xy(get_display(target).white_XYZ), cs.whitepoint,
+                               atol=2e-4)
+    s = Settings(display=target, compensate=compensate)
+    t = np.geomspace(1000.0, 40000.0, 50)
+    r = render(s, t, 12.0)  # magnitude 12 to the naked eye: no cone signal
+    assert np.all(r.saturation == 0.0)
+    np.testing.assert_allclose(r.rgb_linear, 1.0, rtol=0, atol=1e-12)
+
+
+def test_full_colour_is_unchanged_and_the_neutral_shift_is_bounded():
+    # Against renders made by the previous chroma formula (about Oklab a = b = 0, fixture
+    # tests/data/night_renders_ca2759a.npz): the only change is the neutral point, moved by
+    # (1 - s) x the Oklab offset of the white (2.2e-5, -1.2e-4 at L = 1; [Ottosson2020] matrices),
+    # which is at most 1.3e-3 in display-linear light (measured: sRGB blue, s = 0). Full colour
+    # (s = 1) stays within 1e-12.
+    from pathlib import Path
+    gold = np.load(Path(__file__).resolve().parent / "data" / "night_renders_ca2759a.npz")
+    t, m = gold["temperature_K"], gold["magnitude"]
+    for key in gold.files:
+        if not key.endswith("|lin"):
+            continue
+        disp, tint, _ = key.split("|")
+        r = render(Settings(display=disp, scene_white="D50", night_tint=float(tint)),
+                   t[None, :], m[:, None])
+        np.testing.assert_array_equal(r.saturation, gold[f"{disp}|{tint}|sat"])
+        shift = np.abs(r.rgb_linear - gold[key]).max(axis=-1)
+        s = np.minimum(r.saturation, 1.0)
+        assert np.all(shift <= 1.3e-3 * (1.0 - s) + 1e-12), key
+        assert np.any(s == 1.0) and np.any(s == 0.0)
 
 
 # --- bad input ------------------------------------------------------------------------------

@@ -52,24 +52,22 @@ def reference_rgb(colour, space: str, temperature_K, scene_white_xy=(0.3127, 0.3
 def test_display_renders_are_unchanged():
     # Renders of every display preset and gamut method made by commit fadeace, before working
     # spaces went through the render path (tests/data/make_display_renders.py wrote them).
+    # To rounding: on some machines the same code differs from the fixture by ~1e-14 (BLAS
+    # summation order). The fixture's night renders were made with dome compensation, whose
+    # fixed four passes were replaced by a solve that checks its result (issue 15): those are
+    # held by tests/test_vision.py against CIE 191 instead, and night renders without
+    # compensation by tests/data/night_renders_ca2759a.npz.
     gold = np.load(DATA / "display_renders_fadeace.npz")
-    t, m = gold["temperature_K"], gold["magnitude"]
+    t = gold["temperature_K"]
     for key in gold.files:
         if "|" not in key:
             continue
         disp, gamut, what = key.split("|")
-        s = Settings(display=disp, gamut=gamut, scene_white="D50")
-        if what in ("enc", "lin"):
-            r = render(s, t)
-            got = r.rgb_encoded if what == "enc" else r.rgb_linear
-        else:
-            r = render(s.replace(compensate=True), t[None, :], m[:, None])
-            got = r.rgb_linear if what == "night_lin" else r.rgb_dimmed_encoded
-        # Not bit for bit: numpy picks SIMD kernels by CPU, so the last bits of a power or a
-        # matrix product differ between machines (seen: 2e-15 here, 0 in CI), and the night
-        # pass's CIE 191 fixed-point iteration carries such bits on to about 1e-9 (6e-10 seen).
-        tol = 1e-12 if what in ("enc", "lin") else 1e-8
-        np.testing.assert_allclose(got, gold[key], rtol=0, atol=tol, err_msg=key)
+        if what not in ("enc", "lin"):
+            continue
+        r = render(Settings(display=disp, gamut=gamut, scene_white="D50"), t)
+        got = r.rgb_encoded if what == "enc" else r.rgb_linear
+        np.testing.assert_allclose(got, gold[key], rtol=0, atol=1e-13, err_msg=key)
 
 
 @pytest.mark.parametrize("space", sorted(WORKING_SPACES))

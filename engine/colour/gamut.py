@@ -17,7 +17,14 @@ Methods:
 Oklab: [Ottosson2020], "A perceptual color space for image processing",
 https://bottosson.github.io/posts/oklab/ (matrices M1, M2 of that post). The
 display's XYZ is adapted from its own white to D65 (Bradford) first, so the
-display white is Oklab-neutral.
+display white is Oklab-neutral to about 1e-4: the published matrices, rounded to ten
+digits, send D65 to a, b of a few 1e-5 to 1e-4 rather than exactly 0. Where an exact neutral
+matters (the night desaturation toward white), chroma is measured from the *neutral axis*
+instead, the Oklab coordinates of the display's greys: rgb (g, g, g) has Oklab
+``g^(1/3) (L_w, a_w, b_w)`` (Oklab is a cube root of a linear map), so the grey of lightness L
+sits at ``(a, b) = L (a_w, b_w) / L_w`` (:func:`neutral_ab_per_lightness`,
+:func:`scale_chroma`). rgb (1, 1, 1) is the display white by definition of its RGB matrix
+([RP177]), so zero chroma about that axis is exactly that white.
 """
 
 from __future__ import annotations
@@ -112,6 +119,59 @@ def Oklab_to_XYZ(Lab) -> np.ndarray:
     return (lms * lms * lms) @ OKLAB_M1_INV.T
 
 
+def neutral_ab_per_lightness(rgb_to_XYZ_D65) -> np.ndarray:
+    """Oklab (a, b) per unit lightness of the display's greys: ``(a_w, b_w) / L_w`` of rgb (1, 1, 1).
+
+    Parameters
+    ----------
+    rgb_to_XYZ_D65 : numpy.ndarray
+        (3, 3) display RGB -> XYZ adapted to D65.
+
+    Returns
+    -------
+    numpy.ndarray
+        (2,): the grey of Oklab lightness L is at ``(a, b) = L * result`` (module docstring).
+
+    References
+    ----------
+    [Ottosson2020] (Oklab); [RP177] (rgb (1, 1, 1) is the white of the RGB matrix).
+    """
+    white = XYZ_to_Oklab(np.asarray(rgb_to_XYZ_D65, dtype=np.float64) @ np.ones(3))
+    return white[1:] / white[0]
+
+
+def scale_chroma(lab, factor, neutral_ab=None) -> np.ndarray:
+    """Oklab colours with their chroma about the neutral axis times ``factor``, L and hue kept.
+
+    Parameters
+    ----------
+    lab : array_like
+        (..., 3) Oklab.
+    factor : array_like
+        (...,) chroma factors (0: the grey of the same lightness).
+    neutral_ab : array_like, optional
+        (2,) from :func:`neutral_ab_per_lightness`; None measures chroma from a = b = 0 (the
+        published Oklab origin).
+
+    Returns
+    -------
+    numpy.ndarray
+        (..., 3).
+
+    References
+    ----------
+    [Ottosson2020]; the module docstring (the neutral axis).
+    """
+    lab = np.asarray(lab, dtype=np.float64)
+    f = np.asarray(factor, dtype=np.float64)
+    if neutral_ab is None:
+        return np.stack([lab[..., 0], f * lab[..., 1], f * lab[..., 2]], axis=-1)
+    na = lab[..., 0] * neutral_ab[0]
+    nb = lab[..., 0] * neutral_ab[1]
+    return np.stack([lab[..., 0], na + f * (lab[..., 1] - na), nb + f * (lab[..., 2] - nb)],
+                    axis=-1)
+
+
 def channel_min(rgb) -> np.ndarray:
     """Smallest of the three channels (elementwise; much faster than ``min(axis=-1)`` on (..., 3))."""
     return np.minimum(np.minimum(rgb[..., 0], rgb[..., 1]), rgb[..., 2])
@@ -132,7 +192,7 @@ def in_gamut(rgb, upper: bool) -> np.ndarray:
 
 
 def map_to_gamut(rgb, method: str, rgb_to_XYZ_D65: np.ndarray, luminance_row: np.ndarray,
-                 upper: bool) -> np.ndarray:
+                 upper: bool, neutral_ab=None) -> np.ndarray:
     """Bring display-linear RGB inside the cube by the named method.
 
     Parameters
@@ -149,6 +209,9 @@ def map_to_gamut(rgb, method: str, rgb_to_XYZ_D65: np.ndarray, luminance_row: np
     upper : bool
         Also enforce channels <= 1 (otherwise only >= 0; the caller
         renormalises the brightest channel to 1 afterwards).
+    neutral_ab : array_like, optional
+        ``chroma`` only: reduce chroma toward the display's neutral axis
+        (:func:`neutral_ab_per_lightness`) rather than toward a = b = 0.
 
     Returns
     -------
@@ -183,11 +246,11 @@ def map_to_gamut(rgb, method: str, rgb_to_XYZ_D65: np.ndarray, luminance_row: np
     hi = np.ones(rgb.shape[:-1])
     for _ in range(_BISECTION_STEPS):
         mid = 0.5 * (lo + hi)
-        trial = Oklab_to_XYZ(lab * np.stack([np.ones_like(mid), mid, mid], axis=-1))
+        trial = Oklab_to_XYZ(scale_chroma(lab, mid, neutral_ab))
         ok = in_gamut(trial @ XYZ_D65_to_rgb.T, upper)
         lo = np.where(ok, mid, lo)
         hi = np.where(ok, hi, mid)
     s = np.where(inside_now, 1.0, lo)
-    out = Oklab_to_XYZ(lab * np.stack([np.ones_like(s), s, s], axis=-1)) @ XYZ_D65_to_rgb.T
+    out = Oklab_to_XYZ(scale_chroma(lab, s, neutral_ab)) @ XYZ_D65_to_rgb.T
     out = np.where(inside_now[..., None], rgb, out)
     return np.clip(out, 0.0, 1.0 if upper else np.inf)

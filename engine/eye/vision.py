@@ -55,14 +55,21 @@ The model, in order (all vectorised):
    ``linear`` in flux, ``log`` (linear in magnitude) or ``asinh`` ([Lupton1999],
    softened at the faint flux).
 7. **Dome compensation** (optional): the audience sees the display itself in
-   the dark, at ``intensity * peak_luminance_cd_m2`` of the display, where
-   their own cone weight ``m_dome`` is low; to make the *perceived* colour on
-   the dome equal the intended one, chroma is pre-boosted by ``s / s_dome``,
-   then gamut-mapped (chroma method); where the boost had to be cut, or the
-   dome is too dim for any colour, the intent is reported as out of reach.
-   The displayed light's S/P is taken as the star's (the display reproduces
-   the colour metamerically; its primaries' spectra are unknown): an
-   approximation.
+   the dark, at ``intensity * peak_luminance_cd_m2 * Y`` of the displayed
+   colour (Y its relative luminance), where their own cone weight ``m_dome``
+   is low. The *perceived saturation* on the dome of a colour shown with chroma
+   factor f is ``P(f) = f * s(m_dome(f))`` (:func:`perceived_saturation`);
+   compensation solves ``P(f) = s`` for the intended ``s``. More chroma at a
+   brightest channel of 1 lowers Y, hence ``m_dome``, so P is not monotone and
+   the plain repetition ``f <- s / s_dome(f)`` can diverge or oscillate; the
+   render path therefore solves the equation on a bracket (method and why it
+   ends: ``starkiln.engine.pipeline.render._compensate``, docs/science.md).
+   The intent counts as *reached* only where ``P`` is within 1 %
+   (``COMPENSATION_TOLERANCE``) of ``s`` and the colour fits the gamut;
+   otherwise the colour with the largest ``P`` tried is shown (no boost where
+   no colour is seen at any factor) and reported out of reach. The displayed light's S/P is taken as the star's (the display
+   reproduces the colour metamerically; its primaries' spectra are unknown):
+   an approximation.
 
 Behaviour with the defaults (common practice, tested): naked-eye stars of
 magnitude 6 look colourless; stars of magnitude 1 and brighter show clear
@@ -101,6 +108,8 @@ VISIONS = ("mesopic", "none")
 INTENSITY_CURVES = ("asinh", "log", "linear")
 #: Exponent of the cone weight in the saturation, s = m ** 2 (appearance choice, step 4).
 SATURATION_EXPONENT = 2.0
+#: Largest relative error of the perceived dome saturation for "compensation reached" (step 7).
+COMPENSATION_TOLERANCE = 0.01
 #: Direction of the optional night tint in Oklab (a, b): a cool blue-grey; rendering convention.
 NIGHT_TINT_AB = (-0.012, -0.045)
 _ARCMIN_RAD = np.pi / (180.0 * 60.0)
@@ -210,6 +219,33 @@ def saturation_from_cone_weight(cone_weight) -> np.ndarray:
     """
     m = np.clip(np.asarray(cone_weight, dtype=np.float64), 0.0, 1.0)
     return m**SATURATION_EXPONENT
+
+
+def perceived_saturation(chroma_factor, luminance_cd_m2, scotopic_ratio) -> np.ndarray:
+    """Saturation an observer perceives in a colour shown at a luminance: ``f * s(m(L, L S/P))``.
+
+    Parameters
+    ----------
+    chroma_factor : array_like
+        Chroma factor f of the shown colour (relative to the star's full colour).
+    luminance_cd_m2 : array_like
+        Photopic luminance of the shown colour at the eye (floored at 1e-12 cd/m2).
+    scotopic_ratio : array_like
+        S/P ratio of the light (scotopic luminance = ``L * S/P``).
+
+    Returns
+    -------
+    numpy.ndarray
+        ``f * saturation_from_cone_weight(m)``, m the [CIE191] MES2 cone weight at that light.
+
+    References
+    ----------
+    [CIE191] (MES2, :func:`mesopic_cie191`); step 4 of the module docstring (``s = m^2``, an
+    appearance choice).
+    """
+    lp = np.maximum(np.asarray(luminance_cd_m2, dtype=np.float64), 1e-12)
+    cone, _ = mesopic_cie191(lp, lp * np.asarray(scotopic_ratio, dtype=np.float64))
+    return np.asarray(chroma_factor, dtype=np.float64) * saturation_from_cone_weight(cone)
 
 
 def intensity_from_magnitude(magnitude, bright: float, faint: float, curve: str = "asinh"):

@@ -34,8 +34,10 @@ import numpy as np
 
 from starkiln.engine.errors import InputRangeError
 from starkiln.engine.eye import vision as nv
-from starkiln.engine.colour.gamut import (NO_MAPPING, Oklab_to_XYZ, XYZ_to_Oklab, channel_max,
-                                         in_gamut, map_to_gamut)
+from starkiln.engine.colour.gamut import (GAMUT_TOLERANCE, NO_MAPPING, OKLAB_M1_INV, OKLAB_M2_INV,
+                                         Oklab_to_XYZ, XYZ_to_Oklab, channel_max, channel_min,
+                                         in_gamut, map_to_gamut, neutral_ab_per_lightness,
+                                         scale_chroma)
 from starkiln.engine.colour.observers import (KM_PHOTOPIC_LM_W, KM_SCOTOPIC_LM_W, XYZ_to_xy, cmfs, v_photopic,
                               v_scotopic, xy_to_XYZ)
 from starkiln.engine.colour.displays import D65_4DIGIT, Display
@@ -68,8 +70,9 @@ class Rendered:
     scotopic_ratio : (...,) S/P ratio of the star's spectrum (K'_m V' / K_m V).
     cone_weight : (...,) CIE 191 adaptation coefficient m, 0 (rods only) to 1 (cones).
     saturation : (...,) chroma factor applied to the full colour (after compensation).
-    compensation_reached : (...,) with ``compensate``, whether the dome-compensated colour
-        fitted in the gamut (None otherwise).
+    compensation_reached : (...,) with ``compensate``, whether the saturation the dome audience
+        perceives is within 1 % of the intended one and the colour fits the gamut (None
+        otherwise; :func:`starkiln.engine.eye.vision.perceived_saturation`).
     Night-vision fields are None without magnitudes.
     """
 
@@ -397,24 +400,178 @@ def _night_block(settings: Settings, chain: "_Chain", mag, sp, lab) -> dict:
 def _chroma_and_compensation(settings: Settings, chain: "_Chain", lab, sat, sp, intensity):
     """The night colour of each star: chroma factor ``sat``, then (with ``compensate``) the dome
     boost; returns RGB, the chroma factor achieved and whether compensation was reached."""
-    rgb, inside, factor = _apply_chroma(settings, lab, sat, chain)
-    reached = np.zeros(np.shape(sat), dtype=bool)
     if settings.compensate:
-        # The audience sees each pixel at intensity x peak x its relative luminance, with their
-        # own cone weight there. Boost chroma by s / s_dome; s_dome depends on the boosted
-        # colour's luminance, so repeat a few times (converges in 2-3 passes).
-        for _ in range(4):
-            y_rel = rgb @ chain.luminance_row
-            lp_dome = np.maximum(intensity * settings.display.peak_luminance_cd_m2 * y_rel, 1e-12)
-            cone_dome, _ = nv.mesopic_cie191(lp_dome, lp_dome * sp)
-            s_dome = nv.saturation_from_cone_weight(cone_dome)
+        return _compensate(settings, chain, lab, np.asarray(sat, dtype=np.float64), sp,
+                           intensity)
+    rgb, _, factor = _apply_chroma(settings, lab, sat, chain)
+    return rgb, factor, np.zeros(np.shape(sat), dtype=bool)
+
+
+#: Relative residual the compensation solve aims at (well inside the 1 % of "reached").
+_SOLVE_TOLERANCE = 1e-3
+#: Bound on the false-position steps of the compensation solve (each one vectorised).
+_SOLVE_STEPS = 30
+#: Interior points scanned for a bracket where the gamut limit itself falls short.
+_SCAN_POINTS = 8
+#: Upper end of the search for the gamut limit (a nearly white star can take a large factor).
+_FACTOR_CAP = 1.0e4
+_GAMUT_LIMIT_STEPS = 22  # log2 bisection over 33 octaves: to 5e-6 of the factor
+
+
+def _dome_perceived(settings, chain, lab, factor, sp, intensity):
+    """Colour shown with chroma ``factor`` and the saturation the dome audience perceives in it:
+    (rgb, inside, achieved factor, perceived saturation)."""
+    rgb, inside, achieved = _apply_chroma(settings, lab, factor, chain)
+    lp_dome = intensity * settings.display.peak_luminance_cd_m2 * (rgb @ chain.luminance_row)
+    return rgb, inside, achieved, nv.perceived_saturation(achieved, lp_dome, sp)
+
+
+def _gamut_limit(settings, chain, lab):
+    """Largest chroma factor (up to ``_FACTOR_CAP``) whose colour has no channel below 0.
+
+    For every target, a working space without mapping too: the boost stops at the target's
+    cube (a working space's own gamut); a colour outside it already is not boosted further.
+
+    Bisection on log2 of the factor over [2^-20, _FACTOR_CAP], once per distinct colour (a
+    texture repeats each temperature's colour on every magnitude row). The colours are those
+    of :func:`_scaled_rgb`, written in Oklab's cone space: there the colour of factor f is
+    ``lms' = p + f q + t(f) r`` (neutral part, chroma part, night tint with
+    ``t(f) = night_tint (1 - min(f, 1))``), and RGB is a fixed matrix of ``lms'^3``
+    ([Ottosson2020]), so each step is one cube and one 3 x 3 product.
+    """
+    n = lab.shape[0]
+    # distinct colours: rows of one temperature are bitwise equal (checked, not assumed)
+    first_L, inverse = np.unique(lab[:, 0], return_inverse=True)
+    inverse = inverse.reshape(-1)
+    distinct = np.empty((first_L.size, 3))
+    distinct[inverse] = lab
+    if not np.array_equal(distinct[inverse], lab):
+        distinct, inverse = lab, np.arange(n)
+    neutral = neutral_ab_per_lightness(chain.rgb_to_XYZ_D65)
+    grey = distinct[:, :1] * np.array([1.0, neutral[0], neutral[1]])
+    p = grey @ OKLAB_M2_INV.T
+    q = (distinct - grey) @ OKLAB_M2_INV.T
+    r = (settings.night_tint * np.array([0.0, *nv.NIGHT_TINT_AB])) @ OKLAB_M2_INV.T
+    to_rgb = (np.linalg.inv(chain.rgb_to_XYZ_D65) @ OKLAB_M1_INV).T
+    lo = np.full(distinct.shape[0], -20.0)
+    hi = np.full(distinct.shape[0], np.log2(_FACTOR_CAP))
+    for _ in range(_GAMUT_LIMIT_STEPS):
+        mid = 0.5 * (lo + hi)
+        f = np.exp2(mid)
+        lms = p + f[:, None] * q + (1.0 - np.minimum(f, 1.0))[:, None] * r
+        ok = channel_min((lms * lms * lms) @ to_rgb) >= -GAMUT_TOLERANCE
+        lo = np.where(ok, mid, lo)
+        hi = np.where(ok, hi, mid)
+    return np.exp2(lo)[inverse]
+
+
+def _compensate(settings: Settings, chain: "_Chain", lab, goal, sp, intensity):
+    """Dome compensation: the chroma factor f whose perceived dome saturation P(f) equals ``goal``.
+
+    P(f) = f * s(m_dome(f)) (:func:`starkiln.engine.eye.vision.perceived_saturation`) is
+    continuous in f wherever the CIE 191 cone weight is, but not monotone (more chroma lowers
+    the luminance at a brightest channel of 1). The solve, all stars at once:
+
+    1. f = goal. P(goal) <= goal (s <= 1); where it is already within ``_SOLVE_TOLERANCE``
+       (a bright dome, or goal 0) that is the answer.
+    2. The others get the bracket [goal, f_max], f_max the gamut limit (bisection, no vision
+       work). Where P(f_max) >= goal the bracket holds a root (intermediate value theorem);
+       elsewhere ``_SCAN_POINTS`` geometric interior points are tried and the first one with
+       P >= goal closes the bracket (skipped where even the white's luminance at f_max
+       would fall short); where none does the goal is out of reach and the factor with the
+       largest P tried is shown (ties: the smaller, so no boost where no colour is seen).
+    3. False position with the Illinois modification on every bracket, at most
+       ``_SOLVE_STEPS`` vectorised steps; a star leaves the active set when its residual is
+       within ``_SOLVE_TOLERANCE``. Each step keeps a sign change inside the bracket, so the
+       bracket never loses the root; the step bound makes the loop end.
+
+    ``reached`` is then tested, not assumed: |P - goal| <= COMPENSATION_TOLERANCE * goal and
+    the colour inside the gamut.
+    """
+    rgb, inside, achieved, p = _dome_perceived(settings, chain, lab, goal, sp, intensity)
+    todo = np.flatnonzero(np.abs(p - goal) > _SOLVE_TOLERANCE * goal)
+    if todo.size:
+        lab_t, sp_t, i_t, g_t = lab[todo], sp[todo], intensity[todo], goal[todo]
+        # the shown result of every star in ``todo``, updated wherever its factor changes
+        shown = [rgb[todo], inside[todo], achieved[todo], p[todo]]
+
+        def evaluate(idx, factor):
+            """(rgb, inside, achieved, P) of stars ``idx`` at ``factor``, and P - goal."""
+            out = _dome_perceived(settings, chain, lab_t[idx], factor, sp_t[idx], i_t[idx])
+            return out, out[3] - g_t[idx]
+
+        def show(idx, out, keep=None):
+            """Stars ``idx`` (where ``keep``) take the result ``out`` as the one shown."""
+            sel = idx if keep is None else idx[keep]
+            for store, value in zip(shown, out):
+                store[sel] = value if keep is None else value[keep]
+
+        every = np.arange(todo.size)
+        a = g_t.copy()
+        ga = p[todo] - g_t
+        # the fixed-point step f <- goal / s_dome(f) from f = goal, as a first guess below
+        with np.errstate(divide="ignore", invalid="ignore"):
+            guess = g_t * g_t / p[todo]
+        b = np.maximum(_gamut_limit(settings, chain, lab_t), a)
+        out, gb = evaluate(every, b)
+        best_p = p[todo]  # shown so far: the factor goal itself
+        keep = (out[3] > best_p) | (gb >= 0.0)
+        show(every, out, keep)
+        best_p = np.where(keep, out[3], best_p)
+        bracket = gb >= 0.0
+        # Where the gamut limit falls short, look inside for a point above the goal; not where
+        # even the white's luminance (Y <= 1 at a brightest channel of 1) at the largest
+        # factor falls short: P(f) <= f_max s(m(intensity x peak)) on the whole bracket.
+        scan = np.flatnonzero(~bracket & (b > a))
+        if scan.size:
+            ceiling = nv.perceived_saturation(
+                b[scan], i_t[scan] * settings.display.peak_luminance_cd_m2, sp_t[scan])
+            scan = scan[ceiling >= g_t[scan]]
+        if scan.size:
+            prev_f, prev_g = a[scan].copy(), ga[scan].copy()
+            found = np.zeros(scan.size, dtype=bool)
+            ratio = b[scan] / a[scan]
+            for j in range(1, _SCAN_POINTS + 1):
+                fj = a[scan] * ratio ** (j / (_SCAN_POINTS + 1))
+                # until bracketed, a star shows the point with the largest P so far (ties: the
+                # smaller factor, so no boost where the dome shows no colour at any factor)
+                out, gj = evaluate(scan, fj)
+                keep = ~found & ((out[3] > best_p[scan]) | (gj >= 0.0))
+                show(scan, out, keep)
+                best_p[scan] = np.where(keep, out[3], best_p[scan])
+                new = ~found & (gj >= 0.0)
+                a[scan] = np.where(new, prev_f, a[scan])
+                ga[scan] = np.where(new, prev_g, ga[scan])
+                b[scan] = np.where(new, fj, b[scan])
+                gb[scan] = np.where(new, gj, gb[scan])
+                found |= new
+                prev_f, prev_g = np.where(found, prev_f, fj), np.where(found, prev_g, gj)
+            bracket[scan] = found
+        # Illinois false position on the brackets (ga < 0 <= gb), first trial the guess.
+        act = np.flatnonzero(bracket & (np.abs(gb) > _SOLVE_TOLERANCE * g_t))
+        side = np.zeros(todo.size, dtype=np.int8)  # which end moved last: -1 a, +1 b
+        for step in range(_SOLVE_STEPS):
+            if act.size == 0:
+                break
+            fa, fb, va, vb = a[act], b[act], ga[act], gb[act]
             with np.errstate(divide="ignore", invalid="ignore"):
-                wanted = np.where(s_dome > 0.0, sat / s_dome, np.inf)
-            reachable = np.isfinite(wanted)
-            rgb, inside, factor = _apply_chroma(settings, lab,
-                                                np.where(reachable, wanted, 1.0e6), chain)
-        reached = reachable & inside
-    return rgb, factor, reached
+                c = guess[act] if step == 0 else fb - vb * (fb - fa) / (vb - va)
+            c = np.where(np.isfinite(c) & (c > fa) & (c < fb), c, 0.5 * (fa + fb))
+            out, gc = evaluate(act, c)
+            show(act, out)
+            up = gc >= 0.0
+            # the root lies in [a, c] where gc >= 0, else in [c, b]
+            ga_new = np.where(up & (side[act] == 1), 0.5 * va, va)  # Illinois: halve the stale end
+            gb_new = np.where(~up & (side[act] == -1), 0.5 * vb, vb)
+            b[act] = np.where(up, c, fb)
+            gb[act] = np.where(up, gc, gb_new)
+            a[act] = np.where(up, fa, c)
+            ga[act] = np.where(up, ga_new, gc)
+            side[act] = np.where(up, 1, -1)
+            act = act[np.abs(gc) > _SOLVE_TOLERANCE * g_t[act]]
+        rgb[todo], inside[todo], achieved[todo], p[todo] = shown
+    reached = (np.abs(p - goal) <= nv.COMPENSATION_TOLERANCE * goal) & inside
+    return rgb, achieved, reached
 
 
 def same_stars_in(settings: Settings, rendered: Rendered) -> np.ndarray:
@@ -486,30 +643,46 @@ def _check_finite(settings: Settings, *arrays) -> None:
         "tau (D/d)^2 between 1e-6 and 1e10")
 
 
+def _scaled_rgb(settings: Settings, lab: np.ndarray, factor, chain: "_Chain") -> np.ndarray:
+    """Display-linear RGB (not yet mapped or normalised) of ``lab`` with its chroma about the
+    display's neutral axis times ``factor``, plus the night tint."""
+    neutral = neutral_ab_per_lightness(chain.rgb_to_XYZ_D65)
+    lab_out = scale_chroma(lab, factor, neutral)
+    if settings.night_tint:
+        tint = settings.night_tint * (1.0 - np.minimum(np.maximum(factor, 0.0), 1.0))
+        lab_out[..., 1] += tint * nv.NIGHT_TINT_AB[0]
+        lab_out[..., 2] += tint * nv.NIGHT_TINT_AB[1]
+    return Oklab_to_XYZ(lab_out) @ np.linalg.inv(chain.rgb_to_XYZ_D65).T
+
+
 def _apply_chroma(settings: Settings, lab: np.ndarray, factor: np.ndarray, chain: "_Chain"):
     """Scale Oklab chroma by ``factor`` (plus the night tint), map into gamut, brightest channel 1.
+
+    Chroma is measured from the display's neutral axis (:func:`starkiln.engine.colour.gamut.
+    neutral_ab_per_lightness`), so ``factor`` 0 without tint is the display white rgb
+    (1, 1, 1) ([RP177]) to rounding, for every display and working space.
 
     Returns the RGB, whether the scaled colour was inside the gamut before mapping, and the
     chroma factor achieved (``factor`` where inside; less where the gamut cut it).
     """
-    tint = settings.night_tint * (1.0 - np.minimum(np.maximum(factor, 0.0), 1.0))
-    lab_out = np.stack([lab[..., 0],
-                        factor * lab[..., 1] + tint * nv.NIGHT_TINT_AB[0],
-                        factor * lab[..., 2] + tint * nv.NIGHT_TINT_AB[1]], axis=-1)
-    rgb = Oklab_to_XYZ(lab_out) @ np.linalg.inv(chain.rgb_to_XYZ_D65).T
+    rgb = _scaled_rgb(settings, lab, factor, chain)
     inside = in_gamut(rgb, upper=False)
     achieved = np.array(np.broadcast_to(factor, inside.shape), dtype=np.float64)
     if settings.gamut == NO_MAPPING:  # a working space without mapping: keep every value
         return rgb / channel_max(rgb)[..., None], inside, achieved
     if not np.all(inside):
         bad = ~inside
+        neutral = neutral_ab_per_lightness(chain.rgb_to_XYZ_D65)
         rgb[bad] = map_to_gamut(rgb[bad], "chroma", chain.rgb_to_XYZ_D65, chain.luminance_row,
-                                upper=False)
-        got = XYZ_to_Oklab(rgb[bad] @ chain.rgb_to_XYZ_D65.T)  # same lightness: the chroma method keeps L
-        c_full = np.hypot(lab[..., 1], lab[..., 2])[bad]
+                                upper=False, neutral_ab=neutral)
+        # same lightness: the chroma method keeps L; chroma measured from the neutral axis
+        got = XYZ_to_Oklab(rgb[bad] @ chain.rgb_to_XYZ_D65.T)
+        c_got = np.hypot(got[:, 1] - got[:, 0] * neutral[0], got[:, 2] - got[:, 0] * neutral[1])
+        lab_bad = lab[bad]
+        c_full = np.hypot(lab_bad[:, 1] - lab_bad[:, 0] * neutral[0],
+                          lab_bad[:, 2] - lab_bad[:, 0] * neutral[1])
         with np.errstate(divide="ignore", invalid="ignore"):
-            achieved[bad] = np.where(c_full > 1e-12, np.hypot(got[:, 1], got[:, 2]) / c_full,
-                                     achieved[bad])
+            achieved[bad] = np.where(c_full > 1e-12, c_got / c_full, achieved[bad])
     rgb = np.maximum(rgb, 0.0)
     rgb /= channel_max(rgb)[..., None]
     return np.minimum(rgb, 1.0), inside, achieved
