@@ -27,8 +27,9 @@ VEGAMAG zero points of (E)DR3, from memory). Colour indices of Vega are therefor
 
 Blackbodies. :func:`planck_colour_index` integrates Planck's law ([Planck1901]) through two
 bands; :func:`temperature_from_colour_index` inverts it through a table evenly spaced in
-mired, built once per process (about 20 ms) and interpolated linearly (vectorised, for
-catalogues). Blackbody colour indices saturate at the hot end: as T grows without bound the
+mired and its inverse on evenly spaced index values, built once (about 20 ms) and cached on
+disk beside the CIE tables, keyed by the digest of ``assets/photometry.npz``; a lookup is
+arithmetic and linear interpolation (vectorised, catalogue speed). Blackbody colour indices saturate at the hot end: as T grows without bound the
 spectrum tends to the Rayleigh-Jeans form F_lambda ~ lambda^-4, whose indices
 (:func:`blackbody_limit_index`) are the bluest any blackbody reaches.
 """
@@ -48,6 +49,9 @@ PHOTOMETRY_GRID_NM.setflags(write=False)
 BANDS = ("B", "V", "BP", "RP", "G")
 #: The colour indices, each as (blue band, red band).
 INDICES = {"B-V": ("B", "V"), "BP-RP": ("BP", "RP")}
+#: The unit of the cached F_lambda (erg s^-1 cm^-2 A^-1) in W m^-2 nm^-1 (1e-7 W / 1e-4 m^2 /
+#: 0.1 nm; SI prefixes, [SI2019]).
+FLUX_LAMBDA_W_M2_NM = 1e-2
 #: Vega's adopted magnitudes (module docstring: common practice and [Riello2021], from memory).
 VEGA_MAGNITUDES = {"B": 0.03, "V": 0.03, "BP": 0.023, "RP": 0.023, "G": 0.023}
 #: Bands cached as energy responses (converted to photonic form by :func:`band`).
