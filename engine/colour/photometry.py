@@ -79,9 +79,7 @@ def cached_arrays() -> dict[str, np.ndarray]:
     ----------
     [Speclite], [Bessell1990], [Riello2021], [Bohlin2020] (see the module docstring).
     """
-    from starkiln.assets import asset_path
-
-    with asset_path("photometry.npz").open("rb") as fh, np.load(fh) as data:
+    with np.load(_asset_file()) as data:
         out = {k: np.array(data[k], dtype=np.float64) for k in _KEYS}
     if not np.array_equal(out["wavelength_nm"], PHOTOMETRY_GRID_NM):  # pragma: no cover
         raise RuntimeError("assets/photometry.npz is not on the 300-1100 nm grid; rebuild it "
@@ -415,12 +413,18 @@ def _build_tables(index: str) -> dict[str, np.ndarray]:
     return {"index_values": values, "mired": mired, "lookup_mired": guess}
 
 
+def _asset_file():
+    """``assets/photometry.npz``: beside ``engine/`` in a checkout, in ``starkiln/assets``
+    when installed (the same relative place; no importlib.resources at start-up)."""
+    from pathlib import Path
+
+    return Path(__file__).resolve().parents[2] / "assets" / "photometry.npz"
+
+
 def _asset_digest() -> str:
     import hashlib
 
-    from starkiln.assets import asset_path
-
-    return hashlib.sha256(asset_path("photometry.npz").read_bytes()).hexdigest()[:16]
+    return hashlib.sha256(_asset_file().read_bytes()).hexdigest()[:16]
 
 
 @lru_cache(maxsize=None)
