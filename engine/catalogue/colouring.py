@@ -220,6 +220,10 @@ def colour_values_serial(plan: CataloguePlan, columns: dict) -> Coloured:
     safe = src if all_coloured else np.where(coloured, src, _SAFE[plan.source])
     if plan.source == "temperature":
         temperature_K = safe
+    elif plan.index_model == "synthetic":  # rows checked above: the table lookup alone
+        from starkiln.engine.colour.photometry import lookup_temperature
+
+        temperature_K = lookup_temperature(safe, _INDEX[plan.source])
     else:
         temperature_K = st.temperature_from_index(safe, _INDEX[plan.source], plan.index_model,
                                                   extrapolate=True)

@@ -393,6 +393,8 @@ def blackbody_limit_index(index: str) -> float:
 
 #: Nodes of the lookup table evenly spaced in index value (the fast inverse).
 LOOKUP_NODES = 16384
+#: Rounding slack at the ends of the tables, mag.
+_SLACK_MAG = 1e-9
 #: Bump when the content or layout of the cached tables changes.
 TABLE_FORMAT = 1
 
@@ -532,25 +534,61 @@ def temperature_from_colour_index(value, index: str, clamp_blue: bool = False) -
     values, mired = _table(name)
     v = np.asarray(value, dtype=np.float64)
     with np.errstate(invalid="ignore"):
-        bad = ~np.isfinite(v) | (v > values[-1])
+        # 1e-9 mag of slack: an index recomputed at 500 K or 100 000 K may differ from the
+        # table's in the last bits (the sums' rounding depends on the array's layout).
+        bad = ~np.isfinite(v) | (v > values[-1] + _SLACK_MAG)
         if not clamp_blue:
-            bad |= v < values[0]
+            bad |= v < values[0] - _SLACK_MAG
     if np.any(bad):
         x = v[bad].flat[0] if v.ndim else float(v)
         raise InputRangeError(f"{name} {x:g} is outside the range of blackbody colours "
                               f"{values[0]:.3f} to {values[-1]:.3f} "
                               f"({TABLE_TEMPERATURE_MAX_K:g}-{TABLE_TEMPERATURE_MIN_K:g} K)")
-    lookup = _tables(name)["lookup_mired"]
-    # Position on the evenly spaced index nodes: arithmetic, no search (catalogue speed).
-    n = lookup.shape[0]
-    x = np.atleast_1d(v - values[0])
-    x *= (n - 1) / (values[-1] - values[0])
-    np.clip(x, 0.0, n - 1, out=x)
+    return lookup_temperature(v, name)
+
+
+@lru_cache(maxsize=None)
+def _lookup(index: str) -> tuple[float, float, np.ndarray, np.ndarray]:
+    """(first index value, nodes per mag, mired at the nodes, slope to the next node)."""
+    t = _tables(index)
+    values, mired = t["index_values"], t["lookup_mired"]
+    n = mired.shape[0]
+    # One node more (slope 0) so that the last value needs no special case.
+    nodes = np.append(mired, mired[-1])
+    slopes = np.append(np.diff(mired), [0.0, 0.0])
+    for a in (nodes, slopes):
+        a.setflags(write=False)
+    return float(values[0]), (n - 1) / float(values[-1] - values[0]), nodes, slopes
+
+
+def lookup_temperature(value, index: str) -> np.ndarray:
+    """The blackbody temperature of colour indices already checked: the hot path of catalogues.
+
+    Parameters
+    ----------
+    value : array_like
+        Finite colour indices no redder than the 500 K blackbody's (:func:`colour_index_range`);
+        bluer than the 100 000 K blackbody's give 100 000 K. Not checked.
+    index : {"B-V", "BP-RP"}
+
+    Returns
+    -------
+    numpy.ndarray
+        Kelvin, the shape of ``value``: linear interpolation in mired on the evenly spaced
+        index nodes of the cached table (arithmetic, no search).
+
+    References
+    ----------
+    See :func:`temperature_from_colour_index`.
+    """
+    v0, per_mag, nodes, slopes = _lookup(check_index(index))
+    v = np.asarray(value, dtype=np.float64)
+    x = np.subtract(np.atleast_1d(v), v0)
+    x *= per_mag
+    np.maximum(x, 0.0, out=x)
     i = x.astype(np.intp)
-    np.minimum(i, n - 2, out=i)
     x -= i
-    m = lookup[i]
-    x *= lookup[i + 1] - m
-    m += x
-    np.divide(1e6, m, out=m)
-    return m.reshape(v.shape)
+    x *= slopes.take(i)
+    x += nodes.take(i)
+    np.divide(1e6, x, out=x)
+    return x.reshape(v.shape)
