@@ -37,6 +37,9 @@ _PUBLIC = {
     "temperature_from_spectral_class": ("starkiln.engine.stars.temperature",
                                         "temperature_from_spectral_class"),
     "temperature_from_bp_rp": ("starkiln.engine.stars.gaia", "temperature_from_bp_rp"),
+    "temperature_from_index": ("starkiln.engine.stars.temperature", "temperature_from_index"),
+    "temperature_for_spectral_class": ("starkiln.engine.stars.temperature",
+                                       "temperature_for_spectral_class"),
     # exports
     "TextureSpec": ("starkiln.engine.exports.texture_spec", "TextureSpec"),
     "export_texture": ("starkiln.engine.exports.textures", "export_texture"),

@@ -1,4 +1,9 @@
-"""Invented demo data shipped with Starkiln (fictional cluster, fictional dome projector)."""
+"""Invented demo data shipped with Starkiln (fictional cluster, fictional dome projector).
+
+Besides the demo data: ``photometry.npz``, the published filter curves and the CALSPEC Vega
+spectrum that synthetic photometry needs (a cache of public reference data, like the CIE
+tables; ``photometry_sources.json`` says where each array came from).
+"""
 
 from importlib.resources import files
 

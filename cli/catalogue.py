@@ -8,7 +8,8 @@ astropy, pyarrow and dask are loaded only when the command runs.
 
 from __future__ import annotations
 
-from starkiln.cli.options import add_colour_options, number, positive_int, settings_from_args
+from starkiln.cli.options import (add_colour_options, add_index_model_option, number,
+                                  positive_int, settings_from_args)
 from starkiln.engine.errors import StarkilnError
 
 
@@ -27,13 +28,14 @@ def add_parsers(sub) -> None:
     c = p.add_argument_group("columns (one temperature source)")
     c.add_argument("--temperature-column", metavar="NAME", help="effective temperature, K")
     c.add_argument("--bv-column", metavar="NAME",
-                   help="Johnson B-V (Ballesteros 2012)")
+                   help="Johnson B-V (see --index-model)")
     c.add_argument("--bp-rp-column", metavar="NAME",
-                   help="dereddened Gaia BP-RP (Mucciarelli, Bellazzini & Massari 2021, dwarfs, "
-                        "solar [Fe/H] assumed); also the colour for --magnitude-band G")
+                   help="dereddened Gaia BP-RP (see --index-model); also the colour for "
+                        "--magnitude-band G")
+    add_index_model_option(c)
     c.add_argument("--extrapolate-bp-rp", action="store_true",
-                   help="colour BP-RP outside the calibrated 0.39-1.50 (up to -0.5..5.0) as "
-                        "status 'extrapolated' (appearance only)")
+                   help="with --index-model relation: colour BP-RP outside the calibrated "
+                        "0.39-1.50 (up to -0.5..5.0) as status 'extrapolated' (appearance only)")
     c.add_argument("--magnitude-column", metavar="NAME",
                    help="apparent magnitudes, for night-vision colours and intensity")
     c.add_argument("--magnitude", type=number, metavar="M",
@@ -90,6 +92,8 @@ def plan_from_args(args, settings):
                             "--magnitude-band G")
     if args.extrapolate_bp_rp and source != "bp-rp":
         raise StarkilnError("--extrapolate-bp-rp applies only to --bp-rp-column")
+    if args.index_model != "synthetic" and source == "temperature":
+        raise StarkilnError("--index-model applies only to --bv-column and --bp-rp-column")
     magnitude = args.magnitude
     if magnitude is not None and args.magnitude_column is not None:
         raise StarkilnError("give --magnitude-column or --magnitude, not both")
@@ -98,7 +102,7 @@ def plan_from_args(args, settings):
         magnitude_column=args.magnitude_column, magnitude_band=band,
         bp_rp_column=args.bp_rp_column, magnitude=magnitude,
         extrapolate_bp_rp=args.extrapolate_bp_rp, exact=args.exact, prefix=args.prefix,
-        linear_columns=args.linear_columns or ())
+        linear_columns=args.linear_columns or (), index_model=args.index_model)
 
 
 def cmd_catalogue(args, out) -> int:

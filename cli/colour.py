@@ -7,7 +7,7 @@ from __future__ import annotations
 
 import json
 
-from starkiln.cli.options import add_colour_options, number, settings_from_args
+from starkiln.cli.options import add_colour_options, add_index_model_option, number, settings_from_args
 from starkiln.engine.errors import StarkilnError
 
 
@@ -18,7 +18,10 @@ def add_parsers(sub) -> None:
     src = c.add_mutually_exclusive_group(required=True)
     src.add_argument("--temperature", type=number, metavar="K", help="effective temperature, K")
     src.add_argument("--bv", type=number, metavar="B-V", help="Johnson B-V colour index")
+    src.add_argument("--bp-rp", type=number, metavar="BP-RP",
+                     help="dereddened Gaia BP-RP colour index")
     src.add_argument("--spectral-class", metavar="CLASS", help="main-sequence class, e.g. G2V")
+    add_index_model_option(c)
     c.add_argument("--magnitude", type=number, metavar="M",
                    help="apparent visual magnitude: turns on the night-vision model")
     c.add_argument("--json", action="store_true", help="print one JSON object")
@@ -44,14 +47,49 @@ def add_parsers(sub) -> None:
         q.add_argument("--force", action="store_true", help="overwrite OUT if it exists")
 
 
-def _temperature_from_args(args) -> float:
-    from starkiln.engine.stars.temperature import temperature_from_bv, temperature_from_spectral_class
+def _temperature_from_args(args) -> tuple[float, dict | None]:
+    """The temperature to render and, for a colour index or class, what it came from."""
+    from starkiln.engine.stars import temperature as st
 
     if args.temperature is not None:
-        return args.temperature
-    if args.bv is not None:
-        return float(temperature_from_bv(args.bv))
-    return temperature_from_spectral_class(args.spectral_class)
+        if args.index_model != "synthetic":
+            raise StarkilnError("--index-model applies only to --bv, --bp-rp and "
+                                "--spectral-class")
+        return args.temperature, None
+    model = args.index_model
+    if args.spectral_class is not None:
+        t = st.temperature_for_spectral_class(args.spectral_class, model)
+        return t, {"spectral_class": str(args.spectral_class).strip(), "index_model": model,
+                   "bv": st.spectral_class_bv(args.spectral_class),
+                   "effective_temperature_K":
+                       st.temperature_from_spectral_class(args.spectral_class)}
+    index, value = ("B-V", args.bv) if args.bv is not None else ("BP-RP", args.bp_rp)
+    t = float(st.temperature_from_index(value, index, model))
+    status = ("bluer-than-blackbody" if model == "synthetic"
+              and value < st.blackbody_blue_limit(index) else "ok")
+    return t, {"index": index, "value": value, "index_model": model, "status": status}
+
+
+def _source_rows(source: dict | None, temperature: float) -> list:
+    """The table rows that say where the rendered temperature came from."""
+    if source is None:
+        return [("temperature", f"{temperature:.0f} K")]
+    if "spectral_class" in source:
+        how = ("blackbody of the class's mean B-V "
+               f"{source['bv']:.3f}" if source["index_model"] == "synthetic"
+               else "the class's effective temperature")
+        return [("temperature", f"{temperature:.0f} K ({how})"),
+                ("effective temperature", f"{source['effective_temperature_K']:.0f} K "
+                                          f"({source['spectral_class']}, mean dwarf table)")]
+    if source["index_model"] == "relation":
+        how = f"effective temperature of {source['index']} {source['value']:g}, relation model"
+    else:
+        how = f"blackbody of {source['index']} {source['value']:g}, synthetic model"
+    rows = [("temperature", f"{temperature:.0f} K ({how})")]
+    if source["status"] == "bluer-than-blackbody":
+        rows.append(("note", f"{source['index']} {source['value']:g} is bluer than the "
+                             "100 000 K blackbody: shown at 100 000 K"))
+    return rows
 
 
 def cmd_colour(args, out) -> int:
@@ -59,7 +97,7 @@ def cmd_colour(args, out) -> int:
     from starkiln.engine.pipeline.render import render
 
     settings = settings_from_args(args)
-    temperature = _temperature_from_args(args)
+    temperature, source = _temperature_from_args(args)
     r = render(settings, temperature, args.magnitude)
     record = {
         "temperature_K": float(r.temperature_K),
@@ -72,6 +110,8 @@ def cmd_colour(args, out) -> int:
                      "adaptation": settings.adaptation, "display": settings.display.name,
                      "gamut": settings.gamut, "normalisation": settings.normalisation},
     }
+    if source is not None:
+        record["source"] = source
     night = []
     if args.magnitude is not None:
         record.update({
@@ -110,8 +150,7 @@ def cmd_colour(args, out) -> int:
                                 "settings within the ranges of 'starkiln colour --help'") from None
         out.write(text + "\n")
         return 0
-    rows = [
-        ("temperature", f"{record['temperature_K']:.0f} K"),
+    rows = _source_rows(source, record["temperature_K"]) + [
         ("chromaticity x, y", "{:.5f}, {:.5f}".format(*record["xy"])),
         ("display linear", "{:.4f} {:.4f} {:.4f}".format(*record["rgb_linear"])),
         ("display encoded", "{:.4f} {:.4f} {:.4f}".format(*record["rgb_encoded"])),

@@ -13,7 +13,7 @@ from __future__ import annotations
 import argparse
 import re
 
-from starkiln.cli.options import add_colour_options, settings_from_args
+from starkiln.cli.options import add_colour_options, add_index_model_option, settings_from_args
 from starkiln.engine.errors import StarkilnError, finite_number
 
 #: A value that starts like a negative number range, "-1:7", "-1.5:-0.5", "-2e1:3".
@@ -111,6 +111,7 @@ def add_parsers(sub) -> None:
     pal.add_argument("--classes", nargs="?", const="all", metavar="LIST",
                      help="one swatch per main-sequence class instead: all (O5V-M8V) or a "
                           "comma list such as O5V,B0V,A0V,F0V,G2V,K0V,M0V")
+    add_index_model_option(pal)
     pal.add_argument("--name", metavar="TEXT", help="palette name (default from the content)")
     pal.add_argument("--columns", type=int, metavar="N",
                      help="columns of the .gpl hint and the contact sheet (default up to 8)")
@@ -214,8 +215,10 @@ def cmd_palette(args, out) -> int:
             raise StarkilnError("--classes cannot be combined with --steps, --temperatures "
                                 "or --axis")
         classes = None if args.classes.strip().lower() == "all" else args.classes.split(",")
-        kwargs = {"use_classes": True, "classes": classes}
+        kwargs = {"use_classes": True, "classes": classes, "index_model": args.index_model}
     else:
+        if args.index_model != "synthetic":
+            raise StarkilnError("--index-model applies only to --classes")
         kwargs = {"range_K": (parse_range(args.temperatures, "--temperatures")
                               if args.temperatures is not None else None),
                   "steps": 16 if args.steps is None else args.steps,

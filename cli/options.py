@@ -218,3 +218,28 @@ def command_line_for(settings: "Settings", temperature_K: float, magnitude=None,
 
     return shlex.join(command_words_for(settings, temperature_K, magnitude, display_profile,
                                         json_output))
+
+
+def index_model(text: str) -> str:
+    """argparse type: a colour-index model (``synthetic`` or ``relation``)."""
+    from starkiln.engine.stars.temperature import check_index_model
+
+    try:
+        return check_index_model(text)
+    except StarkilnError as exc:
+        raise argparse.ArgumentTypeError(str(exc)) from None
+
+
+def add_index_model_option(p) -> None:
+    """Add ``--index-model synthetic|relation`` (how B-V and BP-RP become temperatures).
+
+    References
+    ----------
+    :func:`starkiln.engine.stars.temperature.temperature_from_index` (the two models).
+    """
+    p.add_argument("--index-model", type=index_model, default="synthetic",
+                   metavar="synthetic|relation",
+                   help="how a B-V or BP-RP becomes a colour: synthetic (default; the "
+                        "blackbody of the same colour through the published passbands) or "
+                        "relation (the published Teff relations: Ballesteros 2012 for B-V, "
+                        "Mucciarelli et al. 2021 for BP-RP)")

@@ -6,7 +6,7 @@ heavy at module level.
 
 from __future__ import annotations
 
-from starkiln.cli.options import add_colour_options, number, settings_from_args
+from starkiln.cli.options import add_colour_options, add_index_model_option, number, settings_from_args
 from starkiln.engine.errors import StarkilnError
 
 from starkiln.engine.plates.make import PLATE_PROJECTIONS as PROJECTIONS
@@ -26,10 +26,12 @@ def add_parsers(sub) -> None:
     c.add_argument("--dec-column", metavar="NAME", help="declination, degrees ICRS "
                    "(default: the first column named like dec)")
     c.add_argument("--temperature-column", metavar="NAME", help="effective temperature, K")
-    c.add_argument("--bv-column", metavar="NAME", help="Johnson B-V (Ballesteros 2012)")
+    c.add_argument("--bv-column", metavar="NAME", help="Johnson B-V (see --index-model)")
     c.add_argument("--bp-rp-column", metavar="NAME", help="dereddened Gaia BP-RP")
+    add_index_model_option(c)
     c.add_argument("--extrapolate-bp-rp", action="store_true",
-                   help="colour BP-RP outside the calibrated range (appearance only)")
+                   help="with --index-model relation: colour BP-RP outside the calibrated "
+                        "range (appearance only)")
     c.add_argument("--magnitude-column", metavar="NAME", help="apparent magnitudes")
     c.add_argument("--magnitude", type=number, metavar="M", help="one magnitude for every row")
     c.add_argument("--magnitude-band", metavar="V|G", default="V", help="V (default) or G")

@@ -64,7 +64,8 @@ class AuditionPanel(QtWidgets.QWidget):
                                     f"{self.scale.temperature_max_K:g} K)")
         self.bv = Field("bv-entry", lambda s: parse_number(s, "B-V"), self._apply_bv,
                         placeholder="B-V", width=64,
-                        tooltip="Johnson B-V colour index, -0.40 to 2.00 (Ballesteros 2012)")
+                        tooltip="Johnson B-V colour index, -0.40 to 10.66: shown as the "
+                                "blackbody of the same colour (synthetic photometry)")
         self.spectral = QtWidgets.QComboBox(self)
         self.spectral.setObjectName("class-entry")
         self.spectral.setEditable(True)
@@ -73,7 +74,8 @@ class AuditionPanel(QtWidgets.QWidget):
         self.spectral.setCurrentIndex(-1)
         self.spectral.lineEdit().setPlaceholderText("class")
         self.spectral.setFixedWidth(82)
-        self.spectral.setToolTip("Main-sequence spectral class O5V-M8V, e.g. G2V or K5.5V")
+        self.spectral.setToolTip("Main-sequence spectral class O5V-M8V, e.g. G2V or K5.5V: "
+                                 "shown as the blackbody of the class's mean B-V")
         self.spectral.lineEdit().setToolTip(self.spectral.toolTip())
         self.spectral.lineEdit().editingFinished.connect(self._apply_class)
         self.spectral.activated.connect(lambda _i: self._apply_class())

@@ -80,8 +80,9 @@ from starkiln.engine.plotdata.plots import (BandColours, ChromaticityDiagram, Mi
 from starkiln.engine.plotdata.sky import Cluster, SkyImage, load_demo_cluster, sky_image
 from starkiln.engine.plates.preview import (ColumnChoice, StarTable, load_star_table,
                                             plate_on_monitor, preview_plate)
-from starkiln.engine.stars.temperature import check_temperature, temperature_from_bv
-from starkiln.engine.stars.temperature import temperature_from_spectral_class
+from starkiln.engine.stars.temperature import (DEFAULT_INDEX_MODEL, check_index_model,
+                                               check_temperature, temperature_for_spectral_class,
+                                               temperature_from_index)
 
 DEFAULT_TEMPERATURE_K = 5772.0  # the Sun's nominal effective temperature ([IAU2015B3])
 DEFAULT_MAGNITUDE = 1.0
@@ -511,6 +512,7 @@ class WindowModel:
         self._pins: list[Pin] = []
         self._pin_strips: dict = {}
         self._magnitude = float(check_magnitude(magnitude))
+        self._index_model = DEFAULT_INDEX_MODEL
         t = float(check_temperature(temperature_K))
         self._plots = self._plots_for(settings)
         self._place(t, None, self._colour_for(settings, t, self._magnitude))
@@ -674,19 +676,30 @@ class WindowModel:
         self._place(t, p, colour)
         self.events.temperature.emit(origin, t)
 
+    @property
+    def index_model(self) -> str:
+        """How B-V and spectral classes become temperatures: ``synthetic`` or ``relation``."""
+        return self._index_model
+
+    def set_index_model(self, model: str) -> None:
+        """Choose the colour-index model for the next B-V or class (the engine validates)."""
+        self._index_model = check_index_model(model)
+
     def set_temperature_from_bv(self, bv, origin: str = "bv") -> None:
-        """Temperature from a Johnson B-V colour index ([Ballesteros2012], via the engine)."""
+        """Temperature from a Johnson B-V colour index, by :attr:`index_model` (via the engine:
+        the colour-matched blackbody, or [Ballesteros2012] with ``relation``)."""
         try:
-            t = float(temperature_from_bv(bv))
+            t = float(temperature_from_index(bv, "B-V", self.index_model))
         except StarkilnError as exc:
             self._report(origin, exc)
             raise
         self.set_temperature(t, origin)
 
     def set_temperature_from_class(self, spectral_class: str, origin: str = "class") -> None:
-        """Temperature of a main-sequence spectral class (the engine's published table)."""
+        """Temperature of a main-sequence spectral class by :attr:`index_model` (the blackbody
+        of the class's mean B-V, or its effective temperature with ``relation``)."""
         try:
-            t = float(temperature_from_spectral_class(spectral_class))
+            t = float(temperature_for_spectral_class(spectral_class, self.index_model))
         except StarkilnError as exc:
             self._report(origin, exc)
             raise

@@ -37,6 +37,7 @@ from starkiln.engine.catalogue.run import colour_catalogue  # noqa: E402
 from starkiln.cli.main import main  # noqa: E402
 from starkiln.engine.errors import StarkilnError  # noqa: E402
 from starkiln.engine.pipeline.settings import Settings  # noqa: E402
+from starkiln.engine.pipeline.render import render  # noqa: E402
 
 Table = astropy_table.Table
 ONE_STEP = 1.0 / 255.0
@@ -177,22 +178,47 @@ def test_statuses_per_row_and_no_row_lost(tmp_path, streamed):
 
 
 def test_bv_and_bp_rp_ranges(tmp_path):
+    # The relation model: [Ballesteros2012] B-V -0.40..2.00, [Mucciarelli2021] 0.39-1.50.
     rows = [[-0.41, 0.38], [-0.40, 0.39], [2.0, 1.50], [2.01, 1.51], [0.65, -0.6], [0.65, 5.1]]
     src = write_csv(tmp_path / "in.csv", ["bv", "bp_rp"], rows)
-    bv = CataloguePlan(Settings(), "bv", "bv")
+    bv = CataloguePlan(Settings(), "bv", "bv", index_model="relation")
     colour_catalogue(src, tmp_path / "bv.csv", bv)
     assert read_back(tmp_path / "bv.csv")["status"] == [
         "out-of-range", "ok", "ok", "out-of-range", "ok", "ok"]
-    bp = CataloguePlan(Settings(), "bp-rp", "bp_rp")
+    bp = CataloguePlan(Settings(), "bp-rp", "bp_rp", index_model="relation")
     colour_catalogue(src, tmp_path / "bp.csv", bp)
     assert read_back(tmp_path / "bp.csv")["status"] == [
         "out-of-range", "ok", "ok", "out-of-range", "out-of-range", "out-of-range"]
-    wide = CataloguePlan(Settings(), "bp-rp", "bp_rp", extrapolate_bp_rp=True)
+    wide = CataloguePlan(Settings(), "bp-rp", "bp_rp", extrapolate_bp_rp=True,
+                         index_model="relation")
     colour_catalogue(src, tmp_path / "wide.csv", wide)
     out = read_back(tmp_path / "wide.csv")
     assert out["status"] == ["extrapolated", "ok", "ok", "extrapolated", "out-of-range",
                              "out-of-range"]
     assert out["r"][0] is not None and out["r"][4] is None
+
+
+def test_synthetic_colour_ranges_and_statuses(tmp_path):
+    # The synthetic model (default): B-V -0.40 up to the 500 K blackbody's colour, BP-RP -0.60
+    # up to its; bluer than the 100 000 K blackbody (B-V -0.339, BP-RP -0.553: computed in
+    # tests/test_photometry.py against pyphot's photometry) coloured at 100 000 K with a status.
+    rows = [[-0.41, -0.61], [-0.40, -0.60], [-0.35, -0.56], [-0.30, -0.50], [0.65, 0.82],
+            [2.5, 4.0], [10.0, 14.0], [11.0, 15.0]]
+    src = write_csv(tmp_path / "in.csv", ["bv", "bp_rp"], rows)
+    for col, source in (("bv", "bv"), ("bp_rp", "bp-rp")):
+        plan = CataloguePlan(Settings(), source, col)
+        assert plan.index_model == "synthetic"
+        colour_catalogue(src, tmp_path / f"{col}.csv", plan)
+        out = read_back(tmp_path / f"{col}.csv")
+        assert out["status"] == ["out-of-range", "bluer-than-blackbody", "bluer-than-blackbody",
+                                 "ok", "ok", "ok", "ok", "out-of-range"], col
+        coloured = [r is not None for r in out["r"]]
+        assert coloured == [False] + [True] * 6 + [False]
+        # the bluer-than-blackbody rows carry the 100 000 K colour
+        hot = render(Settings(), 100000.0).rgb_encoded
+        assert np.allclose([out["r"][1], out["g"][1], out["b"][1]], hot, atol=2e-3)
+    with pytest.raises(StarkilnError, match="--extrapolate-bp-rp applies only to"):
+        CataloguePlan(Settings(), "bp-rp", "bp_rp", extrapolate_bp_rp=True)
 
 
 def test_magnitude_statuses(tmp_path):
@@ -412,7 +438,7 @@ def test_demo_catalogue_as_in_the_readme(tmp_path, capsys):
     demo = REPO / "assets" / "demo_catalogue.csv"
     out = tmp_path / "emberfall.csv"
     assert main(["catalogue", str(demo), str(out), "--bp-rp-column", "bp_rp",
-                 "--no-progress"]) == 0
+                 "--index-model", "relation", "--no-progress"]) == 0
     summary = capsys.readouterr().out
     assert "306 rows" in summary and "ok" in summary
     rows = read_back(out)
@@ -425,6 +451,14 @@ def test_demo_catalogue_as_in_the_readme(tmp_path, capsys):
     assert status["EMB-0018"] == "not-a-number"
     assert status["EMB-0200"] == "not-a-number"
     assert status["EMB-0078"] == "out-of-range"
+    # With the synthetic model (default) the too-red BP-RP 6.1 is still a blackbody's colour
+    # (about 900 K; the 500 K blackbody has BP-RP 14.8), so it is coloured.
+    out2 = tmp_path / "emberfall-synthetic.csv"
+    assert main(["catalogue", str(demo), str(out2), "--bp-rp-column", "bp_rp",
+                 "--no-progress"]) == 0
+    capsys.readouterr()
+    status = dict(zip(*(lambda r: (r["ember_id"], r["status"]))(read_back(out2))))
+    assert status["EMB-0078"] == "ok" and status["EMB-0006"] == "missing-temperature"
 
 
 def test_colour_command_does_not_import_the_catalogue_libraries(python_run):

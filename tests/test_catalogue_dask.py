@@ -86,11 +86,14 @@ def test_dask_equals_the_single_machine_path_with_magnitudes(tmp_path, monkeypat
         g[::41] = np.nan
         pq.write_table(pa.table({"bp_rp": bp, "gmag": g}), src / f"p{i}.parquet",
                        row_group_size=1000)
-    plan = CataloguePlan(Settings(), "bp-rp", "bp_rp", magnitude_column="gmag",
-                         magnitude_band="G", extrapolate_bp_rp=True)
-    colour_catalogue(src, tmp_path / "local.parquet", plan)
-    colour_catalogue_dask(src, tmp_path / "out", plan, n_workers=1, processes=False)
-    assert_same(tmp_path / "local.parquet", tmp_path / "out")
+    for k, plan in enumerate((
+            CataloguePlan(Settings(), "bp-rp", "bp_rp", magnitude_column="gmag",
+                          magnitude_band="G", extrapolate_bp_rp=True, index_model="relation"),
+            CataloguePlan(Settings(), "bp-rp", "bp_rp", magnitude_column="gmag",
+                          magnitude_band="G"))):  # synthetic photometry, the default
+        colour_catalogue(src, tmp_path / f"local{k}.parquet", plan)
+        colour_catalogue_dask(src, tmp_path / f"out{k}", plan, n_workers=1, processes=False)
+        assert_same(tmp_path / f"local{k}.parquet", tmp_path / f"out{k}")
 
 
 def test_existing_scheduler_address_and_force(tmp_path):

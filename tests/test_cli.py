@@ -64,16 +64,39 @@ def test_color_alias(capsys):
 
 
 def test_bv_and_spectral_class(capsys):
-    # Ballesteros (2012) EPL 97 34008 by hand for B-V = 0.65; G2V near 5772 K (IAU 2015).
-    rec = run_json(capsys, "--bv", "0.65")
+    # With the relation model: Ballesteros (2012) EPL 97 34008 by hand for B-V = 0.65; G2V
+    # near 5772 K (IAU 2015).
+    rec = run_json(capsys, "--bv", "0.65", "--index-model", "relation")
     expected = 4600.0 * (1 / (0.92 * 0.65 + 1.7) + 1 / (0.92 * 0.65 + 0.62))
     assert rec["temperature_K"] == pytest.approx(expected, rel=1e-12)
     # a negative index is a value, not an option (blue stars have B-V < 0)
-    rec = run_json(capsys, "--bv", "-0.3")
+    rec = run_json(capsys, "--bv", "-0.3", "--index-model", "relation")
     expected = 4600.0 * (1 / (0.92 * -0.3 + 1.7) + 1 / (0.92 * -0.3 + 0.62))
     assert rec["temperature_K"] == pytest.approx(expected, rel=1e-12)
-    rec = run_json(capsys, "--spectral-class", "G2V")
+    rec = run_json(capsys, "--spectral-class", "G2V", "--index-model", "relation")
     assert rec["temperature_K"] == pytest.approx(5772.0, abs=30.0)
+    check_hex(rec)
+
+
+def test_bv_bp_rp_and_class_by_synthetic_photometry(capsys):
+    # The default model: the blackbody of the same synthetic colour. The Sun's B-V 0.653
+    # ([Ramirez2012]) and BP-RP 0.82 ([CasagrandeVandenBerg2018], from memory) both give a
+    # blackbody within 5 % of its 5772 K ([IAU2015B3]); the record says where it came from.
+    rec = run_json(capsys, "--bv", "0.653")
+    assert rec["temperature_K"] == pytest.approx(5772.0, rel=0.05)
+    assert rec["source"] == {"index": "B-V", "value": 0.653, "index_model": "synthetic",
+                             "status": "ok"}
+    rec = run_json(capsys, "--bp-rp", "0.82")
+    assert rec["temperature_K"] == pytest.approx(5772.0, rel=0.05)
+    # Bluer than the 100 000 K blackbody (B-V about -0.34 there): shown at 100 000 K, marked.
+    rec = run_json(capsys, "--bv", "-0.37")
+    assert rec["temperature_K"] == pytest.approx(100000.0)
+    assert rec["source"]["status"] == "bluer-than-blackbody"
+    # A class: rendered from its mean B-V (G2V 0.650 in [Mamajek2018]), Teff in the record
+    # (5770 K, [Mamajek2024]).
+    rec = run_json(capsys, "--spectral-class", "G2V")
+    assert rec["source"]["bv"] == 0.650 and rec["source"]["effective_temperature_K"] == 5770.0
+    assert rec["temperature_K"] == pytest.approx(5772.0, rel=0.05)
     check_hex(rec)
 
 
@@ -175,7 +198,11 @@ BAD_CASES = [
     (["--temperature", "5800", "--settings", "{bad_toml}"], "{bad_toml}"),
     (["--temperature", "5800", "--display", "{bad_json}"], "{bad_json}"),
     (["--temperature", "5800", "--display", "crt-1985"], "crt-1985"),
-    (["--bv", "3.5"], "3.5"),
+    (["--bv", "3.5", "--index-model", "relation"], "3.5"),
+    (["--bv", "-0.45"], "-0.45"),
+    (["--bv", "11"], "11"),
+    (["--bp-rp", "-0.7"], "-0.7"),
+    (["--bv", "0.6", "--index-model", "tepid"], "tepid"),
     (["--spectral-class", "G2III"], "G2III"),
     ([], "--temperature"),
 ]

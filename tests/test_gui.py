@@ -124,6 +124,17 @@ def test_kelvin_bv_and_class_entries(window):
     assert window.model.temperature_K == 3200.0
     assert _slider(window).value() == int(a.scale.position_of(3200.0))
     assert centre_pixel(_swatch(window)) == rendered_8bit(window.model.settings, 3200.0)
+    # The default index model: the blackbody of the same synthetic colour. The Sun's B-V 0.653
+    # ([Ramirez2012]) gives it within 1 % of 5772 K ([IAU2015B3]); G2V (B-V 0.650,
+    # [Mamajek2018]) the same way.
+    assert a.bv.commit_text("0.653")
+    assert window.model.temperature_K == pytest.approx(5772.0, rel=0.01)
+    assert centre_pixel(_swatch(window)) == rendered_8bit(window.model.settings,
+                                                          window.model.temperature_K)
+    a.commit_class("G2V")
+    assert window.model.temperature_K == pytest.approx(5772.0, rel=0.01)
+    # The relation model (the window's model can be switched by scripts):
+    window.model.set_index_model("relation")
     assert a.bv.commit_text("0.65")
     # Ballesteros (2012) EPL 97 34008 eq. 14 at B-V = 0.65: 4600 (1/2.298 + 1/1.218) = 5778 K
     expected = 4600.0 * (1 / (0.92 * 0.65 + 1.7) + 1 / (0.92 * 0.65 + 0.62))

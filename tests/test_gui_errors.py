@@ -45,7 +45,10 @@ def test_bad_kelvin_entry(window, text, message):
 def test_bad_bv_and_class(window):
     s, t = window.model.settings, window.model.temperature_K
     a = window.audition
-    assert not a.bv.commit_text("3")
+    assert not a.bv.commit_text("11")  # beyond the 500 K blackbody's B-V (synthetic model)
+    assert "B-V 11 is outside the accepted range" in a.bv.error.text()
+    window.model.set_index_model("relation")
+    assert not a.bv.commit_text("3")  # beyond Ballesteros (2012)'s 2.00
     assert "B-V 3 is outside the accepted range" in a.bv.error.text()
     assert not a.bv.commit_text("red")
     a.commit_class("Z9")

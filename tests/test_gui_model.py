@@ -145,8 +145,8 @@ def test_rejected_change_keeps_the_last_good_state(model):
         model.change("night", aperture_mm=-5.0)
     with pytest.raises(StarkilnError, match="magnitude 40 is outside the accepted range"):
         model.set_magnitude(40.0, origin="night")
-    with pytest.raises(StarkilnError, match="B-V 3 is outside the accepted range"):
-        model.set_temperature_from_bv(3.0)
+    with pytest.raises(StarkilnError, match="B-V 11 is outside the accepted range"):
+        model.set_temperature_from_bv(11.0)
     with pytest.raises(StarkilnError, match="peak_luminance_cd_m2 0 is outside"):
         model.change_display("night", peak_luminance_cd_m2=0.0)
     assert model.settings is s and model.temperature_K == t and model.magnitude == 1.0
@@ -155,10 +155,17 @@ def test_rejected_change_keeps_the_last_good_state(model):
         ("rejected", "kelvin"), ("rejected", "night"), ("rejected", "night"),
         ("rejected", "bv"), ("rejected", "night")]
     assert all(isinstance(v, StarkilnError) for _e, _o, v in rec.seen)
-    # a good value afterwards goes through: Ballesteros (2012) eq. 14 at B-V = 0.65
+    # a good value afterwards goes through: Ballesteros (2012) eq. 14 at B-V = 0.65 with the
+    # relation model; the default (synthetic photometry) gives the blackbody of that colour
+    model.set_index_model("relation")
     model.set_temperature_from_bv(0.65)
     assert model.temperature_K == pytest.approx(
         4600.0 * (1 / (0.92 * 0.65 + 1.7) + 1 / (0.92 * 0.65 + 0.62)))
+    model.set_index_model("synthetic")
+    model.set_temperature_from_bv(0.653)  # the Sun's B-V ([Ramirez2012]): near 5772 K
+    assert model.temperature_K == pytest.approx(5772.0, rel=0.01)
+    with pytest.raises(StarkilnError, match="unknown colour-index model"):
+        model.set_index_model("tepid")
 
 
 def test_plot_data_refresh_with_the_display(model):

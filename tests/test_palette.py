@@ -81,11 +81,16 @@ def test_reversed_range_is_refused():
 def test_classes_cover_the_main_sequence_table():
     from starkiln.engine.stars.temperature import SPECTRAL_CLASS_TEFF_K
 
-    names, temps = class_temperatures()
+    names, temps = class_temperatures(index_model="relation")
     assert len(names) == len(SPECTRAL_CLASS_TEFF_K)
     assert names[0] == "O5V" and names[-1] == "M8V"
     # temperatures fall from O to M (the spectral sequence, common practice)
     assert np.all(np.diff(temps) < 0)
+    # By synthetic photometry (default) the colours' blackbodies fall too, O5V-O8.5V alike
+    # (all B-V -0.32 in [Mamajek2018]); G2V (B-V 0.650) within 2 % of the Sun's 5772 K.
+    names, temps = class_temperatures()
+    assert np.all(np.diff(temps) <= 0) and temps[0] > temps[-1]
+    assert temps[names.index("G2V")] == pytest.approx(5772.0, rel=0.02)
     names, temps = class_temperatures(["g2v", "K0"])
     assert names == ("G2V", "K0V")
 

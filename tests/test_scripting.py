@@ -144,6 +144,20 @@ def test_temperature_sources_against_published_relations():
     assert shown("temperature_from_bp_rp(0.823)") == pytest.approx(5770, abs=150)
 
 
+def test_index_models_against_the_sun():
+    # The Sun's B-V 0.653 ([Ramirez2012]) and BP-RP 0.82 ([CasagrandeVandenBerg2018], from
+    # memory): the blackbodies of those colours within 5 % of its 5772 K ([IAU2015B3]); the
+    # relation model is Ballesteros (2012) eq. 14 by hand.
+    assert shown('temperature_from_index(0.653, "B-V")') == pytest.approx(5772, rel=0.05)
+    assert shown('temperature_from_index(0.82, "BP-RP")') == pytest.approx(5772, rel=0.05)
+    c = 0.653
+    assert shown('temperature_from_index(0.653, "B-V", "relation")') == round(
+        4600 * (1 / (0.92 * c + 1.7) + 1 / (0.92 * c + 0.62)))
+    # A0V has B-V 0.000 ([Mamajek2018]) like Vega, whose colour-matched blackbody is far hotter
+    # than its 9700 K Teff ([Mamajek2024]): the Balmer jump (common practice).
+    assert shown('temperature_for_spectral_class("A0V")') > 1.2 * 9700
+
+
 def test_example_star_ordering_is_physical():
     # Common practice: cool stars render red-orange (red channel strongest, blue weakest), hot
     # stars blue-white (blue channel strongest).

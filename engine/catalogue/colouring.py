@@ -24,7 +24,8 @@ from dataclasses import dataclass
 import numpy as np
 
 from starkiln.engine.catalogue.columns import arrow_values, output_schema, status_array
-from starkiln.engine.catalogue.plan import (EXTRAPOLATED, MAGNITUDE_MAX, MAGNITUDE_MIN,
+from starkiln.engine.catalogue.plan import (BLUER_THAN_BLACKBODY, EXTRAPOLATED, LAST_COLOURED,
+                                            MAGNITUDE_MAX, MAGNITUDE_MIN,
                                             MAGNITUDE_OUT_OF_RANGE, MISSING_MAGNITUDE,
                                             MISSING_TEMPERATURE, NOT_A_NUMBER, OUT_OF_RANGE,
                                             STATUSES, CataloguePlan)
@@ -58,10 +59,10 @@ class Coloured:
 
 def _flag(codes: np.ndarray, condition, code: int) -> None:
     """Set ``code`` where ``condition`` holds and no earlier reason was found
-    (``extrapolated`` is not a reason: a later one replaces it)."""
+    (``extrapolated`` and ``bluer-than-blackbody`` are not reasons: a later one replaces them)."""
     if condition is None or not condition.any():
         return
-    np.copyto(codes, np.uint8(code), where=condition & (codes <= EXTRAPOLATED))
+    np.copyto(codes, np.uint8(code), where=condition & (codes <= LAST_COLOURED))
 
 
 #: Rows below which a chunk is coloured by one thread.
@@ -126,7 +127,7 @@ def colour_values(plan: CataloguePlan, columns: dict) -> Coloured:
 
     for f in [_pool(threads).submit(work, p) for p in range(parts)]:
         f.result()
-    blank = codes > EXTRAPOLATED
+    blank = codes > LAST_COLOURED
     return Coloured(*out[:4], codes, blank if blank.any() else None, tuple(out[4:]))
 
 
@@ -151,9 +152,12 @@ def colour_values_serial(plan: CataloguePlan, columns: dict) -> Coloured:
     -----
     The first reason found wins, in this order: temperature source missing,
     not a number, out of range; then magnitude missing, not a number, out of
-    range. Accepted ranges: 500-100 000 K; B-V -0.40 to 2.00
-    ([Ballesteros2012]); BP-RP 0.39-1.50 ([Mucciarelli2021]; -0.5 to 5.0 with
-    ``extrapolate_bp_rp``); V -30 to 30; BP-RP for G-to-V -0.5 to 5.0 ([Riello2021]).
+    range. Accepted ranges: 500-100 000 K; with the synthetic index model (default) B-V
+    -0.40 to 10.66 and BP-RP -0.60 to 14.82, colours bluer than the 100 000 K blackbody
+    coloured at 100 000 K with status ``bluer-than-blackbody``
+    (:func:`starkiln.engine.stars.temperature.index_range`); with the relation model B-V
+    -0.40 to 2.00 ([Ballesteros2012]) and BP-RP 0.39-1.50 ([Mucciarelli2021]; -0.5 to 5.0
+    with ``extrapolate_bp_rp``); V -30 to 30; BP-RP for G-to-V -0.5 to 5.0 ([Riello2021]).
 
     References
     ----------
@@ -161,7 +165,8 @@ def colour_values_serial(plan: CataloguePlan, columns: dict) -> Coloured:
     grid), :mod:`starkiln.engine.stars.temperature`, :mod:`starkiln.engine.stars.gaia` (relations).
     """
     from starkiln.engine.stars import gaia as pg
-    from starkiln.engine.stars.temperature import BV_MAX, BV_MIN, TEMPERATURE_MAX_K, TEMPERATURE_MIN_K
+    from starkiln.engine.stars import temperature as st
+    from starkiln.engine.stars.temperature import TEMPERATURE_MAX_K, TEMPERATURE_MIN_K
 
     src, src_missing = columns[plan.source_column]
     n = src.shape[0]
@@ -172,13 +177,16 @@ def colour_values_serial(plan: CataloguePlan, columns: dict) -> Coloured:
     with np.errstate(invalid="ignore"):
         if plan.source == "temperature":
             inside = (src >= TEMPERATURE_MIN_K) & (src <= TEMPERATURE_MAX_K)
-        elif plan.source == "bv":
-            inside = (src >= BV_MIN) & (src <= BV_MAX)
         else:
-            inside = pg.bp_rp_in_range(src, extrapolate=plan.extrapolate_bp_rp)
+            lo, hi = st.index_range(_INDEX[plan.source], plan.index_model,
+                                    extrapolate=plan.extrapolate_bp_rp)
+            inside = (src >= lo) & (src <= hi)
         _flag(codes, ~inside, OUT_OF_RANGE)
         if plan.source == "bp-rp" and plan.extrapolate_bp_rp:
             _flag(codes, ~pg.bp_rp_in_range(src), EXTRAPOLATED)
+        if plan.source != "temperature" and plan.index_model == "synthetic":
+            _flag(codes, src < st.blackbody_blue_limit(_INDEX[plan.source]),
+                  BLUER_THAN_BLACKBODY)
 
     v_mag = None
     if plan.with_magnitude:
@@ -201,7 +209,7 @@ def colour_values_serial(plan: CataloguePlan, columns: dict) -> Coloured:
                   MAGNITUDE_OUT_OF_RANGE)
         v_mag = mag
 
-    coloured = codes <= EXTRAPOLATED
+    coloured = codes <= LAST_COLOURED
     all_coloured = bool(coloured.all())
     blank = None if all_coloured else ~coloured
     if not coloured.any():
@@ -212,12 +220,13 @@ def colour_values_serial(plan: CataloguePlan, columns: dict) -> Coloured:
     safe = src if all_coloured else np.where(coloured, src, _SAFE[plan.source])
     if plan.source == "temperature":
         temperature_K = safe
-    elif plan.source == "bv":
-        from starkiln.engine.stars.temperature import temperature_from_bv
+    elif plan.index_model == "synthetic":  # rows checked above: the table lookup alone
+        from starkiln.engine.colour.photometry import lookup_temperature
 
-        temperature_K = temperature_from_bv(safe)
+        temperature_K = lookup_temperature(safe, _INDEX[plan.source])
     else:
-        temperature_K = pg.temperature_from_bp_rp(safe, extrapolate=True)
+        temperature_K = st.temperature_from_index(safe, _INDEX[plan.source], plan.index_model,
+                                                  extrapolate=True)
     if v_mag is not None and not all_coloured:
         v_mag = np.where(coloured, v_mag, 0.0)
 
@@ -228,6 +237,8 @@ def colour_values_serial(plan: CataloguePlan, columns: dict) -> Coloured:
     return Coloured(r, g, b, intensity, codes, blank, linear)
 
 
+#: The colour index of each colour source.
+_INDEX = {"bv": "B-V", "bp-rp": "BP-RP"}
 #: Stand-in values for rows that are not coloured (their results are discarded).
 _SAFE = {"temperature": 5772.0, "bv": 0.65, "bp-rp": 0.82}
 

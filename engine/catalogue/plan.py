@@ -22,10 +22,11 @@ settings ask for one), float32, empty where the row is not coloured.
 that every engine (this machine, :mod:`starkiln.engine.catalogue.dask_engine`)
 hands to the per-chunk function (:mod:`starkiln.engine.catalogue.colouring`).
 
-Temperature sources: kelvin (500-100 000 K, the render path's range);
-B-V through :func:`starkiln.engine.stars.temperature.temperature_from_bv` ([Ballesteros2012]);
-BP-RP through :func:`starkiln.engine.stars.gaia.temperature_from_bp_rp`
-([Mucciarelli2021], dwarfs, [Fe/H] = 0 assumed).
+Temperature sources: kelvin (500-100 000 K, the render path's range); B-V and BP-RP through
+:func:`starkiln.engine.stars.temperature.temperature_from_index` with the plan's
+``index_model``: ``synthetic`` (default; the blackbody of the same synthetic colour,
+[BessellMurphy2012], [Riello2021]) or ``relation`` ([Ballesteros2012] for B-V;
+[Mucciarelli2021] for BP-RP, dwarfs, [Fe/H] = 0 assumed).
 Gaia G becomes V through :func:`starkiln.engine.stars.gaia.v_from_g` ([Riello2021]
 Table C.2).
 """
@@ -45,14 +46,17 @@ from starkiln.engine.pipeline.settings import Settings
 STATUSES = (
     "ok",                      # coloured
     "extrapolated",            # coloured, BP-RP outside the calibrated range (on request)
+    "bluer-than-blackbody",    # coloured at 100 000 K: bluer than that blackbody (synthetic)
     "missing-temperature",     # the temperature source cell is empty / null
     "missing-magnitude",       # the magnitude (or the BP-RP that G-to-V needs) is empty
     "not-a-number",            # a cell that is text, NaN or infinite
     "out-of-range",            # temperature source outside its accepted range
     "magnitude-out-of-range",  # V outside -30..30, or BP-RP outside the G-to-V range
 )
-OK, EXTRAPOLATED, MISSING_TEMPERATURE, MISSING_MAGNITUDE, NOT_A_NUMBER, OUT_OF_RANGE, \
-    MAGNITUDE_OUT_OF_RANGE = range(len(STATUSES))
+OK, EXTRAPOLATED, BLUER_THAN_BLACKBODY, MISSING_TEMPERATURE, MISSING_MAGNITUDE, NOT_A_NUMBER, \
+    OUT_OF_RANGE, MAGNITUDE_OUT_OF_RANGE = range(len(STATUSES))
+#: The last status code of a coloured row (codes up to it are coloured, the rest blank).
+LAST_COLOURED = BLUER_THAN_BLACKBODY
 
 SOURCES = ("temperature", "bv", "bp-rp")
 BANDS = ("V", "G")
@@ -100,7 +104,10 @@ class CataloguePlan:
     bp_rp_column : BP-RP column used by the G-to-V relation (defaults to
         ``source_column`` when the source is ``bp-rp``).
     magnitude : one magnitude for every row (instead of a column), or None.
-    extrapolate_bp_rp : colour BP-RP outside 0.39-1.50 (status ``extrapolated``).
+    extrapolate_bp_rp : colour BP-RP outside 0.39-1.50 (status ``extrapolated``; relation
+        model only).
+    index_model : ``synthetic`` (default) or ``relation``: how B-V and BP-RP become
+        temperatures (:func:`starkiln.engine.stars.temperature.temperature_from_index`).
     exact : call the render path for every row instead of the colour grid.
     prefix : text put before the names of the appended columns.
     linear_columns : working spaces (names from
@@ -122,8 +129,15 @@ class CataloguePlan:
     prefix: str = ""
     threads: int = 0
     linear_columns: tuple = ()
+    index_model: str = "synthetic"
 
     def __post_init__(self):
+        from starkiln.engine.stars.temperature import check_index_model
+
+        object.__setattr__(self, "index_model", check_index_model(self.index_model))
+        if self.extrapolate_bp_rp and self.index_model != "relation":
+            raise StarkilnError("--extrapolate-bp-rp applies only to --index-model relation "
+                                "(the synthetic model covers BP-RP -0.6 to 14.82)")
         object.__setattr__(self, "linear_columns", check_linear_columns(self.linear_columns))
         if self.source not in SOURCES:
             raise StarkilnError(f"unknown temperature source {self.source!r}; accepted: "

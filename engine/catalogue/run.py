@@ -33,7 +33,7 @@ from starkiln.engine.catalogue.formats import (astropy_guard, astropy_to_arrow,
                                                format_of, input_files, read_astropy,
                                                write_astropy)
 from starkiln.engine.catalogue.output_guard import refuse_same_file
-from starkiln.engine.catalogue.plan import EXTRAPOLATED, STATUSES, CataloguePlan, status_counts
+from starkiln.engine.catalogue.plan import LAST_COLOURED, STATUSES, CataloguePlan, status_counts
 from starkiln.engine.catalogue.streaming import CsvWriter, StreamSource, parquet_writer
 from starkiln.engine.errors import StarkilnError
 
@@ -239,7 +239,7 @@ def _run_astropy_guarded(path, fmt_in, output, fmt_out, plan, overwrite, progres
                     dst[start:stop] = src
                 codes[start:stop] = res.codes
                 bar.update(stop - start)
-        blank = codes > EXTRAPOLATED
+        blank = codes > LAST_COLOURED
         for name, data in zip(plan.output_columns[:4], outs):
             table[name] = MaskedColumn(data, mask=blank)
         table[plan.output_columns[4]] = np.array(STATUSES)[codes] if n else \

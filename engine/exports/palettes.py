@@ -153,14 +153,17 @@ def _check_steps(steps) -> int:
     return n
 
 
-def class_temperatures(classes=None):
-    """Names and temperatures of main-sequence spectral classes.
+def class_temperatures(classes=None, index_model: str = "synthetic"):
+    """Names and rendered temperatures of main-sequence spectral classes.
 
     Parameters
     ----------
     classes : sequence of str, optional
         Class names such as ``"G2V"`` or ``"K5.5"``; all tabulated classes
         O5V-M8V when None.
+    index_model : {"synthetic", "relation"}
+        ``synthetic`` (default): the blackbody of each class's mean intrinsic B-V;
+        ``relation``: each class's effective temperature.
 
     Returns
     -------
@@ -168,10 +171,11 @@ def class_temperatures(classes=None):
 
     References
     ----------
-    :func:`starkiln.engine.stars.temperature.temperature_from_spectral_class` ([Mamajek2024],
-    mean dwarf sequence version 2024.05.15).
+    :func:`starkiln.engine.stars.temperature.temperature_for_spectral_class` ([Mamajek2018]
+    B-V, [Mamajek2024] Teff, mean dwarf sequence).
     """
-    from starkiln.engine.stars.temperature import SPECTRAL_CLASS_TEFF_K, temperature_from_spectral_class
+    from starkiln.engine.stars.temperature import (SPECTRAL_CLASS_TEFF_K,
+                                                   temperature_for_spectral_class)
 
     if classes is None:
         names = tuple(f"{k}V" for k in SPECTRAL_CLASS_TEFF_K)
@@ -180,12 +184,14 @@ def class_temperatures(classes=None):
         if not names:
             raise StarkilnError("no spectral classes given; accepted: e.g. O5V,B0V,G2V")
         names = tuple(n if n.endswith("V") else n + "V" for n in names)
-    temps = np.array([temperature_from_spectral_class(n) for n in names], dtype=np.float64)
+    temps = np.array([temperature_for_spectral_class(n, index_model) for n in names],
+                     dtype=np.float64)
     return names, temps
 
 
 def build_palette(settings, *, range_K=None, steps: int = 16, axis: str = "mired",
-                  classes=None, use_classes: bool = False) -> Palette:
+                  classes=None, use_classes: bool = False,
+                  index_model: str = "synthetic") -> Palette:
     """Render a swatch set with one call to :func:`starkiln.engine.pipeline.render.render`.
 
     Parameters
@@ -197,6 +203,8 @@ def build_palette(settings, *, range_K=None, steps: int = 16, axis: str = "mired
         Spectral classes; implies ``use_classes``.
     use_classes : bool
         One swatch per class (all tabulated classes when ``classes`` is None).
+    index_model : {"synthetic", "relation"}
+        How a class becomes a temperature (:func:`class_temperatures`).
 
     Returns
     -------
@@ -218,11 +226,16 @@ def build_palette(settings, *, range_K=None, steps: int = 16, axis: str = "mired
     from starkiln.engine.pipeline.render import render
 
     if use_classes or classes is not None:
-        names, temps = class_temperatures(classes)
+        from starkiln.engine.stars.temperature import check_index_model
+
+        index_model = check_index_model(index_model)
+        names, temps = class_temperatures(classes, index_model)
         spectral = names
+        source = ("blackbodies of the classes' mean B-V (synthetic photometry), E. Mamajek, "
+                  "mean dwarf sequence v2018.08.02" if index_model == "synthetic" else
+                  "main-sequence dwarf temperatures, E. Mamajek, mean dwarf sequence v2024.05.15")
         description = {"kind": "spectral-classes", "classes": list(names),
-                       "source": "main-sequence dwarf temperatures, E. Mamajek, "
-                                 "mean dwarf sequence v2024.05.15"}
+                       "index_model": index_model, "source": source}
     else:
         rng = check_temperature_range(range_K if range_K is not None
                                       else DEFAULT_TEMPERATURE_RANGE_K)
@@ -385,7 +398,8 @@ def write_palette(palette: Palette, path, overwrite: bool = False, name: str | N
 
 def export_palette(settings, path, *, range_K=None, steps: int = 16, axis: str = "mired",
                    classes=None, use_classes: bool = False, name: str | None = None,
-                   columns: int | None = None, overwrite: bool = False) -> Palette:
+                   columns: int | None = None, overwrite: bool = False,
+                   index_model: str = "synthetic") -> Palette:
     """Check the destination, build a palette and write it atomically; returns the palette.
 
     The one palette export: the command line (``starkiln palette``) and the window both call
@@ -398,7 +412,7 @@ def export_palette(settings, path, *, range_K=None, steps: int = 16, axis: str =
     settings : starkiln.engine.pipeline.settings.Settings
     path : path-like
         ``.json``, ``.csv``, ``.gpl`` or ``.png`` (contact sheet).
-    range_K, steps, axis, classes, use_classes
+    range_K, steps, axis, classes, use_classes, index_model
         As :func:`build_palette`.
     name : str, optional
         Palette name (default from its content, :meth:`Palette.default_name`).
@@ -420,6 +434,6 @@ def export_palette(settings, path, *, range_K=None, steps: int = 16, axis: str =
     check_palette_target(settings.display, palette_format_for_path(path), path)
     check_writable(path, overwrite)
     palette = build_palette(settings, range_K=range_K, steps=steps, axis=axis, classes=classes,
-                            use_classes=use_classes)
+                            use_classes=use_classes, index_model=index_model)
     write_palette(palette, path, overwrite=overwrite, name=name, columns=columns)
     return palette

@@ -12,6 +12,30 @@
   subclasses interpolate linearly in temperature between the tabulated
   neighbours, which include the half subclasses the table lists (O5.5, B0.5,
   F9.5, M0.5 ...).
+- Colour indices (B-V, Gaia BP-RP) by one of two models (:data:`INDEX_MODELS`, chosen with
+  ``--index-model`` and the like; :func:`temperature_from_index`):
+
+  - ``synthetic`` (the default): the blackbody whose synthetic colour index, through the
+    published passbands with Vega's zero point, equals the given index
+    (:func:`starkiln.engine.colour.photometry.temperature_from_colour_index`). This is the
+    blackbody of the star's *colour*, which is what a display shows; it is not the star's
+    effective temperature (hot stars' Balmer jump and lines, cool stars' molecular bands
+    move their colours away from a blackbody's of the same Teff).
+  - ``relation``: the published temperature relations, which give an effective
+    temperature: [Ballesteros2012] for B-V, [Mucciarelli2021] for BP-RP
+    (:mod:`starkiln.engine.stars.gaia`).
+
+  The synthetic model accepts B-V from -0.40 and BP-RP from -0.60 (observed colours reach
+  about -0.35 and -0.55, common practice, plus a margin for errors of measurement) up to the
+  colour of a 500 K blackbody (B-V 10.66, BP-RP 14.82: the render path's coolest). Colours
+  bluer than the 100 000 K blackbody's (B-V -0.339, BP-RP -0.553; no blackbody is bluer than
+  the Rayleigh-Jeans limits B-V -0.379, BP-RP -0.620) are shown as 100 000 K, and marked
+  (:data:`BLUER_THAN_BLACKBODY`).
+- Spectral classes: the effective temperature (the readouts) from the table's Teff column,
+  and the rendered colour (:func:`temperature_for_spectral_class`) from the class's mean
+  intrinsic B-V, the table's B-V column ([Mamajek2018], version 2018.08.02 of the same
+  table, the copy at hand) through the synthetic model; with the ``relation`` model the
+  class is rendered at its Teff as before.
 """
 
 from __future__ import annotations
@@ -26,6 +50,13 @@ TEMPERATURE_MIN_K = 500.0
 TEMPERATURE_MAX_K = 100000.0
 BV_MIN = -0.40
 BV_MAX = 2.00
+#: How a colour index becomes the temperature that is rendered (module docstring).
+INDEX_MODELS = ("synthetic", "relation")
+DEFAULT_INDEX_MODEL = "synthetic"
+#: The bluest colours the synthetic model accepts (module docstring: common practice).
+SYNTHETIC_INDEX_MIN = {"B-V": -0.40, "BP-RP": -0.60}
+#: The status of a colour bluer than any blackbody of the render range (shown at 100 000 K).
+BLUER_THAN_BLACKBODY = "bluer-than-blackbody"
 
 #: Main-sequence effective temperatures (K) of the whole subclasses, [Mamajek2024].
 SPECTRAL_CLASS_TEFF_K = {
@@ -50,6 +81,27 @@ HALF_SUBCLASS_TEFF_K = {
     "M0.5": 3770, "M1.5": 3620, "M2.5": 3470, "M3.5": 3270, "M4.5": 3110,
     "M5.5": 2930, "M6.5": 2740, "M7.5": 2630,
 }
+#: Mean intrinsic B-V of main-sequence classes, [Mamajek2018] (version 2018.08.02, column
+#: B-V, copied from the table file; O5-O8.5 are given there to two decimals).
+SPECTRAL_CLASS_BV = {
+    "O5": -0.32, "O5.5": -0.32, "O6": -0.32, "O6.5": -0.32, "O7": -0.32, "O7.5": -0.32,
+    "O8": -0.32, "O8.5": -0.32, "O9": -0.318, "O9.5": -0.312,
+    "B0": -0.307, "B0.5": -0.295, "B1": -0.278, "B1.5": -0.252, "B2": -0.210, "B2.5": -0.198,
+    "B3": -0.178, "B4": -0.165, "B5": -0.156, "B6": -0.140, "B7": -0.128, "B8": -0.109,
+    "B9": -0.070, "B9.5": -0.050,
+    "A0": 0.000, "A1": 0.043, "A2": 0.074, "A3": 0.090, "A4": 0.140, "A5": 0.160,
+    "A6": 0.170, "A7": 0.210, "A8": 0.250, "A9": 0.255,
+    "F0": 0.294, "F1": 0.334, "F2": 0.374, "F3": 0.389, "F4": 0.412, "F5": 0.438,
+    "F6": 0.484, "F7": 0.510, "F8": 0.530, "F9": 0.552,
+    "G0": 0.596, "G1": 0.604, "G2": 0.650, "G3": 0.661, "G4": 0.674, "G5": 0.680,
+    "G6": 0.704, "G7": 0.713, "G8": 0.737, "G9": 0.777,
+    "K0": 0.816, "K0.5": 0.828, "K1": 0.847, "K1.5": 0.859, "K2": 0.884, "K2.5": 0.938,
+    "K3": 0.980, "K3.5": 1.050, "K4": 1.100, "K4.5": 1.116, "K5": 1.150, "K5.5": 1.200,
+    "K6": 1.240, "K6.5": 1.310, "K7": 1.330, "K8": 1.356, "K9": 1.382,
+    "M0": 1.408, "M0.5": 1.441, "M1": 1.475, "M1.5": 1.486, "M2": 1.500, "M2.5": 1.522,
+    "M3": 1.544, "M3.5": 1.602, "M4": 1.661, "M4.5": 1.72, "M5": 1.874, "M5.5": 1.91,
+    "M6": 2.00, "M6.5": 2.06, "M7": 2.06, "M7.5": 2.17, "M8": 2.20,
+}
 _LETTERS = "OBAFGKM"
 
 
@@ -62,6 +114,9 @@ _NODES = sorted((_class_code(k), float(v)) for k, v in
                 {**SPECTRAL_CLASS_TEFF_K, **HALF_SUBCLASS_TEFF_K}.items())
 _NODE_CODES = np.array([c for c, _ in _NODES])
 _NODE_TEFF = np.array([t for _, t in _NODES])
+_BV_NODES = sorted((_class_code(k), float(v)) for k, v in SPECTRAL_CLASS_BV.items())
+_BV_NODE_CODES = np.array([c for c, _ in _BV_NODES])
+_BV_NODE_VALUES = np.array([v for _, v in _BV_NODES])
 _CLASS_RE = re.compile(r"^\s*([OBAFGKM])\s*(\d(?:\.\d+)?)\s*(V|IV|III|II|I|IA|IB|IAB)?\s*$",
                        re.IGNORECASE)
 
@@ -111,6 +166,142 @@ def temperature_from_bv(bv) -> np.ndarray:
     return 4600.0 * (1.0 / (0.92 * b + 1.7) + 1.0 / (0.92 * b + 0.62))
 
 
+def check_index_model(name: str) -> str:
+    """The canonical colour-index model (``synthetic`` or ``relation``) or an error.
+
+    References
+    ----------
+    The module docstring (the two models).
+    """
+    key = str(name).strip().lower()
+    if key not in INDEX_MODELS:
+        raise InputRangeError(f"unknown colour-index model {name!r}; accepted: "
+                              f"{', '.join(INDEX_MODELS)}")
+    return key
+
+
+def index_range(index: str, model: str = DEFAULT_INDEX_MODEL,
+                extrapolate: bool = False) -> tuple[float, float]:
+    """The colours a model accepts: ``(lo, hi)`` in magnitudes.
+
+    Parameters
+    ----------
+    index : {"B-V", "BP-RP"}
+    model : {"synthetic", "relation"}
+    extrapolate : bool
+        Relation model, BP-RP only: the wider range of appearance-only extrapolation.
+
+    Returns
+    -------
+    tuple of float
+
+    References
+    ----------
+    [Ballesteros2012], [Mucciarelli2021] (relations); the module docstring (synthetic).
+    """
+    from starkiln.engine.colour.photometry import check_index, colour_index_range
+
+    index, model = check_index(index), check_index_model(model)
+    if model == "synthetic":
+        return SYNTHETIC_INDEX_MIN[index], colour_index_range(index)[1]
+    if index == "B-V":
+        return BV_MIN, BV_MAX
+    from starkiln.engine.stars import gaia
+
+    if extrapolate:
+        return gaia.BP_RP_EXTRAPOLATED_MIN, gaia.BP_RP_EXTRAPOLATED_MAX
+    return gaia.BP_RP_CALIBRATED_MIN, gaia.BP_RP_CALIBRATED_MAX
+
+
+def blackbody_blue_limit(index: str) -> float:
+    """The colour of the 100 000 K blackbody: bluer colours are shown at 100 000 K (synthetic).
+
+    References
+    ----------
+    :func:`starkiln.engine.colour.photometry.colour_index_range` ([Planck1901]).
+    """
+    from starkiln.engine.colour.photometry import colour_index_range
+
+    return colour_index_range(index)[0]
+
+
+def temperature_from_index(value, index: str, model: str = DEFAULT_INDEX_MODEL, *,
+                           extrapolate: bool = False) -> np.ndarray:
+    """The temperature to render for a colour index, by the chosen model.
+
+    Parameters
+    ----------
+    value : array_like
+        B-V or BP-RP colours, mag.
+    index : {"B-V", "BP-RP"}
+    model : {"synthetic", "relation"}
+        ``synthetic`` (default): the blackbody of the same synthetic colour (colours bluer
+        than the 100 000 K blackbody give 100 000 K); ``relation``: the effective temperature
+        of [Ballesteros2012] (B-V) or [Mucciarelli2021] (BP-RP, solar [Fe/H]).
+    extrapolate : bool
+        Relation model, BP-RP: accept -0.5 to 5.0 (appearance only).
+
+    Returns
+    -------
+    numpy.ndarray
+        Kelvin, the shape of ``value``.
+
+    Raises
+    ------
+    starkiln.engine.errors.InputRangeError
+        A colour outside :func:`index_range` (named with the range), or not finite.
+
+    References
+    ----------
+    [BessellMurphy2012], [Riello2021] (synthetic photometry); [Ballesteros2012] eq. 14;
+    [Mucciarelli2021] eq. 1.
+
+    Examples
+    --------
+    The Sun's B-V, 0.653 ([Ramirez2012]): the relation gives about its Teff, 5772 K
+    ([IAU2015B3]); the synthetic model, the blackbody of the same colour, within 1 % of it:
+
+    >>> abs(float(temperature_from_index(0.653, "B-V", "relation")) / 5772.0 - 1) < 0.01
+    True
+    >>> abs(float(temperature_from_index(0.653, "B-V")) / 5772.0 - 1) < 0.01
+    True
+    """
+    from starkiln.engine.colour.photometry import check_index, temperature_from_colour_index
+
+    index, model = check_index(index), check_index_model(model)
+    if model == "relation":
+        if index == "B-V":
+            return temperature_from_bv(value)
+        from starkiln.engine.stars.gaia import temperature_from_bp_rp
+
+        return temperature_from_bp_rp(value, extrapolate=extrapolate)
+    v = np.asarray(value, dtype=np.float64)
+    lo, hi = index_range(index, model)
+    with np.errstate(invalid="ignore"):
+        bad = ~np.isfinite(v) | (v < lo) | (v > hi)
+    if np.any(bad):
+        x = v[bad].flat[0] if v.ndim else float(v)
+        raise InputRangeError(f"{index} {x:g} is outside the accepted range {lo:g} to {hi:.2f} "
+                              f"(synthetic model: blackbodies of 500-100 000 K)")
+    return temperature_from_colour_index(v, index, clamp_blue=True)
+
+
+def _class_position(text: str) -> float:
+    """The validated position of a main-sequence class on the O0 = 0, B0 = 10 ... scale."""
+    m = _CLASS_RE.match(str(text))
+    if not m:
+        raise InputRangeError(f"spectral class {text!r} not understood; accepted: O5V to M8V, "
+                              "e.g. G2V, K5.5V, B3")
+    letter, sub, lum = m.group(1).upper(), float(m.group(2)), (m.group(3) or "V").upper()
+    if lum != "V":
+        raise InputRangeError(f"spectral class {text!r}: luminosity class {lum} is not supported; "
+                              "accepted: main-sequence (V) classes O5V to M8V")
+    code = 10.0 * _LETTERS.index(letter) + sub
+    if not _NODE_CODES[0] <= code <= _NODE_CODES[-1] or sub >= 10.0:
+        raise InputRangeError(f"spectral class {text!r} is outside the table; accepted: O5V to M8V")
+    return code
+
+
 def temperature_from_spectral_class(text: str) -> float:
     """Effective temperature of a main-sequence spectral class such as ``G2V`` or ``K5.5``.
 
@@ -126,15 +317,58 @@ def temperature_from_spectral_class(text: str) -> float:
     >>> temperature_from_spectral_class("G2V")
     5770.0
     """
-    m = _CLASS_RE.match(str(text))
-    if not m:
-        raise InputRangeError(f"spectral class {text!r} not understood; accepted: O5V to M8V, "
-                              "e.g. G2V, K5.5V, B3")
-    letter, sub, lum = m.group(1).upper(), float(m.group(2)), (m.group(3) or "V").upper()
-    if lum != "V":
-        raise InputRangeError(f"spectral class {text!r}: luminosity class {lum} is not supported; "
-                              "accepted: main-sequence (V) classes O5V to M8V")
-    code = 10.0 * _LETTERS.index(letter) + sub
-    if not _NODE_CODES[0] <= code <= _NODE_CODES[-1] or sub >= 10.0:
-        raise InputRangeError(f"spectral class {text!r} is outside the table; accepted: O5V to M8V")
-    return float(np.interp(code, _NODE_CODES, _NODE_TEFF))
+    return float(np.interp(_class_position(text), _NODE_CODES, _NODE_TEFF))
+
+
+def spectral_class_bv(text: str) -> float:
+    """Mean intrinsic Johnson B-V of a main-sequence spectral class (``G2V``, ``K5.5`` ...).
+
+    Decimal subclasses interpolate linearly between the tabulated neighbours.
+
+    References
+    ----------
+    [Mamajek2018] (column B-V; the dwarf sequence of [PecautMamajek2013] Table 5).
+
+    Examples
+    --------
+    The table lists B-V = 0.650 for G2V and 0.000 for A0V:
+
+    >>> spectral_class_bv("G2V"), spectral_class_bv("A0")
+    (0.65, 0.0)
+    """
+    return float(np.interp(_class_position(text), _BV_NODE_CODES, _BV_NODE_VALUES))
+
+
+def temperature_for_spectral_class(text: str, model: str = DEFAULT_INDEX_MODEL) -> float:
+    """The temperature to render for a main-sequence spectral class, by the chosen model.
+
+    Parameters
+    ----------
+    text : str
+        ``G2V``, ``K5.5``, ``B3`` ... (O5V-M8V).
+    model : {"synthetic", "relation"}
+        ``synthetic`` (default): the blackbody of the class's mean intrinsic B-V
+        (:func:`spectral_class_bv`); ``relation``: the class's effective temperature
+        (:func:`temperature_from_spectral_class`).
+
+    Returns
+    -------
+    float
+        Kelvin.
+
+    References
+    ----------
+    [Mamajek2018] (B-V), [Mamajek2024] (Teff); [BessellMurphy2012] (synthetic photometry).
+
+    Examples
+    --------
+    A0V has B-V = 0 like Vega, so its colour-matched blackbody is far hotter than its Teff
+    of 9700 K ([Mamajek2024]): the Balmer jump makes A stars bluer than blackbodies of
+    their temperature (common practice):
+
+    >>> temperature_for_spectral_class("A0V") > 1.2 * temperature_from_spectral_class("A0V")
+    True
+    """
+    if check_index_model(model) == "relation":
+        return temperature_from_spectral_class(text)
+    return float(temperature_from_index(spectral_class_bv(text), "B-V", "synthetic"))
