@@ -9,7 +9,8 @@ from __future__ import annotations
 from starkiln.cli.options import add_colour_options, number, settings_from_args
 from starkiln.engine.errors import StarkilnError
 
-PROJECTIONS = ("equirect", "fisheye")
+PROJECTIONS = ("equirect", "fisheye", "cube")
+EXR_TYPES = ("half", "float")
 
 
 def add_parsers(sub) -> None:
@@ -35,9 +36,13 @@ def add_parsers(sub) -> None:
     c.add_argument("--magnitude-band", metavar="V|G", default="V", help="V (default) or G")
     g = p.add_argument_group("plate")
     g.add_argument("--projection", default="equirect", metavar="|".join(PROJECTIONS),
-                   help="equirect (whole sphere, 2:1; default) or fisheye (equidistant dome)")
+                   help="equirect (whole sphere, 2:1; default), fisheye (equidistant dome) or "
+                        "cube (six gnomonic faces in one 4x3 cross image)")
     g.add_argument("--size", metavar="W[xH]", default="4096",
-                   help="pixels: the width (height W/2 for equirect, W for fisheye) or WxH")
+                   help="pixels: the width (height W/2 for equirect, W for fisheye), the face "
+                        "side for cube, or WxH")
+    g.add_argument("--exr-type", metavar="|".join(EXR_TYPES),
+                   help="EXR channels: float (32-bit; default) or half (16-bit)")
     g.add_argument("--fov", type=number, default=180.0, metavar="DEG",
                    help="fisheye field of view, 1-360 degrees (default 180)")
     g.add_argument("--tilt", type=number, default=0.0, metavar="DEG", help="dome tilt, degrees")
@@ -87,7 +92,7 @@ def cmd_plate(args, out) -> int:
 
     from starkiln.cli.catalogue import plan_from_args
     from starkiln.engine.atomic import atomic_path, check_writable
-    from starkiln.engine.plates import frames
+    from starkiln.engine.plates import frames, plate_files
     from starkiln.engine.plates.plate_files import check_plate_memory, plate_metadata
 
     if args.settings_from:
@@ -109,6 +114,13 @@ def cmd_plate(args, out) -> int:
     ext = str(args.output).lower().rsplit(".", 1)[-1]
     if ext not in ("png", "exr"):
         raise StarkilnError(f"{args.output}: unknown image type; accepted: .png, .exr")
+    exr_type = None if args.exr_type is None else str(args.exr_type).strip().lower()
+    if exr_type is not None and exr_type not in EXR_TYPES:
+        raise StarkilnError(f"--exr-type {args.exr_type!r} unknown; accepted: half, float")
+    if exr_type is not None and ext != "exr":
+        raise StarkilnError(f"--exr-type {args.exr_type} applies to .exr files; {args.output} "
+                            "is a 16-bit .png")
+    exr_type = exr_type or "float"
     frame_name = str(args.frame).strip().lower()
     if frame_name not in frames.FRAMES:
         raise StarkilnError(f"--frame {args.frame!r} unknown; accepted: equatorial, horizon")
@@ -124,7 +136,14 @@ def cmd_plate(args, out) -> int:
     if below not in frames.BELOW_HORIZON:
         raise StarkilnError(f"--below-horizon {args.below_horizon!r} unknown; accepted: drop, keep")
     width, height = _size(args.size, projection)
-    check_plate_memory(width, height)
+    cube = projection == "cube"
+    if cube:
+        from starkiln.engine.plates.plate_files import plate_bytes
+
+        check_plate_memory(width, height, faces=6,
+                           extra_bytes=plate_bytes(4 * width, 3 * height))
+    else:
+        check_plate_memory(width, height)
     centre = _pair(args.centre, "--centre") if args.centre else (0.0, 90.0)
     check_writable(args.output, args.force)
     settings = settings_from_args(args)
@@ -152,7 +171,7 @@ def cmd_plate(args, out) -> int:
     sys.stderr.write(f"starkiln: {line}\n")
     frame_kw = {} if site is None else dict(site=site, time=moment, refraction=args.refraction,
                                             below_horizon=below)
-    image = np.zeros((height, width, 3), dtype=np.float32)
+    image = np.zeros(((6,) if cube else ()) + (height, width, 3), dtype=np.float32)
     counts = {}
     names = list(dict.fromkeys([ra_col, dec_col, *plan.input_columns]))
     for _, chunk in plate_chunks(args.input, plan, names):
@@ -167,9 +186,14 @@ def cmd_plate(args, out) -> int:
                           columns={"ra": ra_col, "dec": dec_col, "source": plan.source,
                                    "source_column": plan.source_column,
                                    "magnitude": plan.magnitude_column},
-                          output_type="png16" if ext == "png" else "exr-float")
-    _write(args.output, image, meta, args.force, atomic_path)
-    out.write(f"{counts.get('drawn', 0):,} stars -> {args.output} ({width} x {height}, "
+                          output_type="png16" if ext == "png" else f"exr-{exr_type}",
+                          layout=None if not cube else plate_files.CROSS_LAYOUT)
+    if cube:
+        image = plate_files.cube_cross(image)
+    _write(args.output, image, meta, args.force, atomic_path, exr_type)
+    size = f"6 faces of {width} x {height} in a {4 * width} x {3 * height} cross" if cube \
+        else f"{width} x {height}"
+    out.write(f"{counts.get('drawn', 0):,} stars -> {args.output} ({size}, "
               f"{projection}, {values})\n")
     for k, v in sorted(counts.items()):
         if k != "drawn" and v:
@@ -196,6 +220,9 @@ def _apply_old_plate(args):
     args.refraction = bool(frame.get("refraction", False))
     args.below_horizon = frame.get("below_horizon", "drop")
     args.psf_px, args.values = old["psf_sigma_px"], old["values"]
+    if args.exr_type is None and str(args.output).lower().endswith(".exr") \
+            and old["output"] in ("exr-half", "exr-float"):
+        args.exr_type = old["output"][4:]
     cols = old["columns"]
     args.ra_column, args.dec_column = cols.get("ra"), cols.get("dec")
     source_option = {"temperature": "temperature_column", "bv": "bv_column",
@@ -209,7 +236,7 @@ def _apply_old_plate(args):
     args.old_settings = old["settings"]
 
 
-def _write(path, image, meta, overwrite, atomic_path):
+def _write(path, image, meta, overwrite, atomic_path, exr_type="float"):
     import numpy as np
 
     from starkiln.engine.exports.image_files import write_exr, write_png
@@ -221,7 +248,7 @@ def _write(path, image, meta, overwrite, atomic_path):
             q = np.floor(np.clip(image, 0.0, 1.0) * 65535.0 + 0.5).astype(np.uint16)
             write_png(tmp, q, {"starkiln": text})
         else:
-            write_exr(tmp, image, {"starkiln": text})
+            write_exr(tmp, image, {"starkiln": text}, pixel_type=exr_type)
 
 
 COMMANDS = {"plate": cmd_plate}
