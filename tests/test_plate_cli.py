@@ -94,7 +94,7 @@ def test_bad_cube_and_exr_options_exit_2(tmp_path, capsys, extra, word):
 
 
 def test_half_exr_round_trips_through_openexr(tmp_path):
-    # OpenEXR HALF channels hold IEEE 754 binary16: the half file read back is the float
+    # [OpenEXR] HALF channels hold [IEEE754] binary16: the half file read back is the float
     # file's samples rounded to half (numpy's float16 conversion, round to nearest even)
     from starkiln.engine.exports.image_files import read_embedded_json
 

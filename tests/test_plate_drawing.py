@@ -184,6 +184,7 @@ def test_cube_footprints_spill_over_edges_keeping_flux(dtype, sigma):
 def _side_face_wcs(lon_deg, size):
     # a cube side face is a gnomonic (TAN) view, east left, pole up, 90 degrees across:
     # Calabretta & Greisen 2002 section 5.1.3, intermediate x = (180/pi) tan, via astropy.wcs
+    # [Astropy2022] (WCSLIB)
     from astropy.wcs import WCS
 
     w = WCS(naxis=2)

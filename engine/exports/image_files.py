@@ -374,7 +374,7 @@ def write_exr(path, array: np.ndarray, attributes: dict[str, str] | None = None,
     ----------
     [OpenEXR] technical introduction ("chromaticities" attribute; data window, y
     down; HALF and FLOAT pixel types); OpenEXR Python bindings 3.x
-    (``OpenEXR.File(header, channels)``, a float16 array is stored as HALF); IEEE 754-2008
+    (``OpenEXR.File(header, channels)``, a float16 array is stored as HALF); [IEEE754]
     binary16 (largest finite value 65504).
     """
     import OpenEXR
