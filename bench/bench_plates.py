@@ -9,7 +9,10 @@ Prints measured figures beside the goals, with ratios, in one run:
 - the slope in stars (s per million between 1 M and 10 M) and in pixels (the same 1 M stars on
   a plate of a quarter of the pixels);
 - side by side, a plain per-star loop (each star its own small numpy slice, the same
-  pixel-integrated Gaussian), timed on a sample and scaled: goal >= 50x.
+  pixel-integrated Gaussian), timed on a sample and scaled: goal >= 50x. The drawing runs its
+  chunks on two threads (``drawing.THREADS``); the 1 M plate is also timed on one thread, so
+  the ratio can be read either way (the loop is one thread);
+- 1 M stars on a cube of six 2048^2 faces (footprints spilling over the edges), no goal.
 
 The stars are invented (uniform on the sphere, random colours), not catalogue rows.
 
@@ -59,6 +62,30 @@ def draw_equirect(n_stars, height, seed=1):
         deposit(image, x[inside], y[inside], values[inside], SIGMA_PX, wrap_x=True)
         t += time.perf_counter() - t0
     return t, image
+
+
+def draw_equirect_threads(n_stars, height, threads):
+    """:func:`draw_equirect` with the drawing on ``threads`` threads."""
+    from starkiln.engine.plates import drawing
+    before = drawing.THREADS
+    drawing.THREADS = threads
+    try:
+        return draw_equirect(n_stars, height)
+    finally:
+        drawing.THREADS = before
+
+
+def draw_cube(n_stars, size, seed=4):
+    """Seconds to draw ``n_stars`` onto six ``size``^2 float32 cube faces."""
+    from starkiln.engine.plates.drawing import deposit
+    from starkiln.engine.plates.projection import PlateSpec, project
+    spec = PlateSpec("cube", size, size)
+    image = np.zeros((6, size, size, 3), np.float32)
+    lon, lat, values = _stars(np.random.default_rng(seed), n_stars)
+    t0 = time.perf_counter()
+    x, y, face, _ = project(lon, lat, spec)
+    deposit(image, x, y, values, SIGMA_PX, face=face)
+    return time.perf_counter() - t0
 
 
 def draw_fisheye(n_stars, size, seed=2):
@@ -119,6 +146,8 @@ def main():
     t_fish, n_in = draw_fisheye(120_000, 4096)
     t_1m, _ = draw_equirect(1_000_000, 4096)
     t_1m_small, _ = draw_equirect(1_000_000, 2048)
+    t_1m_one, _ = draw_equirect_threads(1_000_000, 4096, 1)
+    t_cube = draw_cube(1_000_000, 2048)
     out = subprocess.run([sys.executable, __file__, "--child", str(args.big_stars)],
                          check=True, capture_output=True, text=True).stdout.split()
     t_big, rss_mb = float(out[0]), float(out[1])
@@ -131,6 +160,8 @@ def main():
     print(f"{'fisheye 4096^2, 120 000 stars (%d inside), s' % n_in:<52}{t_fish:>12.3f}"
           f"{GOAL_FISHEYE_S:>10.3g}{GOAL_FISHEYE_S / t_fish:>8.2f}")
     print(f"{'equirect 8192x4096, 1 M stars, s':<52}{t_1m:>12.3f}")
+    print(f"{'equirect 8192x4096, 1 M stars, one thread, s':<52}{t_1m_one:>12.3f}")
+    print(f"{'cube 6 x 2048^2, 1 M stars, s':<52}{t_cube:>12.3f}")
     print(f"{'equirect 8192x4096, %d stars, s' % args.big_stars:<52}{t_big:>12.3f}"
           f"{GOAL_BIG_S:>10.3g}{GOAL_BIG_S / t_big:>8.2f}")
     print(f"{'peak resident memory of that run, MB':<52}{rss_mb:>12.0f}{GOAL_RSS_MB:>10.0f}"
@@ -139,6 +170,8 @@ def main():
     print(f"{'slope in pixels (1 M stars), s per megapixel':<52}{slope_pixels:>12.4f}")
     print(f"{'per-star loop, 1 M stars (scaled from %d), s' % args.sample:<52}{t_loop_1m:>12.1f}"
           f"{'':>10}{t_loop_1m / t_1m:>8.1f}x")
+    print(f"{'  the same against the one-thread drawing':<52}{'':>12}{'':>10}"
+          f"{t_loop_1m / t_1m_one:>8.1f}x")
     for name, goal, value, unit, ref, ref_label, ratio, sense in (
             ("plate_fisheye_120k", "120 000 stars into a 4096 x 4096 fisheye", t_fish, "s",
              GOAL_FISHEYE_S, "goal", GOAL_FISHEYE_S / t_fish, "x under the goal"),
@@ -152,8 +185,13 @@ def main():
              None, None, None, None),
             ("plate_slope_pixels", "time per megapixel of plate (1 M stars)", slope_pixels, "s",
              None, None, None, None),
+            ("plate_cube_1m", "1 M stars onto six 2048 x 2048 cube faces", t_cube, "s",
+             None, None, None, None),
             ("plate_vs_loop", "1 M stars equirect against a per-star loop", t_1m, "s",
-             t_loop_1m, "per-star loop, scaled from a sample", t_loop_1m / t_1m, "x faster")):
+             t_loop_1m, "per-star loop, scaled from a sample", t_loop_1m / t_1m, "x faster"),
+            ("plate_vs_loop_one_thread", "1 M stars equirect, drawing on one thread, against "
+             "a per-star loop", t_1m_one, "s", t_loop_1m, "per-star loop, scaled from a sample",
+             t_loop_1m / t_1m_one, "x faster")):
         line = f'RESULT name={name} goal="{goal}" value={value:.4g} unit={unit}'
         if ref is not None:
             line += (f' reference={ref:.4g} reference_label="{ref_label}" ratio={ratio:.4g} '

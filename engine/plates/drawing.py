@@ -86,13 +86,17 @@ def footprint_half_width(sigma_px) -> np.ndarray:
 def _axis_weights(pos, sigma, k, wtype=np.float64):
     """Start pixel ``(n,)`` and normalised pixel-integrated Gaussian weights ``(n, 2k + 1)``.
 
-    The erf is evaluated in ``wtype`` (float32 for a float32 image: half the work); the
-    weights are renormalised over the footprint, so they sum to 1 in that precision.
+    The pixel edges relative to the star are ``j - k - frac`` (``frac`` the sub-pixel part,
+    exact in float64); the arrays are in ``wtype`` (float32 for a float32 image: half the
+    memory traffic). The weights are renormalised over the footprint, so they sum to 1 in that
+    precision.
     """
-    start = np.floor(pos).astype(np.int64) - k
-    edges = start[:, None] + np.arange(2 * k + 2)
-    scaled = (edges - pos[:, None]) / (sigma[:, None] * _SQRT2)
-    cdf = erf(scaled.astype(wtype, copy=False))
+    base = np.floor(pos)
+    start = base.astype(np.int64) - k
+    frac = (pos - base).astype(wtype)
+    inv = (1.0 / (sigma * _SQRT2)).astype(wtype)
+    offsets = np.arange(-k, k + 2, dtype=wtype)
+    cdf = erf((offsets - frac[:, None]) * inv[:, None])
     w = np.diff(cdf, axis=1)
     w /= cdf[:, -1:] - cdf[:, :1]
     return start, w
@@ -320,7 +324,7 @@ def _add_at(plane, index, weight, vals):
 def kept_fraction(x_px, y_px, sigma_px, width_px, height_px) -> np.ndarray:
     """Fraction of each star's (footprint-normalised) flux that lands on a ``W x H`` image.
 
-    What :func:`deposit` keeps without ``wrap_x`` or ``valid`` (cube faces, clipped edges);
+    What :func:`deposit` keeps on a plain image (no ``wrap_x``, ``valid`` or ``face``);
     ``1 - kept_fraction`` is the lost part to report.
 
     Parameters
