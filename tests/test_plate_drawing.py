@@ -83,13 +83,16 @@ def test_vectorised_equals_stars_one_at_a_time():
     np.testing.assert_allclose(together, single, rtol=1e-12, atol=1e-15)
 
 
+@pytest.mark.parametrize("dtype", [np.float64, np.float32])
 @pytest.mark.parametrize("x, y", [(0.1, 50.0), (255.95, 70.3), (128.0, 0.2), (3.0, 127.9),
                                   (255.99, 0.01)])
-def test_equirect_seam_and_poles_keep_flux(x, y):
-    # across the CAR seam the footprint wraps; over a pole it folds half-way round
+def test_equirect_seam_and_poles_keep_flux(x, y, dtype):
+    # across the CAR seam the footprint wraps; over a pole it folds half-way round; a float32
+    # plate (weights and sums in float32) keeps the flux within 1e-6 too
     value = [2.0, 1.0, 0.5]
-    image = _one((128, 256, 3), x, y, value, 0.9, wrap_x=True)
-    np.testing.assert_allclose(image.reshape(-1, 3).sum(axis=0), value, rtol=1e-6)
+    image = np.zeros((128, 256, 3), dtype)
+    deposit(image, [x], [y], np.asarray([value], dtype), 0.9, wrap_x=True)
+    np.testing.assert_allclose(image.reshape(-1, 3).sum(axis=0, dtype=float), value, rtol=1e-6)
     if x < 1 or x > 255:
         assert image[:, :2].sum() > 0 and image[:, -2:].sum() > 0      # both sides of the seam
     if y < 1:
@@ -113,10 +116,12 @@ def test_fisheye_rim_keeps_flux_inside_the_circle():
     x, y, _, inside = project(lon, lat, spec)
     assert inside.all()
     for i in range(lon.size):
-        image = np.zeros((128, 128, 3))
-        deposit(image, x[i:i + 1], y[i:i + 1], [[1.0, 2.0, 3.0]], 1.2, valid=valid)
-        np.testing.assert_allclose(image.reshape(-1, 3).sum(axis=0), [1, 2, 3], rtol=1e-6)
-        assert image[~valid].sum() == 0.0                             # black outside
+        for dtype in (np.float64, np.float32):
+            image = np.zeros((128, 128, 3), dtype)
+            deposit(image, x[i:i + 1], y[i:i + 1], [[1.0, 2.0, 3.0]], 1.2, valid=valid)
+            np.testing.assert_allclose(image.reshape(-1, 3).sum(axis=0, dtype=float), [1, 2, 3],
+                                       rtol=1e-6)
+            assert image[~valid].sum() == 0.0                         # black outside
     # without the mask, part of a star on the diagonal rim lands outside the circle
     x, y, _, _ = project([45.0], [0.1], spec)
     image = np.zeros((128, 128, 1))
@@ -239,3 +244,29 @@ def test_bad_input_is_one_line(bad):
     with pytest.raises(InputRangeError) as info:
         deposit(**args)
     assert "\n" not in str(info.value)
+
+
+@pytest.mark.parametrize("chunk, threads", [(1 << 17, 1), (7, 2), (2, 2)])
+def test_chunks_bands_and_threads_give_the_reference_image(monkeypatch, chunk, threads):
+    # However the stars are cut into chunks and bands (sparse product or numpy.add.at) and on
+    # however many threads, the image is the sum of the renormalised pixel integrals from
+    # scipy.stats.norm.cdf, star by star (columns wrapped at the seam)
+    from starkiln.engine.plates import drawing
+
+    monkeypatch.setattr(drawing, "CHUNK_STARS", chunk)
+    monkeypatch.setattr(drawing, "THREADS", threads)
+    h, w, sigma, n = 64, 128, 0.8, 200
+    x, y = RNG.uniform(0, w, n), RNG.uniform(5, h - 5, n)
+    values = RNG.uniform(0, 1, (n, 3))
+    image = np.zeros((h, w, 3))
+    deposit(image, x, y, values, sigma, wrap_x=True)
+    expected = np.zeros((h, w, 3))
+    k = int(footprint_half_width(sigma))
+    for xi, yi, v in zip(x, y, values):
+        cols = np.arange(int(xi) - k, int(xi) + k + 1)
+        rows = np.arange(int(yi) - k, int(yi) + k + 1)
+        px = stats.norm.cdf(cols + 1, xi, sigma) - stats.norm.cdf(cols, xi, sigma)
+        py = stats.norm.cdf(rows + 1, yi, sigma) - stats.norm.cdf(rows, yi, sigma)
+        patch = np.outer(py / py.sum(), px / px.sum())
+        expected[rows[:, None], np.mod(cols, w)[None, :]] += patch[:, :, None] * v
+    np.testing.assert_allclose(image, expected, rtol=1e-9, atol=1e-14)

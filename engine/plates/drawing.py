@@ -60,7 +60,8 @@ from starkiln.engine.errors import InputRangeError
 
 #: Half-width of a footprint in sigmas (the footprint covers at least this on every side).
 FOOTPRINT_SIGMAS = 4.0
-#: Stars per chunk (bounds the temporary arrays to about 60 MB for a 7 x 7 footprint).
+#: Stars per chunk for a 7 x 7 footprint (the temporary arrays about 60 MB); wider footprints
+#: take proportionally fewer stars a chunk, so the memory stays bounded for any sigma.
 CHUNK_STARS = 1 << 17
 #: Worker threads for the chunks (numpy and scipy.sparse release the GIL in their loops).
 THREADS = max(1, min(2, os.cpu_count() or 1))
@@ -198,7 +199,8 @@ def deposit(image, x_px, y_px, values, sigma_px, wrap_x=False, face=None, *, val
         key = (row * (65535.0 / rows_total)).astype(np.uint16)
         members = members[np.argsort(key, kind="stable")]
         k = int(k_all[members[0]])
-        tasks += [(members[lo:lo + CHUNK_STARS], k) for lo in range(0, members.size, CHUNK_STARS)]
+        step = max(1, CHUNK_STARS * 49 // (2 * k + 1) ** 2)
+        tasks += [(members[lo:lo + step], k) for lo in range(0, members.size, step)]
     lock = threading.Lock()
 
     def run(task):
