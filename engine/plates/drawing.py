@@ -234,11 +234,14 @@ def _deposit_chunk(plane, g, x, y, vals, sigma, f, k, wtype, valid_flat, lock):
     rows = row0[:, None] + np.arange(side)
     folded = spill = None
     if g.wrap_x:
-        over_top, over_bottom = rows < 0, rows >= g.height
-        folded = over_top | over_bottom
-        rows = np.where(over_top, -1 - rows, np.where(over_bottom, 2 * g.height - 1 - rows, rows))
-        rows = rows.clip(0, g.height - 1)                # a footprint taller than the image
-        cols = np.mod(cols, g.width)
+        if rows.min() < 0 or rows.max() >= g.height:     # some footprints reach over a pole
+            over_top, over_bottom = rows < 0, rows >= g.height
+            folded = over_top | over_bottom
+            rows = np.where(over_top, -1 - rows,
+                            np.where(over_bottom, 2 * g.height - 1 - rows, rows))
+            rows = rows.clip(0, g.height - 1)            # a footprint taller than the image
+        if cols.min() < 0 or cols.max() >= g.width:      # some footprints cross the seam
+            cols = np.mod(cols, g.width)
     else:
         off_c = (cols < 0) | (cols >= g.width)
         off_r = (rows < 0) | (rows >= g.height)
