@@ -246,15 +246,22 @@ def test_bad_input_is_one_line(bad):
     assert "\n" not in str(info.value)
 
 
+@pytest.mark.parametrize("in_place", [True, False])
 @pytest.mark.parametrize("chunk, threads", [(1 << 17, 1), (7, 2), (2, 2)])
-def test_chunks_bands_and_threads_give_the_reference_image(monkeypatch, chunk, threads):
-    # However the stars are cut into chunks and bands (sparse product or numpy.add.at) and on
-    # however many threads, the image is the sum of the renormalised pixel integrals from
-    # scipy.stats.norm.cdf, star by star (columns wrapped at the seam)
+def test_chunks_bands_and_threads_give_the_reference_image(monkeypatch, chunk, threads,
+                                                           in_place):
+    # However the stars are cut into chunks and bands (summed in place, through the public
+    # sparse product, or by numpy.add.at) and on however many threads, the image is the sum
+    # of the renormalised pixel integrals from scipy.stats.norm.cdf, star by star (columns
+    # wrapped at the seam)
     from starkiln.engine.plates import drawing
 
     monkeypatch.setattr(drawing, "CHUNK_STARS", chunk)
     monkeypatch.setattr(drawing, "THREADS", threads)
+    if not in_place:
+        monkeypatch.setattr(drawing, "_IN_PLACE", None)
+    else:
+        assert drawing._IN_PLACE is not None
     h, w, sigma, n = 64, 128, 0.8, 200
     x, y = RNG.uniform(0, w, n), RNG.uniform(5, h - 5, n)
     values = RNG.uniform(0, 1, (n, 3))

@@ -37,13 +37,15 @@ Speed
 There is no per-star Python loop. Stars are grouped by footprint size and, with a radix sort
 on a 16-bit row key, into bands of rows; a chunk of stars becomes a sparse matrix with one
 column per star and one row per pixel of the band its footprints touch (CSC: the column of a
-star is its ``(2k + 1)^2`` weights, built directly, no sorting of pixels), and
-``matrix @ values`` (``scipy.sparse``, compiled) sums all footprints of the chunk for all
-channels at once into a dense band that is added to the image. A chunk touching few pixels of
-a wide band (few stars on a large image) is added with ``numpy.add.at`` instead. The weights
-and the sums are in the image's precision (float32 for a float32 plate: a footprint's sum is
-still its value within about 1e-7 relative). Memory: the image, the band and about 200 bytes
-a star of the chunk.
+star is its ``(2k + 1)^2`` weights, built directly, no sorting of pixels), and the compiled
+CSC product of ``scipy.sparse`` sums all footprints of the chunk, all channels at once,
+straight into the image rows of the band (the loop behind ``csc_array @ ndarray``, which
+adds into its output). Where that loop is not importable the public ``matrix @ values``
+fills a dense band that is then added to the image (or, for few stars on a wide band,
+``numpy.add.at``); the sums are the same. Chunks run on two threads (the compiled loops
+release the GIL), the sums into the image under a lock. The weights and the sums are in the
+image's precision (float32 for a float32 plate: a footprint's sum is still its value within
+about 1e-7 relative). Memory: the image and about 250 bytes a star of the chunks in flight.
 """
 
 from __future__ import annotations
@@ -63,6 +65,14 @@ FOOTPRINT_SIGMAS = 4.0
 #: Stars per chunk for a 7 x 7 footprint (the temporary arrays about 60 MB); wider footprints
 #: take proportionally fewer stars a chunk, so the memory stays bounded for any sigma.
 CHUNK_STARS = 1 << 17
+#: ``Y += A X`` for a CSC matrix ``A`` and dense row-major ``X``, ``Y``: the compiled loop behind
+#: ``scipy.sparse``'s ``csc_array @ ndarray`` (scipy.sparse._sparsetools.csc_matvecs), used
+#: to sum a chunk straight into the image. It is not public API, so if it is missing the
+#: public product into a band (then added to the image) is used; both give the same sums.
+try:
+    from scipy.sparse._sparsetools import csc_matvecs as _IN_PLACE
+except ImportError:                                     # pragma: no cover - other scipy
+    _IN_PLACE = None
 #: Worker threads for the chunks (numpy and scipy.sparse release the GIL in their loops).
 THREADS = max(1, min(2, os.cpu_count() or 1))
 _SQRT2 = np.sqrt(2.0)
@@ -282,15 +292,24 @@ def _deposit_chunk(plane, g, x, y, vals, sigma, f, k, wtype, valid_flat, lock):
         weight = weight * valid_flat[p0:p1][index]
         total = weight.sum(axis=1, keepdims=True)
         weight = np.divide(weight, total, out=np.zeros_like(weight), where=total > 0)
+    per_star = index.shape[1]
+    indptr = np.arange(0, n * per_star + 1, per_star, dtype=itype)
+    weight = np.ascontiguousarray(weight.reshape(-1), dtype=vals.dtype)
+    index = index.reshape(-1)
+    if _IN_PLACE is not None and plane.dtype == vals.dtype:
+        # the same product, summed straight into the image rows (no band to allocate)
+        target = plane[p0:p1].reshape(-1)
+        with lock:
+            _IN_PLACE(p1 - p0, n, plane.shape[1], indptr, index, weight,
+                      np.ascontiguousarray(vals).reshape(-1), target)
+        return
     if p1 - p0 > 8 * index.size:
         # few stars on a wide band: scatter them one by one in compiled code
         with lock:
-            _add_at(plane, index.astype(np.intp) + p0, weight, vals)
+            _add_at(plane, index.reshape(n, -1).astype(np.intp) + p0,
+                    weight.reshape(n, -1), vals)
         return
-    per_star = index.shape[1]
-    matrix = sparse.csc_array((weight.reshape(-1), index.reshape(-1),
-                               np.arange(0, n * per_star + 1, per_star, dtype=itype)),
-                              shape=(p1 - p0, n))
+    matrix = sparse.csc_array((weight, index, indptr), shape=(p1 - p0, n))
     band = matrix @ vals
     with lock:
         plane[p0:p1] += band
