@@ -52,6 +52,7 @@ from __future__ import annotations
 
 import os
 import threading
+from functools import lru_cache
 from concurrent.futures import ThreadPoolExecutor
 
 import numpy as np
@@ -100,17 +101,44 @@ def _axis_weights(pos, sigma, k, wtype=np.float64):
     The pixel edges relative to the star are ``j - k - frac`` (``frac`` the sub-pixel part,
     exact in float64); the arrays are in ``wtype`` (float32 for a float32 image: half the
     memory traffic). The weights are renormalised over the footprint, so they sum to 1 in that
-    precision.
+    precision. For a float32 image with one sigma for the chunk, the erf at the edges comes
+    from :func:`_erf_table` (linear interpolation in ``frac``, within 1e-8 of erf: below
+    float32's own rounding of erf's values, 6e-8); otherwise scipy's erf is called directly.
     """
     base = np.floor(pos)
     start = base.astype(np.int64) - k
     frac = (pos - base).astype(wtype)
-    inv = (1.0 / (sigma * _SQRT2)).astype(wtype)
-    offsets = np.arange(-k, k + 2, dtype=wtype)
-    cdf = erf((offsets - frac[:, None]) * inv[:, None])
+    if wtype == np.float32 and sigma.size and sigma.min() == sigma.max():
+        nodes, table, slope = _erf_table(float(sigma.flat[0]), int(k))
+        u = frac * np.float32(nodes)
+        i = np.minimum(u.astype(np.intp), nodes - 1)
+        t = (u - i)[:, None]
+        cdf = table[i] + t * slope[i]
+    else:
+        inv = (1.0 / (sigma * _SQRT2)).astype(wtype)
+        offsets = np.arange(-k, k + 2, dtype=wtype)
+        cdf = erf((offsets - frac[:, None]) * inv[:, None])
     w = np.diff(cdf, axis=1)
     w /= cdf[:, -1:] - cdf[:, :1]
     return start, w
+
+
+@lru_cache(maxsize=32)
+def _erf_table(sigma_px, k):
+    """erf at the footprint's pixel edges as a function of the sub-pixel part ``frac``.
+
+    Returns ``(nodes, table, slope)``: for ``frac`` in ``[i, i + 1) / nodes``, edge ``j``'s
+    value is ``table[i, j] + (frac * nodes - i) * slope[i, j]`` (float32). Linear
+    interpolation is within ``h^2 / 8 max|f''|`` of the function (``h = 1 / nodes``; here
+    ``f'' = inv^2 erf''`` with ``max|erf''| = 2 sqrt(2 / pi) exp(-1/2) < 0.97``; Abramowitz &
+    Stegun 1964, 25.2.4 and 7.1.19), so ``nodes = 3500 inv`` keeps it within 1e-8.
+    """
+    inv = 1.0 / (sigma_px * _SQRT2)
+    nodes = max(256, int(np.ceil(3500.0 * inv)))
+    frac = np.arange(nodes + 1) / nodes
+    values = erf((np.arange(-k, k + 2)[None, :] - frac[:, None]) * inv)   # float64
+    return (nodes, values[:-1].astype(np.float32),
+            np.diff(values, axis=0).astype(np.float32))
 
 
 def _check(image, x_px, y_px, values, sigma_px, face):
