@@ -9,7 +9,12 @@ Prints measured figures beside the goals, with ratios, in one run:
 - the slope in stars (s per million between 1 M and 10 M) and in pixels (the same 1 M stars on
   a plate of a quarter of the pixels);
 - side by side, a plain per-star loop (each star its own small numpy slice, the same
-  pixel-integrated Gaussian), timed on a sample and scaled: goal >= 50x.
+  pixel-integrated Gaussian), timed on a sample and scaled: goal >= 50x. The drawing runs its
+  chunks on two threads (``drawing.THREADS``); the 1 M plate is also timed on one thread, so
+  the ratio can be read either way (the loop is one thread);
+- 1 M stars on a cube of six 2048^2 faces (footprints spilling over the edges), no goal;
+- allocating and zeroing the 8192 x 4096 plate, timed apart (page faults of a fresh 400 MB
+  array): the 1 M figures and the loop ratio are the drawing alone; the 10 M goal includes it.
 
 The stars are invented (uniform on the sphere, random colours), not catalogue rows.
 
@@ -22,6 +27,7 @@ from __future__ import annotations
 
 import argparse
 import math
+import os
 import resource
 import subprocess
 import sys
@@ -44,12 +50,28 @@ def _stars(rng, n):
     return lon, lat, values
 
 
-def draw_equirect(n_stars, height, seed=1):
-    """Seconds to draw ``n_stars`` into a 2h x h float32 plate, streamed in chunks."""
+def make_plate(shape):
+    """A zeroed float32 plate, its memory touched, and the seconds that took.
+
+    The first touch of a fresh large array costs page faults (about a second for the
+    400 MB 8192 x 4096 plate in a fresh process here): a cost of the plate's own size, paid
+    once per plate, timed here apart from the drawing so that the per-star loop (whose
+    sample touches few pages) is compared with the drawing alone."""
+    t0 = time.perf_counter()
+    image = np.zeros(shape, np.float32)
+    image[...] = 0.0
+    return image, time.perf_counter() - t0
+
+
+def draw_equirect(n_stars, height, seed=1, timings=None):
+    """Seconds to draw ``n_stars`` into a 2h x h float32 plate, streamed in chunks (the
+    plate's allocation not included: it goes to ``timings["alloc"]``)."""
     from starkiln.engine.plates.drawing import deposit
     from starkiln.engine.plates.projection import PlateSpec, project
     spec = PlateSpec("equirect", 2 * height, height)
-    image = np.zeros((height, 2 * height, 3), np.float32)
+    image, t_alloc = make_plate((height, 2 * height, 3))
+    if timings is not None:
+        timings["alloc"] = t_alloc
     rng = np.random.default_rng(seed)
     t = 0.0
     for lo in range(0, n_stars, CHUNK):
@@ -59,6 +81,30 @@ def draw_equirect(n_stars, height, seed=1):
         deposit(image, x[inside], y[inside], values[inside], SIGMA_PX, wrap_x=True)
         t += time.perf_counter() - t0
     return t, image
+
+
+def draw_equirect_threads(n_stars, height, threads):
+    """:func:`draw_equirect` with the drawing on ``threads`` threads."""
+    from starkiln.engine.plates import drawing
+    before = drawing.THREADS
+    drawing.THREADS = threads
+    try:
+        return draw_equirect(n_stars, height)
+    finally:
+        drawing.THREADS = before
+
+
+def draw_cube(n_stars, size, seed=4):
+    """Seconds to draw ``n_stars`` onto six ``size``^2 float32 cube faces."""
+    from starkiln.engine.plates.drawing import deposit
+    from starkiln.engine.plates.projection import PlateSpec, project
+    spec = PlateSpec("cube", size, size)
+    image, _ = make_plate((6, size, size, 3))
+    lon, lat, values = _stars(np.random.default_rng(seed), n_stars)
+    t0 = time.perf_counter()
+    x, y, face, _ = project(lon, lat, spec)
+    deposit(image, x, y, values, SIGMA_PX, face=face)
+    return time.perf_counter() - t0
 
 
 def draw_fisheye(n_stars, size, seed=2):
@@ -101,9 +147,14 @@ def per_star_loop(n_sample, height, seed=3):
 
 
 def _child(n_stars):
-    t, _ = draw_equirect(n_stars, 4096)
-    rss_mb = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024.0
-    print(f"{t} {rss_mb}")
+    before = resource.getrusage(resource.RUSAGE_SELF)
+    timings = {}
+    t, _ = draw_equirect(n_stars, 4096, timings=timings)
+    t += timings["alloc"]                       # the 10 M goal counts the plate's memory too
+    usage = resource.getrusage(resource.RUSAGE_SELF)
+    rss_mb = usage.ru_maxrss / 1024.0
+    cpu = (usage.ru_utime + usage.ru_stime) - (before.ru_utime + before.ru_stime)
+    print(f"{t} {rss_mb} {cpu} {timings['alloc']}")
 
 
 def main():
@@ -115,14 +166,19 @@ def main():
     if args.child:
         _child(args.child)
         return
+    load_start = os.getloadavg()[0]
     draw_fisheye(1000, 256)                                 # warm imports
+    draw_equirect(CHUNK, 256)          # start-up: the chunks' working memory, both threads
     t_fish, n_in = draw_fisheye(120_000, 4096)
-    t_1m, _ = draw_equirect(1_000_000, 4096)
+    timings = {}
+    t_1m, _ = draw_equirect(1_000_000, 4096, timings=timings)
     t_1m_small, _ = draw_equirect(1_000_000, 2048)
+    t_1m_one, _ = draw_equirect_threads(1_000_000, 4096, 1)
+    t_cube = draw_cube(1_000_000, 2048)
     out = subprocess.run([sys.executable, __file__, "--child", str(args.big_stars)],
                          check=True, capture_output=True, text=True).stdout.split()
-    t_big, rss_mb = float(out[0]), float(out[1])
-    slope_stars = (t_big - t_1m) / ((args.big_stars - 1_000_000) / 1e6)
+    t_big, rss_mb, cpu_big, alloc_big = (float(v) for v in out[:4])
+    slope_stars = (t_big - alloc_big - t_1m) / ((args.big_stars - 1_000_000) / 1e6)
     pixels_big, pixels_small = 8192 * 4096, 4096 * 2048
     slope_pixels = (t_1m - t_1m_small) / ((pixels_big - pixels_small) / 1e6)
     per_star = per_star_loop(args.sample, 4096)
@@ -130,30 +186,49 @@ def main():
     print(f"{'case':<52}{'measured':>12}{'goal':>10}{'ratio':>8}")
     print(f"{'fisheye 4096^2, 120 000 stars (%d inside), s' % n_in:<52}{t_fish:>12.3f}"
           f"{GOAL_FISHEYE_S:>10.3g}{GOAL_FISHEYE_S / t_fish:>8.2f}")
-    print(f"{'equirect 8192x4096, 1 M stars, s':<52}{t_1m:>12.3f}")
-    print(f"{'equirect 8192x4096, %d stars, s' % args.big_stars:<52}{t_big:>12.3f}"
+    print(f"{'allocating + zeroing the 8192x4096 plate, s':<52}{timings['alloc']:>12.3f}")
+    print(f"{'equirect 8192x4096, 1 M stars (plate made), s':<52}{t_1m:>12.3f}")
+    print(f"{'equirect 8192x4096, 1 M stars, one thread, s':<52}{t_1m_one:>12.3f}")
+    print(f"{'cube 6 x 2048^2, 1 M stars, s':<52}{t_cube:>12.3f}")
+    print(f"{'equirect 8192x4096, %d stars, plate incl., s' % args.big_stars:<52}{t_big:>12.3f}"
           f"{GOAL_BIG_S:>10.3g}{GOAL_BIG_S / t_big:>8.2f}")
+    print(f"{'  CPU time of that process (all threads), s':<52}{cpu_big:>12.3f}")
     print(f"{'peak resident memory of that run, MB':<52}{rss_mb:>12.0f}{GOAL_RSS_MB:>10.0f}"
           f"{GOAL_RSS_MB / rss_mb:>8.2f}")
     print(f"{'slope in stars, s per million':<52}{slope_stars:>12.3f}")
     print(f"{'slope in pixels (1 M stars), s per megapixel':<52}{slope_pixels:>12.4f}")
     print(f"{'per-star loop, 1 M stars (scaled from %d), s' % args.sample:<52}{t_loop_1m:>12.1f}"
           f"{'':>10}{t_loop_1m / t_1m:>8.1f}x")
+    print(f"{'  the same against the one-thread drawing':<52}{'':>12}{'':>10}"
+          f"{t_loop_1m / t_1m_one:>8.1f}x")
+    print(f"load average (1 min) at the start and the end: {load_start:.1f}, "
+          f"{os.getloadavg()[0]:.1f} on {os.cpu_count()} cores (others' work slows the wall "
+          "times; the CPU time less so)")
     for name, goal, value, unit, ref, ref_label, ratio, sense in (
             ("plate_fisheye_120k", "120 000 stars into a 4096 x 4096 fisheye", t_fish, "s",
              GOAL_FISHEYE_S, "goal", GOAL_FISHEYE_S / t_fish, "x under the goal"),
-            ("plate_equirect_1m", "1 M stars into an 8192 x 4096 equirect plate", t_1m, "s",
-             None, None, None, None),
-            ("plate_equirect_10m", "10 M stars into an 8192 x 4096 equirect plate", t_big, "s",
+            ("plate_alloc", "allocating and zeroing an 8192 x 4096 float32 RGB plate",
+             timings["alloc"], "s", None, None, None, None),
+            ("plate_equirect_1m", "1 M stars into an 8192 x 4096 equirect plate (plate made)",
+             t_1m, "s", None, None, None, None),
+            ("plate_equirect_10m", "10 M stars into an 8192 x 4096 equirect plate, making the "
+             "plate included", t_big, "s",
              GOAL_BIG_S, "goal", GOAL_BIG_S / t_big, "x under the goal"),
+            ("plate_equirect_10m_cpu", "CPU time of the 10 M star run (both threads)", cpu_big,
+             "s", None, None, None, None),
             ("plate_equirect_10m_rss", "peak memory, 10 M stars equirect", rss_mb, "MB",
              GOAL_RSS_MB, "goal", GOAL_RSS_MB / rss_mb, "x under the goal"),
             ("plate_slope_stars", "time per million stars (1 M to 10 M)", slope_stars, "s",
              None, None, None, None),
             ("plate_slope_pixels", "time per megapixel of plate (1 M stars)", slope_pixels, "s",
              None, None, None, None),
+            ("plate_cube_1m", "1 M stars onto six 2048 x 2048 cube faces", t_cube, "s",
+             None, None, None, None),
             ("plate_vs_loop", "1 M stars equirect against a per-star loop", t_1m, "s",
-             t_loop_1m, "per-star loop, scaled from a sample", t_loop_1m / t_1m, "x faster")):
+             t_loop_1m, "per-star loop, scaled from a sample", t_loop_1m / t_1m, "x faster"),
+            ("plate_vs_loop_one_thread", "1 M stars equirect, drawing on one thread, against "
+             "a per-star loop", t_1m_one, "s", t_loop_1m, "per-star loop, scaled from a sample",
+             t_loop_1m / t_1m_one, "x faster")):
         line = f'RESULT name={name} goal="{goal}" value={value:.4g} unit={unit}'
         if ref is not None:
             line += (f' reference={ref:.4g} reference_label="{ref_label}" ratio={ratio:.4g} '

@@ -9,6 +9,7 @@ from __future__ import annotations
 from starkiln.cli.options import add_colour_options, add_index_model_option, number, settings_from_args
 from starkiln.engine.errors import StarkilnError
 
+from starkiln.engine.plates.make import EXR_TYPES
 from starkiln.engine.plates.make import PLATE_PROJECTIONS as PROJECTIONS
 
 
@@ -37,9 +38,13 @@ def add_parsers(sub) -> None:
     c.add_argument("--magnitude-band", metavar="V|G", default="V", help="V (default) or G")
     g = p.add_argument_group("plate")
     g.add_argument("--projection", default="equirect", metavar="|".join(PROJECTIONS),
-                   help="equirect (whole sphere, 2:1; default) or fisheye (equidistant dome)")
+                   help="equirect (whole sphere, 2:1; default), fisheye (equidistant dome) or "
+                        "cube (six gnomonic faces in one 4x3 cross image)")
     g.add_argument("--size", metavar="W[xH]", default="4096",
-                   help="pixels: the width (height W/2 for equirect, W for fisheye) or WxH")
+                   help="pixels: the width (height W/2 for equirect, W for fisheye), the face "
+                        "side for cube, or WxH")
+    g.add_argument("--exr-type", metavar="|".join(EXR_TYPES),
+                   help="EXR channels: float (32-bit; default) or half (16-bit)")
     g.add_argument("--fov", type=number, default=180.0, metavar="DEG",
                    help="fisheye field of view, 1-360 degrees (default 180)")
     g.add_argument("--tilt", type=number, default=0.0, metavar="DEG", help="dome tilt, degrees")
@@ -105,7 +110,7 @@ def cmd_plate(args, out) -> int:
     values = str(args.values).strip().lower()
     if values not in ("display", "flux"):
         raise StarkilnError(f"--values {args.values!r} unknown; accepted: display, flux")
-    plate_file_type(args.output)
+    plate_file_type(args.output, args.exr_type)
     frame_name = str(args.frame).strip().lower()
     if frame_name not in frames.FRAMES:
         raise StarkilnError(f"--frame {args.frame!r} unknown; accepted: equatorial, horizon")
@@ -121,7 +126,14 @@ def cmd_plate(args, out) -> int:
     if below not in frames.BELOW_HORIZON:
         raise StarkilnError(f"--below-horizon {args.below_horizon!r} unknown; accepted: drop, keep")
     width, height = _size(args.size, projection)
-    check_plate_memory(width, height)
+    cube = projection == "cube"
+    if cube:
+        from starkiln.engine.plates.plate_files import plate_bytes
+
+        check_plate_memory(width, height, faces=6,
+                           extra_bytes=plate_bytes(4 * width, 3 * height))
+    else:
+        check_plate_memory(width, height)
     centre = _pair(args.centre, "--centre") if args.centre else (0.0, 90.0)
     check_writable(args.output, args.force)
     settings = settings_from_args(args)
@@ -143,6 +155,7 @@ def cmd_plate(args, out) -> int:
                         dec_column=args.dec_column, psf_sigma_px=args.psf_px, values=values,
                         site=site, moment=moment, refraction=bool(args.refraction),
                         below_horizon=below, overwrite=args.force,
+                        exr_type=args.exr_type,
                         log=lambda line: sys.stderr.write(f"starkiln: {line}\n"))
     for line in result.lines(args.output, spec, values):
         out.write(line + "\n")
@@ -168,6 +181,9 @@ def _apply_old_plate(args):
     args.refraction = bool(frame.get("refraction", False))
     args.below_horizon = frame.get("below_horizon", "drop")
     args.psf_px, args.values = old["psf_sigma_px"], old["values"]
+    if args.exr_type is None and str(args.output).lower().endswith(".exr") \
+            and old["output"] in ("exr-half", "exr-float"):
+        args.exr_type = old["output"][4:]
     cols = old["columns"]
     args.ra_column, args.dec_column = cols.get("ra"), cols.get("dec")
     source_option = {"temperature": "temperature_column", "bv": "bv_column",

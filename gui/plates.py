@@ -326,7 +326,8 @@ class PlateDialog(ExportDialog):
         self.source_note.setObjectName("plate-source")
         self.source_note.setWordWrap(True)
         self.form.insertRow(0, "Stars", self.source_note)
-        words = {"equirect": "Whole sky (equirect, 2:1)", "fisheye": "Dome master (fisheye)"}
+        words = {"equirect": "Whole sky (equirect, 2:1)", "fisheye": "Dome master (fisheye)",
+                 "cube": "Six cube faces (one 4 \u00d7 3 cross)"}
         self.projection = QtWidgets.QComboBox(self)
         self.projection.setObjectName("plate-projection")
         for key in PLATE_PROJECTIONS:
@@ -334,7 +335,8 @@ class PlateDialog(ExportDialog):
         self.form.addRow("Picture", self.projection)
         self.width_edit = _small_edit(self, "plate-width", "4096", 80,
                                       "Image width in pixels (the height follows: half for "
-                                      "the whole sky, the same for a dome)")
+                                      "the whole sky, the same for a dome); for cube faces, "
+                                      "the side of one face")
         self.form.addRow("Width, pixels", self.width_edit)
         self.fov = _small_edit(self, "plate-fov", "180", 80,
                                "How much of the sky the dome shows, 1\u2013360 degrees")
@@ -355,6 +357,12 @@ class PlateDialog(ExportDialog):
         self.values.setToolTip("Display values look right as they are; linear flux is for "
                                "renderers that do their own tone mapping (needs magnitudes)")
         self.form.addRow("Pixel values", self.values)
+        self.exr_type = QtWidgets.QComboBox(self)
+        self.exr_type.setObjectName("plate-exr-type")
+        self.exr_type.addItem("Float (32-bit)", "float")
+        self.exr_type.addItem("Half (16-bit, half the file size)", "half")
+        self.exr_type.setToolTip("Channel type of an .exr plate; a .png plate is 16-bit")
+        self.form.addRow("EXR channels", self.exr_type)
         self.site = QtWidgets.QLineEdit(self)
         self.site.setObjectName("plate-site")
         self.site.setPlaceholderText("(none: the fixed star sphere, pole up)")
@@ -370,10 +378,19 @@ class PlateDialog(ExportDialog):
             w.editingFinished.connect(self.refresh_preview)
         for c in (self.projection, self.values):
             c.currentIndexChanged.connect(self.refresh_preview)
+        self.path.textChanged.connect(self._path_chosen)
         self.projection.currentIndexChanged.connect(self._projection_chosen)
         self._projection_chosen()
         self.path.setText(str(Path.home() / self.default_name))
-        self.resize(560, 640)
+        self._path_chosen()
+        self.resize(560, 660)
+
+    def _path_chosen(self, *_args) -> None:
+        self.exr_type.setEnabled(self.path.text().strip().lower().endswith(".exr"))
+
+    def exr_kind(self, path) -> str | None:
+        """The EXR channel type for ``path`` (None for a PNG)."""
+        return self.exr_type.currentData() if str(path).lower().endswith(".exr") else None
 
     def _projection_chosen(self, *_args) -> None:
         dome = self.projection.currentData() == "fisheye"
@@ -437,6 +454,8 @@ class PlateDialog(ExportDialog):
                   f"--psf-px={self.psf_px():g}", "--values", self.values.currentData()]
         if self.site.text().strip():
             parts += [f"--site={self.site.text().strip()}", "--time", self.time.text().strip()]
+        if self.exr_kind(path):
+            parts += ["--exr-type", self.exr_kind(path)]
         if self.overwrite.isChecked():
             parts.append("--force")
         return " ".join(shlex.quote(p) for p in parts)
@@ -456,6 +475,8 @@ class PlateDialog(ExportDialog):
         # drawn at about the size it is shown, so that no star is averaged away
         room = self.preview.width() if spec.projection == "equirect" else \
             min(self.preview.width(), self.preview.height())
+        if spec.projection == "cube":  # the cross is 4 faces wide, 3 high
+            room = min(self.preview.width() // 4, self.preview.height() // 3)
         small = self.spec(width=max(16, min(spec.width_px, PREVIEW_MAX[0], room)))
         kw = None
         if frame["site"] is not None:
@@ -482,6 +503,6 @@ class PlateDialog(ExportDialog):
         result = make_plate(t.path, path, t.plan(self.model.settings), spec,
                             ra_column=c.ra, dec_column=c.dec, psf_sigma_px=self.psf_px(),
                             values=values, site=frame["site"], moment=frame["moment"],
-                            overwrite=overwrite)
+                            overwrite=overwrite, exr_type=self.exr_kind(path))
         return "Wrote " + result.lines(path, spec, values)[0].split(" -> ", 1)[1] + \
             f": {result.counts.get('drawn', 0):,} stars"

@@ -132,6 +132,7 @@ def test_dim_theme_at_dome_level_no_bright_flash_when_a_catalogue_appears(window
 @pytest.mark.parametrize("suffix, extra", [
     (".png", []),
     (".exr", ["fisheye"]),
+    (".exr", ["cube", "half"]),
 ])
 def test_plate_dialog_writes_the_commands_file_byte_for_byte(window, qapp, tmp_path, capsys,
                                                              suffix, extra):
@@ -144,20 +145,27 @@ def test_plate_dialog_writes_the_commands_file_byte_for_byte(window, qapp, tmp_p
     d.path.setText(str(gui_out))
     d.width_edit.setText("128")
     d.psf.setText("0.9")
-    if extra:
+    if extra == ["fisheye"]:
         d.projection.setCurrentIndex(d.projection.findData("fisheye"))
         d.fov.setText("200")
         d.tilt.setText("15")
         d.centre.setText("80, 30")
+    elif extra:
+        d.projection.setCurrentIndex(d.projection.findData("cube"))
+        d.width_edit.setText("48")
+        assert d.exr_type.isEnabled()
+        d.exr_type.setCurrentIndex(d.exr_type.findData("half"))
     d.export_button.click()
     assert d.error.isHidden(), d.error.text()
     assert gui_out.exists()
     cli_out = tmp_path / f"cli{suffix}"
     args = ["plate", str(SKY), str(cli_out), "--settings", str(toml), "--temperature-column",
             "temperature_K", "--magnitude-column", "magnitude", "--psf-px", "0.9"]
-    if extra:
+    if extra == ["fisheye"]:
         args += ["--projection", "fisheye", "--size", "128", "--fov", "200", "--tilt", "15",
                  "--centre", "80,30"]
+    elif extra:
+        args += ["--projection", "cube", "--size", "48", "--exr-type", "half"]
     else:
         args += ["--size", "128"]
     assert cli_main(args) == 0, capsys.readouterr().err

@@ -62,3 +62,32 @@ def test_unknown_values_kind_refused():
     with pytest.raises(StarkilnError, match="--values"):
         plate_metadata(Settings(), spec, frame={}, psf_sigma_px=0.7, values="nits",
                        counts={}, columns={}, output_type="png16")
+
+
+@pytest.mark.parametrize("lon, lat", [(-44.99, 10.0), (0.0, 44.99), (0.0, -44.99),
+                                      (-135.01, -20.0)])
+def test_cube_cross_is_continuous_where_it_says(lon, lat):
+    # The cross puts neighbouring faces side by side across the edges it joins: a star on
+    # such an edge (directions from spherical geometry: longitude -45 is the +X / -Y edge on
+    # the equator, latitude 45 over longitude 0 the +X / +Z edge) spills into the next cell
+    # and stays one compact blob in the cross, centred where its face pixel sits in the cross.
+    from starkiln.engine.plates.drawing import deposit
+    from starkiln.engine.plates.plate_files import CROSS_CELLS, cube_cross
+    from starkiln.engine.plates.projection import CUBE_FACES, project
+
+    n = 40
+    spec = PlateSpec("cube", n, n)
+    x, y, face, _ = project([lon], [lat], spec)
+    faces = np.zeros((6, n, n, 1))
+    deposit(faces, x, y, [[1.0]], 1.0, face=face)
+    assert np.count_nonzero(faces.reshape(6, -1).sum(axis=1)) >= 2      # it spilled
+    cross = cube_cross(faces)
+    assert cross.shape == (3 * n, 4 * n, 1) and cross.sum() == pytest.approx(1.0, rel=1e-9)
+    row, col = CROSS_CELLS[CUBE_FACES[int(face[0])]]
+    cx, cy = col * n + x[0], row * n + y[0]
+    rows, cols = np.nonzero(cross[:, :, 0])
+    w = cross[rows, cols, 0]
+    # one blob: no lit pixel beyond the footprint's reach ((k + 1) sqrt 2, k = 4, plus half a
+    # pixel diagonal for the reprojected part)
+    assert np.hypot(cols + 0.5 - cx, rows + 0.5 - cy).max() < 5 * np.sqrt(2) + 0.71
+    assert abs((w * (cols + 0.5)).sum() - cx) < 0.2 and abs((w * (rows + 0.5)).sum() - cy) < 0.2

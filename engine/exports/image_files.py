@@ -351,8 +351,8 @@ def write_png_strips(path, strips, width: int, height: int, text: dict[str, str]
 
 
 def write_exr(path, array: np.ndarray, attributes: dict[str, str] | None = None,
-              chromaticities=None) -> None:
-    """Write a 32-bit float RGB/RGBA OpenEXR file with string header attributes.
+              chromaticities=None, pixel_type: str = "float") -> None:
+    """Write a float RGB/RGBA OpenEXR file (32-bit, or 16-bit half) with string attributes.
 
     Parameters
     ----------
@@ -366,15 +366,25 @@ def write_exr(path, array: np.ndarray, attributes: dict[str, str] | None = None,
     chromaticities : sequence of 8 floats, optional
         Red, green, blue and white xy of the RGB values (the standard
         ``chromaticities`` attribute).
+    pixel_type : {"float", "half"}
+        ``float``: 32-bit channels; ``half``: 16-bit IEEE 754 half channels (values
+        beyond the largest half, 65504, are clipped to it rather than stored as infinity).
 
     References
     ----------
     [OpenEXR] technical introduction ("chromaticities" attribute; data window, y
-    down); OpenEXR Python bindings 3.x (``OpenEXR.File(header, channels)``).
+    down; HALF and FLOAT pixel types); OpenEXR Python bindings 3.x
+    (``OpenEXR.File(header, channels)``, a float16 array is stored as HALF); [IEEE754]
+    binary16 (largest finite value 65504).
     """
     import OpenEXR
 
+    if pixel_type not in ("float", "half"):
+        raise StarkilnError(f"EXR pixel type {pixel_type!r} is not known; accepted: half, float")
     a = np.ascontiguousarray(_check_image(array), dtype=np.float32)
+    if pixel_type == "half":
+        limit = float(np.finfo(np.float16).max)
+        a = np.clip(a, -limit, limit).astype(np.float16)
     header = {"compression": OpenEXR.ZIP_COMPRESSION, "type": OpenEXR.scanlineimage}
     for key, value in (attributes or {}).items():
         header[key] = str(value)

@@ -24,9 +24,11 @@ from dataclasses import dataclass, field, replace
 from starkiln.engine.errors import StarkilnError
 
 #: The projections ``starkiln plate`` and the plate dialog write.
-PLATE_PROJECTIONS = ("equirect", "fisheye")
+PLATE_PROJECTIONS = ("equirect", "fisheye", "cube")
 #: Image types by file extension.
 PLATE_FILE_TYPES = {"png": "png16", "exr": "exr-float"}
+#: EXR channel types: 32-bit float (the default) or 16-bit half.
+EXR_TYPES = ("half", "float")
 
 
 @dataclass(frozen=True)
@@ -40,24 +42,43 @@ class PlateResult:
 
     def lines(self, path, spec, values) -> list[str]:
         """The command's summary: stars drawn, then each reason rows were skipped."""
-        out = [f"{self.counts.get('drawn', 0):,} stars -> {path} ({spec.width_px} x "
-               f"{spec.height_px}, {spec.projection}, {values})"]
+        w, h = spec.width_px, spec.height_px
+        size = f"6 faces of {w} x {h} in a {4 * w} x {3 * h} cross" \
+            if spec.projection == "cube" else f"{w} x {h}"
+        out = [f"{self.counts.get('drawn', 0):,} stars -> {path} ({size}, "
+               f"{spec.projection}, {values})"]
         out += [f"  skipped, {k}: {v:,}" for k, v in sorted(self.counts.items())
                 if k != "drawn" and v]
         return out
 
 
-def plate_file_type(path) -> str:
-    """``png16`` or ``exr-float`` for an output path (StarkilnError for another extension).
+def plate_file_type(path, exr_type=None) -> str:
+    """``png16``, ``exr-float`` or ``exr-half`` for an output path and EXR channel type.
+
+    ``exr_type`` (``half`` or ``float``; None: float) applies to ``.exr`` files only.
+
+    Raises
+    ------
+    StarkilnError
+        Another extension, an unknown ``exr_type``, or an ``exr_type`` for a PNG.
 
     References
     ----------
-    [PNG] (16-bit samples); OpenEXR (float samples); file types by extension, common practice.
+    [PNG] (16-bit samples); OpenEXR (half and float samples); file types by extension,
+    common practice.
     """
     ext = str(path).lower().rsplit(".", 1)[-1]
     if ext not in PLATE_FILE_TYPES:
         raise StarkilnError(f"{path}: unknown image type; accepted: .png, .exr")
-    return PLATE_FILE_TYPES[ext]
+    if exr_type is None:
+        return PLATE_FILE_TYPES[ext]
+    kind = str(exr_type).strip().lower()
+    if kind not in EXR_TYPES:
+        raise StarkilnError(f"--exr-type {exr_type!r} unknown; accepted: half, float")
+    if ext != "exr":
+        raise StarkilnError(f"--exr-type {exr_type} applies to .exr files; {path} is a "
+                            "16-bit .png")
+    return f"exr-{kind}"
 
 
 def plate_plan(plan, values: str):
@@ -85,7 +106,7 @@ def plate_plan(plan, values: str):
 def make_plate(input_path, output_path, plan, spec, *, ra_column=None, dec_column=None,
                psf_sigma_px: float = 0.7, values: str = "display", site=None, moment=None,
                refraction: bool = False, below_horizon: str = "drop", overwrite: bool = False,
-               log=None) -> PlateResult:
+               exr_type=None, log=None) -> PlateResult:
     """Draw every star of a catalogue file into a plate and write it atomically.
 
     Parameters
@@ -93,11 +114,12 @@ def make_plate(input_path, output_path, plan, spec, *, ra_column=None, dec_colum
     input_path : path
         Any single file ``starkiln catalogue`` reads.
     output_path : path
-        ``.png`` (16-bit) or ``.exr`` (float).
+        ``.png`` (16-bit) or ``.exr`` (float, or half with ``exr_type``).
     plan : CataloguePlan
         The look (``plan.settings``) and the colour and magnitude columns.
     spec : PlateSpec
-        Projection and size.
+        Projection and size (for ``cube``: the side of one face; the file is the six faces
+        in one 4 x 3 cross, :func:`starkiln.engine.plates.plate_files.cube_cross`).
     ra_column, dec_column : str, optional
         Default: the first column named like ra / dec.
     psf_sigma_px : float
@@ -110,6 +132,8 @@ def make_plate(input_path, output_path, plan, spec, *, ra_column=None, dec_colum
     below_horizon : {"drop", "keep"}
     overwrite : bool
         Replace an existing ``output_path``.
+    exr_type : {"half", "float"}, optional
+        EXR channel type (None: float).
     log : callable, optional
         Called with the column-choice line.
 
@@ -129,23 +153,31 @@ def make_plate(input_path, output_path, plan, spec, *, ra_column=None, dec_colum
     import numpy as np
 
     from starkiln.engine.atomic import atomic_path, check_writable
+    from starkiln.engine.plates import plate_files
     from starkiln.engine.plates.plate_files import check_plate_memory, plate_metadata
     from starkiln.engine.plates.run import column_names, draw_chunk, plate_chunks, radec_columns
 
     if not (psf_sigma_px > 0 and psf_sigma_px <= 50):
         raise StarkilnError(f"--psf-px {psf_sigma_px:g} is out of range; accepted: 0-50 px")
-    output_type = plate_file_type(output_path)
+    output_type = plate_file_type(output_path, exr_type)
     plan = plate_plan(plan, values)
     if (site is None) != (moment is None):
         raise StarkilnError("--site and --time go together (the sky over a place at a moment)")
-    check_plate_memory(spec.width_px, spec.height_px)
+    cube = spec.projection == "cube"
+    if cube:
+        check_plate_memory(spec.width_px, spec.height_px, faces=6,
+                           extra_bytes=plate_files.plate_bytes(4 * spec.width_px,
+                                                               3 * spec.height_px))
+    else:
+        check_plate_memory(spec.width_px, spec.height_px)
     check_writable(output_path, overwrite)
     ra_col, dec_col, line = radec_columns(column_names(input_path), ra_column, dec_column)
     if log is not None:
         log(line)
     frame_kw = {} if site is None else dict(site=site, time=moment, refraction=refraction,
                                             below_horizon=below_horizon)
-    image = np.zeros((spec.height_px, spec.width_px, 3), dtype=np.float32)
+    image = np.zeros(((6,) if cube else ()) + (spec.height_px, spec.width_px, 3),
+                     dtype=np.float32)
     counts: dict = {}
     names = list(dict.fromkeys([ra_col, dec_col, *plan.input_columns]))
     for _, chunk in plate_chunks(input_path, plan, names):
@@ -160,13 +192,17 @@ def make_plate(input_path, output_path, plan, spec, *, ra_column=None, dec_colum
                           columns={"ra": ra_col, "dec": dec_col, "source": plan.source,
                                    "source_column": plan.source_column,
                                    "magnitude": plan.magnitude_column},
-                          output_type=output_type)
-    write_plate(output_path, image, meta, overwrite, atomic_path)
+                          output_type=output_type,
+                          layout=plate_files.CROSS_LAYOUT if cube else None)
+    if cube:
+        image = plate_files.cube_cross(image)
+    write_plate(output_path, image, meta, overwrite, atomic_path,
+                exr_type=output_type[4:] if output_type.startswith("exr-") else "float")
     return PlateResult(ra_col, dec_col, counts, line)
 
 
-def write_plate(path, image, meta, overwrite, atomic_path=None) -> None:
-    """Write a plate image (16-bit PNG, or float EXR) with its metadata, atomically.
+def write_plate(path, image, meta, overwrite, atomic_path=None, exr_type="float") -> None:
+    """Write a plate image (16-bit PNG, or half / float EXR) with its metadata, atomically.
 
     References
     ----------
@@ -186,4 +222,4 @@ def write_plate(path, image, meta, overwrite, atomic_path=None) -> None:
             q = np.floor(np.clip(image, 0.0, 1.0) * 65535.0 + 0.5).astype(np.uint16)
             write_png(tmp, q, {"starkiln": text})
         else:
-            write_exr(tmp, image, {"starkiln": text})
+            write_exr(tmp, image, {"starkiln": text}, pixel_type=exr_type)

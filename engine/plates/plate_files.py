@@ -6,6 +6,7 @@
 time, PSF, what the values mean (``display`` or ``flux``) and the row counts.
 :func:`plate_request_from_metadata` reads it back for ``--settings-from OLD``.
 :func:`check_plate_memory` refuses a size before any image is allocated.
+:func:`cube_cross` lays the six cube faces out as one cross image (the cube file layout).
 """
 
 from __future__ import annotations
@@ -13,6 +14,13 @@ from __future__ import annotations
 from starkiln.engine.errors import StarkilnError
 
 PLATE_FORMAT = 1
+#: Where each cube face sits in the cross image, in face-size cells (row, column): a 4 x 3
+#: cross, the four side faces in a row (each face's right edge meets the next face's left
+#: edge, seen from inside), the pole face (+Z) above +X and the opposite pole (-Z) below it.
+CROSS_CELLS = {"+Z": (0, 1), "+Y": (1, 0), "+X": (1, 1), "-Y": (1, 2), "-X": (1, 3),
+               "-Z": (2, 1)}
+#: The layout as it is written into the metadata.
+CROSS_LAYOUT = "cross 4x3 cells: row 0: -, +Z, -, -; row 1: +Y, +X, -Y, -X; row 2: -, -Z, -, -"
 VALUES = ("display", "flux")
 EXR_TYPES = ("half", "float")
 #: Bytes a plate may take in memory (the float32 image plus a chunk's work): 8 GiB.
@@ -37,7 +45,7 @@ def plate_bytes(width_px: int, height_px: int, faces: int = 1, channels: int = 3
 
 
 def check_plate_memory(width_px: int, height_px: int, faces: int = 1,
-                       limit_bytes: int = MEMORY_LIMIT_BYTES) -> int:
+                       limit_bytes: int = MEMORY_LIMIT_BYTES, extra_bytes: int = 0) -> int:
     """Refuse a plate that would not fit, before anything is allocated.
 
     Parameters
@@ -48,6 +56,8 @@ def check_plate_memory(width_px: int, height_px: int, faces: int = 1,
         1, or 6 for a cube.
     limit_bytes : int
         Most the image may take.
+    extra_bytes : int
+        Memory needed beside the faces (the cube's cross image).
 
     Returns
     -------
@@ -63,7 +73,7 @@ def check_plate_memory(width_px: int, height_px: int, faces: int = 1,
     ----------
     :func:`plate_bytes`.
     """
-    need = plate_bytes(width_px, height_px, faces)
+    need = plate_bytes(width_px, height_px, faces) + int(extra_bytes)
     if int(width_px) < 1 or int(height_px) < 1:
         raise StarkilnError(f"--size {width_px}x{height_px} is empty; accepted: positive pixels")
     if need > limit_bytes:
@@ -74,8 +84,43 @@ def check_plate_memory(width_px: int, height_px: int, faces: int = 1,
     return need
 
 
+def cube_cross(faces):
+    """The six cube faces laid out as one cross image ``(3 n, 4 n, C)``, black elsewhere.
+
+    Parameters
+    ----------
+    faces : numpy.ndarray
+        ``(6, n, n, C)`` in the face order +X, -X, +Y, -Y, +Z, -Z
+        (:data:`starkiln.engine.plates.projection.CUBE_FACES`).
+
+    Returns
+    -------
+    numpy.ndarray
+        The cross of :data:`CROSS_CELLS`: across the middle row the side faces +Y, +X, -Y, -X
+        run on continuously (seen from inside, longitude increasing to the left), +Z sits on
+        top of +X and -Z under it, each face the right way round; the six empty cells are 0.
+
+    References
+    ----------
+    Common practice for cube-map cross layouts (a 4 x 3 horizontal cross); the face geometry
+    is the projection module's gnomonic faces (Calabretta & Greisen 2002, section 5.1.3).
+    """
+    import numpy as np
+
+    from starkiln.engine.plates.projection import CUBE_FACES
+
+    faces = np.asarray(faces)
+    n = faces.shape[1]
+    cross = np.zeros((3 * n, 4 * n, faces.shape[-1]), dtype=faces.dtype)
+    for i, name in enumerate(CUBE_FACES):
+        row, col = CROSS_CELLS[name]
+        cross[row * n:(row + 1) * n, col * n:(col + 1) * n] = faces[i]
+    return cross
+
+
 def plate_metadata(settings, spec, *, frame: dict, psf_sigma_px: float, values: str,
-                   counts: dict, columns: dict, output_type: str) -> dict:
+                   counts: dict, columns: dict, output_type: str, layout: str | None = None
+                   ) -> dict:
     """The self-description embedded in every plate.
 
     Parameters
@@ -96,6 +141,8 @@ def plate_metadata(settings, spec, *, frame: dict, psf_sigma_px: float, values: 
         The catalogue columns used (ra, dec, colour source, magnitude).
     output_type : str
         ``png16``, ``exr-half`` or ``exr-float``.
+    layout : str, optional
+        How the image holds the projection (the cube's :data:`CROSS_LAYOUT`).
 
     Returns
     -------
@@ -112,7 +159,7 @@ def plate_metadata(settings, spec, *, frame: dict, psf_sigma_px: float, values: 
 
     if values not in VALUES:
         raise StarkilnError(f"--values {values!r} unknown; accepted: display, flux")
-    return {
+    meta = {
         "starkiln_plate": PLATE_FORMAT,
         "generator": f"starkiln {__version__}",
         "settings": settings.to_dict(),
@@ -125,6 +172,9 @@ def plate_metadata(settings, spec, *, frame: dict, psf_sigma_px: float, values: 
         "counts": {k: int(v) for k, v in counts.items()},
         "output": output_type,
     }
+    if layout is not None:
+        meta["layout"] = layout
+    return meta
 
 
 def plate_request_from_metadata(metadata: dict, source: str = "plate") -> dict:

@@ -225,15 +225,19 @@ def preview_plate(settings, table: StarTable, spec, psf_sigma_px: float = 0.7,
     Returns
     -------
     (numpy.ndarray, dict) or None
-        The image ``(H, W, 3)`` float32 and the row counts (drawn, and skipped by reason).
+        The image ``(H, W, 3)`` float32 (for ``cube``: the six faces in one ``(3H, 4W, 3)``
+        cross, as the command writes them) and the row counts (drawn, and skipped by reason).
 
     References
     ----------
     :func:`starkiln.engine.plates.run.draw_chunk` (the command's drawing of each chunk).
     """
+    from starkiln.engine.plates.plate_files import cube_cross
     from starkiln.engine.plates.run import chunk_colours, place_chunk
 
-    image = np.zeros((spec.height_px, spec.width_px, 3), dtype=np.float32)
+    cube = spec.projection == "cube"
+    image = np.zeros(((6,) if cube else ()) + (spec.height_px, spec.width_px, 3),
+                     dtype=np.float32)
     counts: dict = {}
     c = table.choice
     plan = table.plan(settings).for_rows(table.rows)
@@ -248,7 +252,7 @@ def preview_plate(settings, table: StarTable, spec, psf_sigma_px: float = 0.7,
                  for k, (v, m) in ((n, table.columns[n]) for n in (c.ra, c.dec))}
         place_chunk(image, chunk, c.ra, c.dec, rgb[start:stop], coloured[start:stop], spec,
                     psf_sigma_px=psf_sigma_px, frame=frame, counts=counts)
-    return image, counts
+    return (cube_cross(image) if cube else image), counts
 
 
 def plate_on_monitor(image, display, monitor, viewing_level: float = 1.0) -> np.ndarray:

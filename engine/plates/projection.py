@@ -233,6 +233,30 @@ def project(lon_deg, lat_deg, spec: PlateSpec):
     vy = -s * v[..., 0] + c * v[..., 1]
     vz = v[..., 2]
     turned = np.stack([vx, vy, vz], -1)
+    x, y, face = cube_face_pixels(turned, spec.width_px)
+    inside = np.isfinite(x) & np.isfinite(y)
+    return x, y, face, inside
+
+
+def cube_face_pixels(turned, size_px):
+    """Cube face and continuous face pixel position of directions in the turned cube frame.
+
+    Parameters
+    ----------
+    turned : array_like
+        ``(..., 3)`` direction vectors (any length) in the cube's frame, +X towards
+        ``centre_lon_deg`` (the turn :func:`project` applies first).
+    size_px : int
+        Face side, pixels.
+
+    Returns
+    -------
+    x_px, y_px : numpy.ndarray
+        Gnomonic (TAN, Calabretta & Greisen 2002, section 5.1.3) position on the face.
+    face : numpy.ndarray of int8
+        ``0..5`` = +X, -X, +Y, -Y, +Z, -Z: the face of the largest coordinate.
+    """
+    turned = np.asarray(turned, dtype=float)
     axis = np.argmax(np.abs(turned), axis=-1)
     negative = np.take_along_axis(turned, axis[..., None], -1)[..., 0] < 0
     face = (2 * axis + negative).astype(np.int8)
@@ -240,10 +264,37 @@ def project(lon_deg, lat_deg, spec: PlateSpec):
     forward = np.einsum("...k,...k->...", turned, axes[..., 0, :])
     a = np.einsum("...k,...k->...", turned, axes[..., 1, :]) / forward
     b = np.einsum("...k,...k->...", turned, axes[..., 2, :]) / forward
-    x = (a + 1.0) * (w / 2.0)
-    y = (1.0 - b) * (h / 2.0)
-    inside = np.isfinite(x) & np.isfinite(y)
-    return x, y, face, inside
+    w = float(size_px)
+    return (a + 1.0) * (w / 2.0), (1.0 - b) * (w / 2.0), face
+
+
+def cube_face_directions(face, x_px, y_px, size_px) -> np.ndarray:
+    """Direction vectors (turned cube frame, not normalised) of face pixel positions.
+
+    The inverse of :func:`cube_face_pixels`; positions off the face (``x_px`` outside
+    ``[0, size]``) continue the face's tangent plane, which is how a footprint that spills
+    over an edge finds the neighbouring face.
+
+    Parameters
+    ----------
+    face : array_like of int
+        ``0..5``.
+    x_px, y_px : array_like
+        Continuous face pixel positions.
+    size_px : int
+        Face side, pixels.
+
+    Returns
+    -------
+    numpy.ndarray
+        ``(..., 3)``: ``forward + a right + b up`` with ``a = 2 x / size - 1`` and
+        ``b = 1 - 2 y / size`` (the gnomonic plane at unit distance; Calabretta & Greisen
+        2002, section 5.1.3).
+    """
+    axes = _FACE_AXES[np.asarray(face, dtype=np.intp)]
+    a = 2.0 * np.asarray(x_px, float) / size_px - 1.0
+    b = 1.0 - 2.0 * np.asarray(y_px, float) / size_px
+    return axes[..., 0, :] + a[..., None] * axes[..., 1, :] + b[..., None] * axes[..., 2, :]
 
 
 def fisheye_valid_pixels(spec: PlateSpec) -> np.ndarray:
