@@ -6,6 +6,7 @@ heavy at module level.
 
 from __future__ import annotations
 
+from starkiln.cli.catalogue import add_engine_options, engine_from_args
 from starkiln.cli.options import add_colour_options, number, settings_from_args
 from starkiln.engine.errors import StarkilnError
 
@@ -54,6 +55,9 @@ def add_parsers(sub) -> None:
     g.add_argument("--values", default="display", metavar="display|flux")
     g.add_argument("--settings-from", metavar="OLD", help="rebuild the plate OLD describes")
     g.add_argument("--force", action="store_true", help="overwrite OUT if it exists")
+    add_engine_options(p.add_argument_group("engine"),
+                       "dask (IN: a Parquet file, folder or glob; partitions drawn on the "
+                       "workers, summed on the cluster)")
     add_colour_options(p)
 
 
@@ -95,6 +99,7 @@ def cmd_plate(args, out) -> int:
     args.exact = False
     args.prefix = ""
     args.linear_columns = None
+    engine = engine_from_args(args)
     projection = str(args.projection).strip().lower()
     if projection not in PROJECTIONS:
         raise StarkilnError(f"--projection {args.projection!r} unknown; accepted: "
@@ -146,7 +151,12 @@ def cmd_plate(args, out) -> int:
     spec = PlateSpec(projection=projection, width_px=width, height_px=height,
                      fov_deg=float(args.fov), centre_lon_deg=centre[0],
                      centre_lat_deg=centre[1], tilt_deg=float(args.tilt))
-    ra_col, dec_col, line = radec_columns(column_names(args.input), args.ra_column,
+    names_from = args.input
+    if engine == "dask":
+        from starkiln.engine.catalogue.dask_engine import parquet_inputs
+
+        names_from = parquet_inputs(args.input)[0]
+    ra_col, dec_col, line = radec_columns(column_names(names_from), args.ra_column,
                                           args.dec_column)
     import sys
     sys.stderr.write(f"starkiln: {line}\n")
@@ -155,9 +165,19 @@ def cmd_plate(args, out) -> int:
     image = np.zeros((height, width, 3), dtype=np.float32)
     counts = {}
     names = list(dict.fromkeys([ra_col, dec_col, *plan.input_columns]))
-    for _, chunk in plate_chunks(args.input, plan, names):
-        draw_chunk(image, plan, chunk, ra_col, dec_col, spec, psf_sigma_px=args.psf_px,
-                   values=values, frame=frame_kw, counts=counts)
+    if engine == "dask":
+        from starkiln.engine.plates.dask_engine import draw_plate_dask
+
+        _, n_parts = draw_plate_dask(image, args.input, plan, names, ra_col, dec_col, spec,
+                                     counts=counts, scheduler=args.scheduler,
+                                     n_workers=args.workers, psf_sigma_px=args.psf_px,
+                                     values=values, frame=frame_kw)
+        sys.stderr.write(f"starkiln: {n_parts} partition{'s' * (n_parts != 1)} drawn on the "
+                         "cluster, summed there (tree reduction)\n")
+    else:
+        for _, chunk in plate_chunks(args.input, plan, names):
+            draw_chunk(image, plan, chunk, ra_col, dec_col, spec, psf_sigma_px=args.psf_px,
+                       values=values, frame=frame_kw, counts=counts)
     frame = {"frame": frame_name}
     if site is not None:
         frame.update(site=site.text(), time=moment.isot, refraction=bool(args.refraction),
