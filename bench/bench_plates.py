@@ -15,12 +15,17 @@ Prints measured figures beside the goals, with ratios, in one run:
 - 1 M stars on a cube of six 2048^2 faces (footprints spilling over the edges), no goal;
 - allocating and zeroing the 8192 x 4096 plate, timed apart (page faults of a fresh 400 MB
   array): the 1 M figures and the loop ratio are the drawing alone; the 10 M goal includes it.
+- ``starkiln plate`` end to end (Parquet in, float EXR out, the colours through the render
+  path) on this machine against ``--engine dask`` (the same stars as 8 Parquet files, each a
+  partition drawn on a worker, the plates summed by the tree reduction on the cluster) on a
+  local cluster of 2 worker processes: once with the cluster's start-up, once on a cluster
+  already running (``--scheduler``).
 
 The stars are invented (uniform on the sphere, random colours), not catalogue rows.
 
 Usage::
 
-    python bench/bench_plates.py [--big-stars 10000000] [--sample 3000]
+    python bench/bench_plates.py [--big-stars 10000000] [--sample 3000] [--dask-stars 1000000]
 """
 
 from __future__ import annotations
@@ -146,6 +151,51 @@ def per_star_loop(n_sample, height, seed=3):
     return (time.perf_counter() - t0) / n_sample
 
 
+def local_vs_dask(n_stars, width, parts=8, workers=2, seed=4):
+    """Seconds for ``starkiln plate`` locally and with ``--engine dask`` (same stars)."""
+    import os
+    import tempfile
+
+    import pyarrow as pa
+    import pyarrow.parquet as pq
+    from distributed import LocalCluster
+
+    from starkiln.cli.main import main
+
+    rng = np.random.default_rng(seed)
+    with tempfile.TemporaryDirectory() as tmp:
+        folder = os.path.join(tmp, "parts")
+        os.mkdir(folder)
+        tables = []
+        for i in range(parts):
+            n = n_stars // parts
+            lon, lat, _ = _stars(rng, n)
+            t = pa.table({"ra": lon, "dec": lat, "teff": rng.uniform(2500.0, 30000.0, n),
+                          "mag": rng.uniform(-1.0, 12.0, n)})
+            pq.write_table(t, os.path.join(folder, f"stars-{i}.parquet"))
+            tables.append(t)
+        single = os.path.join(tmp, "all.parquet")
+        pq.write_table(pa.concat_tables(tables), single)
+        args = ["--temperature-column", "teff", "--magnitude-column", "mag", "--size",
+                str(width), "--force"]
+        out = os.path.join(tmp, "plate.exr")
+
+        def run(*extra, src=single):
+            t0 = time.perf_counter()
+            assert main(["plate", src, out, *args, *extra]) == 0
+            return time.perf_counter() - t0
+
+        run()                                               # warm imports and colour grid
+        t_local = run()
+        t_dask_cold = run("--engine", "dask", "--workers", str(workers), src=folder)
+        with LocalCluster(n_workers=workers, threads_per_worker=1, host="127.0.0.1",
+                          dashboard_address=None) as cluster:
+            run("--engine", "dask", "--scheduler", cluster.scheduler_address, src=folder)
+            t_dask = run("--engine", "dask", "--scheduler", cluster.scheduler_address,
+                         src=folder)
+    return t_local, t_dask_cold, t_dask
+
+
 def _child(n_stars):
     before = resource.getrusage(resource.RUSAGE_SELF)
     timings = {}
@@ -161,6 +211,7 @@ def main():
     ap = argparse.ArgumentParser()
     ap.add_argument("--big-stars", type=int, default=10_000_000)
     ap.add_argument("--sample", type=int, default=3000)
+    ap.add_argument("--dask-stars", type=int, default=1_000_000)
     ap.add_argument("--child", type=int, default=0, help=argparse.SUPPRESS)
     args = ap.parse_args()
     if args.child:
@@ -183,6 +234,12 @@ def main():
     slope_pixels = (t_1m - t_1m_small) / ((pixels_big - pixels_small) / 1e6)
     per_star = per_star_loop(args.sample, 4096)
     t_loop_1m = per_star * 1_000_000
+    import contextlib
+    import io
+
+    with contextlib.redirect_stdout(io.StringIO()), contextlib.redirect_stderr(io.StringIO()):
+        t_local, t_dask_cold, t_dask = local_vs_dask(args.dask_stars, 4096)
+    dask_label = f"{args.dask_stars / 1e6:g} M stars, 4096x2048 plate"
     print(f"{'case':<52}{'measured':>12}{'goal':>10}{'ratio':>8}")
     print(f"{'fisheye 4096^2, 120 000 stars (%d inside), s' % n_in:<52}{t_fish:>12.3f}"
           f"{GOAL_FISHEYE_S:>10.3g}{GOAL_FISHEYE_S / t_fish:>8.2f}")
@@ -204,6 +261,11 @@ def main():
     print(f"load average (1 min) at the start and the end: {load_start:.1f}, "
           f"{os.getloadavg()[0]:.1f} on {os.cpu_count()} cores (others' work slows the wall "
           "times; the CPU time less so)")
+    print(f"{'starkiln plate, %s, local, s' % dask_label:<52}{t_local:>12.3f}")
+    print(f"{'  --engine dask, 8 parts, 2 workers (with start), s':<52}{t_dask_cold:>12.3f}"
+          f"{'':>10}{t_local / t_dask_cold:>8.2f}x")
+    print(f"{'  --engine dask, cluster already running, s':<52}{t_dask:>12.3f}"
+          f"{'':>10}{t_local / t_dask:>8.2f}x")
     for name, goal, value, unit, ref, ref_label, ratio, sense in (
             ("plate_fisheye_120k", "120 000 stars into a 4096 x 4096 fisheye", t_fish, "s",
              GOAL_FISHEYE_S, "goal", GOAL_FISHEYE_S / t_fish, "x under the goal"),
@@ -228,7 +290,14 @@ def main():
              t_loop_1m, "per-star loop, scaled from a sample", t_loop_1m / t_1m, "x faster"),
             ("plate_vs_loop_one_thread", "1 M stars equirect, drawing on one thread, against "
              "a per-star loop", t_1m_one, "s", t_loop_1m, "per-star loop, scaled from a sample",
-             t_loop_1m / t_1m_one, "x faster")):
+             t_loop_1m / t_1m_one, "x faster"),
+            ("plate_dask", f"starkiln plate --engine dask, {dask_label}, 8 partitions, "
+             "2 local workers (running cluster), against the local command", t_dask, "s",
+             t_local, "starkiln plate on this machine", t_local / t_dask,
+             "x the local speed"),
+            ("plate_dask_cold", f"the same with the local cluster's start-up "
+             f"(--workers 2)", t_dask_cold, "s", t_local, "starkiln plate on this machine",
+             t_local / t_dask_cold, "x the local speed")):
         line = f'RESULT name={name} goal="{goal}" value={value:.4g} unit={unit}'
         if ref is not None:
             line += (f' reference={ref:.4g} reference_label="{ref_label}" ratio={ratio:.4g} '

@@ -58,13 +58,36 @@ def add_parsers(sub) -> None:
     o.add_argument("--chunk-rows", type=positive_int, metavar="N",
                    help="rows per streamed chunk (default 131072)")
     o.add_argument("--no-progress", action="store_true", help="no progress bar on stderr")
-    o.add_argument("--engine", default="local", metavar="local|dask",
-                   help="local (default) or dask (Parquet in, folder of Parquet parts out)")
-    o.add_argument("--scheduler", metavar="tcp://HOST:PORT",
-                   help="with --engine dask: a running Dask scheduler (default: a local cluster)")
-    o.add_argument("--workers", type=positive_int, metavar="N",
-                   help="with --engine dask and no --scheduler: local workers (default: cores)")
+    add_engine_options(o, "dask (Parquet in, folder of Parquet parts out)")
     add_colour_options(p)
+
+
+def add_engine_options(group, dask_help: str) -> None:
+    """``--engine local|dask``, ``--scheduler`` and ``--workers`` (catalogue and plate)."""
+    group.add_argument("--engine", default="local", metavar="local|dask",
+                       help=f"local (default) or {dask_help}")
+    group.add_argument("--scheduler", metavar="tcp://HOST:PORT",
+                       help="with --engine dask: a running Dask scheduler (default: a local "
+                            "cluster)")
+    group.add_argument("--workers", type=positive_int, metavar="N",
+                       help="with --engine dask and no --scheduler: local workers (default: "
+                            "cores)")
+
+
+def engine_from_args(args) -> str:
+    """The checked ``--engine`` (``"local"`` or ``"dask"``) and its companions' rules."""
+    engine = str(args.engine).strip().lower()
+    if engine not in ("local", "dask"):
+        raise StarkilnError(f"--engine {args.engine!r} unknown; accepted: local, dask")
+    if engine == "local" and (args.scheduler or args.workers):
+        raise StarkilnError("--scheduler and --workers need --engine dask")
+    if args.scheduler and args.workers:
+        raise StarkilnError("--workers sets up a local cluster; it cannot go with --scheduler")
+    if args.scheduler:
+        from starkiln.engine.catalogue.dask_engine import check_scheduler_address
+
+        check_scheduler_address(args.scheduler)
+    return engine
 
 
 def plan_from_args(args, settings):
@@ -108,13 +131,7 @@ def plan_from_args(args, settings):
 def cmd_catalogue(args, out) -> int:
     """``starkiln catalogue``: colour a catalogue, print a summary."""
 
-    engine = str(args.engine).strip().lower()
-    if engine not in ("local", "dask"):
-        raise StarkilnError(f"--engine {args.engine!r} unknown; accepted: local, dask")
-    if engine == "local" and (args.scheduler or args.workers):
-        raise StarkilnError("--scheduler and --workers need --engine dask")
-    if args.scheduler and args.workers:
-        raise StarkilnError("--workers sets up a local cluster; it cannot go with --scheduler")
+    engine = engine_from_args(args)
     settings = settings_from_args(args)
     plan = plan_from_args(args, settings)
     try:

@@ -6,6 +6,7 @@ heavy at module level.
 
 from __future__ import annotations
 
+from starkiln.cli.catalogue import add_engine_options, engine_from_args
 from starkiln.cli.options import add_colour_options, add_index_model_option, number, settings_from_args
 from starkiln.engine.errors import StarkilnError
 
@@ -61,6 +62,9 @@ def add_parsers(sub) -> None:
     g.add_argument("--values", default="display", metavar="display|flux")
     g.add_argument("--settings-from", metavar="OLD", help="rebuild the plate OLD describes")
     g.add_argument("--force", action="store_true", help="overwrite OUT if it exists")
+    add_engine_options(p.add_argument_group("engine"),
+                       "dask (IN: a Parquet file, folder or glob; partitions drawn on the "
+                       "workers, summed on the cluster)")
     add_colour_options(p)
 
 
@@ -101,6 +105,7 @@ def cmd_plate(args, out) -> int:
     args.exact = False
     args.prefix = ""
     args.linear_columns = None
+    engine = engine_from_args(args)
     projection = str(args.projection).strip().lower()
     if projection not in PROJECTIONS:
         raise StarkilnError(f"--projection {args.projection!r} unknown; accepted: "
@@ -155,7 +160,8 @@ def cmd_plate(args, out) -> int:
                         dec_column=args.dec_column, psf_sigma_px=args.psf_px, values=values,
                         site=site, moment=moment, refraction=bool(args.refraction),
                         below_horizon=below, overwrite=args.force,
-                        exr_type=args.exr_type,
+                        exr_type=args.exr_type, engine=engine, scheduler=args.scheduler,
+                        n_workers=args.workers,
                         log=lambda line: sys.stderr.write(f"starkiln: {line}\n"))
     for line in result.lines(args.output, spec, values):
         out.write(line + "\n")

@@ -20,6 +20,7 @@ must see the input and output paths (a shared file system).
 
 from __future__ import annotations
 
+import contextlib
 import dataclasses
 import os
 import shutil
@@ -50,6 +51,161 @@ def _check_output_folder(output: Path, overwrite: bool) -> None:
     if FORMATS.get(output.suffix.lower(), "parquet") != "parquet":
         raise StarkilnError(f"{output}: --engine dask writes a folder of Parquet parts, not "
                             f"a {output.suffix} file")
+
+
+def parquet_inputs(input_spec) -> list[Path]:
+    """The Parquet files of a file, folder or glob, for ``--engine dask``.
+
+    Parameters
+    ----------
+    input_spec : path
+        A Parquet file, a folder of ``*.parquet`` files, or a glob.
+
+    Returns
+    -------
+    list of Path
+        In natural order (:func:`starkiln.engine.catalogue.formats.input_files`).
+
+    Raises
+    ------
+    StarkilnError
+        Nothing matches, or a file is not Parquet.
+
+    References
+    ----------
+    Dask documentation: ``dask.dataframe.read_parquet`` (file, folder or glob).
+    """
+    files = input_files(input_spec)
+    for f in files:
+        if format_of(f, "input") != "parquet":
+            raise StarkilnError(f"{f}: --engine dask reads Parquet (a file, a folder or a "
+                                "glob of .parquet files)")
+    return files
+
+
+def parquet_schema_rows(files):
+    """The shared schema and the total row count of Parquet files (footers only).
+
+    Parameters
+    ----------
+    files : list of Path
+        From :func:`parquet_inputs`.
+
+    Returns
+    -------
+    (pyarrow.Schema, int)
+
+    Raises
+    ------
+    StarkilnError
+        A file is not readable as Parquet, or its columns differ from the first file's.
+
+    References
+    ----------
+    Apache Parquet file format (schema and row counts in the footer), read by pyarrow.
+    """
+    import pyarrow.parquet as pq
+
+    schema_in, rows = None, 0
+    for f in files:
+        try:
+            schema = pq.read_schema(f)
+            n = pq.ParquetFile(f).metadata.num_rows
+        except Exception as exc:
+            raise StarkilnError(f"{f}: cannot read as Parquet ({first_line(exc)})") from None
+        if schema_in is None:
+            schema_in = schema
+        elif not schema.remove_metadata().equals(schema_in.remove_metadata()):
+            raise StarkilnError(f"{f}: its columns differ from those of {files[0]}; every "
+                                "file needs the same columns")
+        rows += n
+    return schema_in, rows
+
+
+
+def check_scheduler_address(scheduler: str) -> str:
+    """Check the form of a scheduler address (``tcp://``, ``tls://`` or ``inproc://``).
+
+    Parameters
+    ----------
+    scheduler : str
+
+    Returns
+    -------
+    str
+        The address.
+
+    Raises
+    ------
+    StarkilnError
+        Another form.
+
+    References
+    ----------
+    Dask documentation: ``distributed.Client`` (scheduler addresses, comm protocols).
+    """
+    if not str(scheduler).startswith(("tcp://", "tls://", "inproc://")):
+        raise StarkilnError(f"scheduler {scheduler!r} not understood; accepted: "
+                            "tcp://HOST:PORT")
+    return scheduler
+
+@contextlib.contextmanager
+def dask_client(scheduler: str | None = None, n_workers: int | None = None,
+                processes: bool = True):
+    """A ``distributed.Client``: to a running scheduler, or to a new local cluster.
+
+    Parameters
+    ----------
+    scheduler : str, optional
+        Address ``tcp://HOST:PORT`` (or ``tls://``, ``inproc://``) of a running scheduler.
+    n_workers : int, optional
+        Without ``scheduler``: local workers, one thread each (default: one per core).
+    processes : bool
+        Local workers as processes on 127.0.0.1 (default) or threads in this process.
+
+    Yields
+    ------
+    distributed.Client
+        Closed (and the local cluster with it) when the block ends.
+
+    Raises
+    ------
+    StarkilnError
+        Dask is not installed, the address is not understood or not reachable.
+
+    References
+    ----------
+    Dask documentation: ``distributed.LocalCluster``, ``distributed.Client``.
+    """
+    try:
+        import dask  # noqa: F401
+        import dask.dataframe  # noqa: F401
+        from distributed import Client, LocalCluster
+    except ImportError:
+        raise StarkilnError("--engine dask needs Dask: install it with "
+                            "'pip install \"starkiln[cluster]\"' (dask[dataframe], distributed)"
+                            ) from None
+    if scheduler:
+        check_scheduler_address(scheduler)
+        try:
+            client = Client(scheduler, timeout="10s")
+        except (OSError, TimeoutError) as exc:
+            raise StarkilnError(f"cannot reach the Dask scheduler at {scheduler} "
+                                f"({first_line(exc)})") from None
+        cluster = None
+    else:
+        workers = n_workers or os.cpu_count() or 1
+        # Loopback only: worker processes talk over 127.0.0.1; thread workers in-process.
+        where = {"host": "127.0.0.1"} if processes else {}
+        cluster = LocalCluster(n_workers=workers, threads_per_worker=1, processes=processes,
+                               dashboard_address=None, **where)
+        client = Client(cluster)
+    try:
+        yield client
+    finally:
+        client.close()
+        if cluster is not None:
+            cluster.close()
 
 
 def write_part(frame, path: str, schema) -> np.ndarray:
@@ -121,14 +277,8 @@ def colour_catalogue_dask(input_spec, output, plan: CataloguePlan, *, overwrite:
     Dask documentation: ``dask.dataframe.read_parquet``, ``DataFrame.map_partitions``,
     ``distributed.LocalCluster``, ``distributed.Client``.
     """
-    import pyarrow.parquet as pq
-
     t0 = time.perf_counter()
-    files = input_files(input_spec)
-    for f in files:
-        if format_of(f, "input") != "parquet":
-            raise StarkilnError(f"{f}: --engine dask reads Parquet (a file, a folder or a "
-                                "glob of .parquet files)")
+    files = parquet_inputs(input_spec)
     output = Path(output)
     _check_output_folder(output, overwrite)
     refuse_same_file(files, output, folder_output=True)
@@ -137,81 +287,39 @@ def colour_catalogue_dask(input_spec, output, plan: CataloguePlan, *, overwrite:
                             "not a link (--force replaces a folder, never a link's target)")
     if output.exists():
         check_replaceable(output)
-    try:
-        schema_in = pq.read_schema(files[0])
-    except Exception as exc:
-        raise StarkilnError(f"{files[0]}: cannot read as Parquet ({first_line(exc)})") from None
+    schema_in, rows = parquet_schema_rows(files)
     schema = output_schema(schema_in, plan, str(files[0]))
-    rows = 0
-    for f in files:
-        try:
-            rows += pq.ParquetFile(f).metadata.num_rows
-        except Exception as exc:
-            raise StarkilnError(f"{f}: cannot read as Parquet ({first_line(exc)})") from None
     # One thread per partition on a worker: the workers are the parallelism.
     plan = dataclasses.replace(plan.for_rows(rows), threads=1)
-    for f in files[1:]:
-        try:
-            s = pq.read_schema(f)
-        except Exception as exc:
-            raise StarkilnError(f"{f}: cannot read as Parquet ({first_line(exc)})") from None
-        if not s.remove_metadata().equals(schema_in.remove_metadata()):
-            raise StarkilnError(f"{f}: its columns differ from those of {files[0]}; every "
-                                "file needs the same columns")
 
-    try:
+    with dask_client(scheduler, n_workers, processes) as client:
         import dask
         import dask.dataframe as dd
-        from distributed import Client, LocalCluster, as_completed
-    except ImportError:
-        raise StarkilnError("--engine dask needs Dask: install it with "
-                            "'pip install \"starkiln[cluster]\"' (dask[dataframe], distributed)"
-                            ) from None
+        from distributed import as_completed
 
-    if scheduler:
-        if not str(scheduler).startswith(("tcp://", "tls://", "inproc://")):
-            raise StarkilnError(f"scheduler {scheduler!r} not understood; accepted: "
-                                "tcp://HOST:PORT")
+        tmp = folder_beside(output)
         try:
-            client = Client(scheduler, timeout="10s")
-        except (OSError, TimeoutError) as exc:
-            raise StarkilnError(f"cannot reach the Dask scheduler at {scheduler} "
-                                f"({first_line(exc)})") from None
-        cluster = None
-    else:
-        workers = n_workers or os.cpu_count() or 1
-        # Loopback only: worker processes talk over 127.0.0.1; thread workers in-process.
-        where = {"host": "127.0.0.1"} if processes else {}
-        cluster = LocalCluster(n_workers=workers, threads_per_worker=1, processes=processes,
-                               dashboard_address=None, **where)
-        client = Client(cluster)
-    tmp = folder_beside(output)
-    try:
-        with dask.config.set({"dataframe.convert-string": False}):
-            kwargs = {"blocksize": blocksize} if blocksize else {}
-            ddf = dd.read_parquet([str(f) for f in files], dtype_backend="pyarrow",
-                                  index=False, **kwargs)
-            meta = colour_partition(ddf._meta, plan)
-            coloured = ddf.map_partitions(colour_partition, plan, meta=meta)
-            parts = coloured.to_delayed()
-        names = [f"part.{i:05d}.parquet" for i in range(len(parts))]
-        tasks = [dask.delayed(write_part)(p, str(tmp / name), schema)
-                 for name, p in zip(names, parts)]
-        futures = client.compute(tasks)
-        counts = np.zeros(len(STATUSES), dtype=np.int64)
-        with progress_bar(len(futures), progress, unit="part") as bar:
-            for fut in as_completed(futures):
-                counts += fut.result()
-                bar.update(1)
-        write_manifest(tmp, names, plan)
-        _replace_folder(tmp, output, overwrite)
-    except BaseException:
-        shutil.rmtree(tmp, ignore_errors=True)
-        raise
-    finally:
-        client.close()
-        if cluster is not None:
-            cluster.close()
+            with dask.config.set({"dataframe.convert-string": False}):
+                kwargs = {"blocksize": blocksize} if blocksize else {}
+                ddf = dd.read_parquet([str(f) for f in files], dtype_backend="pyarrow",
+                                      index=False, **kwargs)
+                meta = colour_partition(ddf._meta, plan)
+                coloured = ddf.map_partitions(colour_partition, plan, meta=meta)
+                parts = coloured.to_delayed()
+            names = [f"part.{i:05d}.parquet" for i in range(len(parts))]
+            tasks = [dask.delayed(write_part)(p, str(tmp / name), schema)
+                     for name, p in zip(names, parts)]
+            futures = client.compute(tasks)
+            counts = np.zeros(len(STATUSES), dtype=np.int64)
+            with progress_bar(len(futures), progress, unit="part") as bar:
+                for fut in as_completed(futures):
+                    counts += fut.result()
+                    bar.update(1)
+            write_manifest(tmp, names, plan)
+            _replace_folder(tmp, output, overwrite)
+        except BaseException:
+            shutil.rmtree(tmp, ignore_errors=True)
+            raise
     rows = int(counts.sum())
     return Summary(rows, status_counts(counts), time.perf_counter() - t0, str(output),
                    engine="dask", parts=len(tasks))

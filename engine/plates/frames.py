@@ -104,7 +104,10 @@ def parse_time(text: str):
     """
     import datetime
 
-    from astropy.time import Time
+    from starkiln.engine.catalogue.formats import astropy_guard
+
+    with astropy_guard():  # a stand-in matplotlib left by colour-science breaks astropy's probe
+        from astropy.time import Time
 
     raw = str(text).strip()
     accepted = "accepted: an ISO-8601 date and time, e.g. 2031-03-14T21:30:00 or 2031-03-14T21:30:00+08:00"
@@ -186,8 +189,11 @@ def plate_coordinates(ra_deg, dec_deg, *, site: Site | None = None, time=None,
         return ra, dec, np.ones(ra.shape, dtype=bool)
     if time is None:
         raise StarkilnError("--site needs --time (an ISO-8601 moment)")
-    import astropy.units as u
-    from astropy.coordinates import AltAz, EarthLocation, SkyCoord
+    from starkiln.engine.catalogue.formats import astropy_guard
+
+    with astropy_guard():
+        import astropy.units as u
+        from astropy.coordinates import AltAz, EarthLocation, SkyCoord
 
     location = EarthLocation.from_geodetic(lon=site.lon_deg * u.deg, lat=site.lat_deg * u.deg,
                                            height=site.height_m * u.m)

@@ -106,7 +106,8 @@ def plate_plan(plan, values: str):
 def make_plate(input_path, output_path, plan, spec, *, ra_column=None, dec_column=None,
                psf_sigma_px: float = 0.7, values: str = "display", site=None, moment=None,
                refraction: bool = False, below_horizon: str = "drop", overwrite: bool = False,
-               exr_type=None, log=None) -> PlateResult:
+               exr_type=None, engine: str = "local", scheduler=None, n_workers=None,
+               log=None) -> PlateResult:
     """Draw every star of a catalogue file into a plate and write it atomically.
 
     Parameters
@@ -134,8 +135,16 @@ def make_plate(input_path, output_path, plan, spec, *, ra_column=None, dec_colum
         Replace an existing ``output_path``.
     exr_type : {"half", "float"}, optional
         EXR channel type (None: float).
+    engine : {"local", "dask"}
+        ``dask``: ``input_path`` is a Parquet file, folder or glob; each partition is drawn
+        on a worker and the plates are summed on the cluster
+        (:func:`starkiln.engine.plates.dask_engine.draw_plate_dask`).
+    scheduler : str, optional
+        With ``dask``: a running scheduler's address (else a local cluster).
+    n_workers : int, optional
+        With ``dask`` and no scheduler: the local cluster's worker processes.
     log : callable, optional
-        Called with the column-choice line.
+        Called with the column-choice line (and, with dask, the partition count).
 
     Returns
     -------
@@ -171,7 +180,14 @@ def make_plate(input_path, output_path, plan, spec, *, ra_column=None, dec_colum
     else:
         check_plate_memory(spec.width_px, spec.height_px)
     check_writable(output_path, overwrite)
-    ra_col, dec_col, line = radec_columns(column_names(input_path), ra_column, dec_column)
+    if engine not in ("local", "dask"):
+        raise StarkilnError(f"--engine {engine!r} unknown; accepted: local, dask")
+    names_from = input_path
+    if engine == "dask":
+        from starkiln.engine.catalogue.dask_engine import parquet_inputs
+
+        names_from = parquet_inputs(input_path)[0]
+    ra_col, dec_col, line = radec_columns(column_names(names_from), ra_column, dec_column)
     if log is not None:
         log(line)
     frame_kw = {} if site is None else dict(site=site, time=moment, refraction=refraction,
@@ -180,9 +196,19 @@ def make_plate(input_path, output_path, plan, spec, *, ra_column=None, dec_colum
                      dtype=np.float32)
     counts: dict = {}
     names = list(dict.fromkeys([ra_col, dec_col, *plan.input_columns]))
-    for _, chunk in plate_chunks(input_path, plan, names):
-        draw_chunk(image, plan, chunk, ra_col, dec_col, spec, psf_sigma_px=psf_sigma_px,
-                   values=values, frame=frame_kw, counts=counts)
+    if engine == "dask":
+        from starkiln.engine.plates.dask_engine import draw_plate_dask
+
+        _, n_parts = draw_plate_dask(image, input_path, plan, names, ra_col, dec_col, spec,
+                                     counts=counts, scheduler=scheduler, n_workers=n_workers,
+                                     psf_sigma_px=psf_sigma_px, values=values, frame=frame_kw)
+        if log is not None:
+            log(f"{n_parts} partition{'s' * (n_parts != 1)} drawn on the cluster, summed "
+                "there (tree reduction)")
+    else:
+        for _, chunk in plate_chunks(input_path, plan, names):
+            draw_chunk(image, plan, chunk, ra_col, dec_col, spec, psf_sigma_px=psf_sigma_px,
+                       values=values, frame=frame_kw, counts=counts)
     frame = {"frame": "equatorial" if site is None else "horizon"}
     if site is not None:
         frame.update(site=site.text(), time=moment.isot, refraction=bool(refraction),

@@ -237,14 +237,14 @@ def plate_chunks(path, plan, names, chunk_rows=1 << 17):
     if fmt in ("csv", "parquet"):
         source = StreamSource([path], fmt, plan, chunk_rows)
         all_names = list(source.schema.names)
-        _check_names(all_names, names, path)
+        check_names(all_names, names, path)
         for batch in source.batches():
             yield all_names, {n: arrow_values(batch.column(n)) for n in names}
         return
     with astropy_guard():
         table = read_astropy(path, fmt)
     all_names = list(table.colnames)
-    _check_names(all_names, names, path)
+    check_names(all_names, names, path)
     values = {n: numpy_values(table[n]) for n in names}
     rows = len(table)
     for start in range(0, rows, chunk_rows):
@@ -253,7 +253,9 @@ def plate_chunks(path, plan, names, chunk_rows=1 << 17):
                           for k, (v, m) in values.items()}
 
 
-def _check_names(all_names, names, path):
+def check_names(all_names, names, path):
+    """Raise a one-line :class:`StarkilnError` naming the first of ``names`` missing from
+    ``all_names`` (the columns of ``path``) and the columns found."""
     missing = [n for n in names if n not in all_names]
     if missing:
         raise StarkilnError(f"{path}: no column {missing[0]!r}; accepted: one of "
