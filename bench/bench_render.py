@@ -11,6 +11,10 @@ Prints, in one run and side by side:
    night / colour-only render time. Goal: <= 2x.
 3. Cold start of ``starkiln colour --temperature 5800 --json`` against a bare
    ``python -c "import colour"``, median of several runs. Goal: < 0.6.
+4. The path of the light: the night render of the same grids with a fixed path (the
+   settings' E(B-V) 0.3 and altitude 30 degrees) against no path, per star. Goal: no more
+   cost (ratio <= 1.1x, the timing noise of a shared machine). And, for the record, 262 144
+   stars each with its own E(B-V) (64 distinct values) and altitude (90 distinct values).
 
 Usage: ``python bench/bench_render.py [--quick]``.
 """
@@ -88,6 +92,18 @@ def main() -> None:
     t_lut_night = best_of(lambda: render(settings, row[None, :], mags_col).rgb_encoded, repeats)
     t_distinct_night = best_of(lambda: render(settings, distinct, mags_distinct).rgb_encoded,
                                repeats)
+    path_settings = Settings(dust_ebv=0.3, altitude_deg=30.0)
+    render(path_settings, row[:8], 1.0)  # warm the path's transmission cache
+    t_lut_path = best_of(lambda: render(path_settings, row[None, :], mags_col).rgb_encoded,
+                         repeats)
+    t_distinct_path = best_of(lambda: render(path_settings, distinct, mags_distinct).rgb_encoded,
+                              repeats)
+    rng = np.random.default_rng(1)
+    ebv_levels = rng.integers(0, 64, (h, w)) * (1.0 / 64.0)
+    alt_levels = rng.integers(0, 90, (h, w)) + 0.5
+    t_per_star = best_of(lambda: render(settings, lut_grid, mags_distinct, dust_ebv=ebv_levels,
+                                        altitude_deg=alt_levels).rgb_encoded,
+                         max(1, repeats // 3))
     per_sample = colour_science_per_sample(100 if args.quick else 300)
     t_ref = per_sample * w * h
 
@@ -104,6 +120,15 @@ def main() -> None:
           f"{t_lut_night / t_lut:>9.2f}x")
     print(f"{'(b) 262144 distinct (T, m) pairs':<44}{t_distinct:>12.4f}{t_distinct_night:>14.4f}"
           f"{t_distinct_night / t_distinct:>9.2f}x")
+    print()
+    print(f"{'path of the light (night render)':<44}{'no path s':>12}{'fixed path s':>14}{'ratio':>10}")
+    print(f"{'(a) 1024 temps x 256 magnitudes':<44}{t_lut_night:>12.4f}{t_lut_path:>14.4f}"
+          f"{t_lut_path / t_lut_night:>9.2f}x")
+    print(f"{'(b) 262144 distinct (T, m) pairs':<44}{t_distinct_night:>12.4f}"
+          f"{t_distinct_path:>14.4f}{t_distinct_path / t_distinct_night:>9.2f}x")
+    print(f"{'(c) 262144 stars, own E(B-V) and altitude':<44}{t_lut_night:>12.4f}"
+          f"{t_per_star:>14.4f}{t_per_star / t_lut_night:>9.2f}x  "
+          f"({w * h / t_per_star / 1e6:.2f} M stars/s)")
     print()
     runs = 5 if args.quick else 9
     starkiln = [sys.executable, "-m", "starkiln", "colour", "--temperature", "5800", "--json"]
@@ -125,6 +150,12 @@ def main() -> None:
             ("render_night_distinct", "night vision added, 262 144 distinct (T, m) pairs",
              t_distinct_night, "s", t_distinct, "colour only", t_distinct_night / t_distinct,
              "x the colour-only time"),
+            ("render_path_texture", "fixed path (E(B-V) 0.3, altitude 30), 1024 x 256 night",
+             t_lut_path, "s", t_lut_night, "no path", t_lut_path / t_lut_night,
+             "x the no-path time"),
+            ("render_path_distinct", "fixed path, 262 144 distinct (T, m) pairs, night",
+             t_distinct_path, "s", t_distinct_night, "no path", t_distinct_path / t_distinct_night,
+             "x the no-path time"),
             ("cli_cold_start", "cold `starkiln colour --temperature 5800 --json`", t_cli, "s",
              t_colour, "`import colour` alone", t_cli / t_colour, "x the `import colour` time")):
         print(f'RESULT name={name} goal="{goal}" value={value:.4g} unit={unit} '

@@ -108,7 +108,10 @@ def cmd_colour(args, out) -> int:
         "in_gamut": bool(r.in_gamut),
         "settings": {"observer": settings.observer, "scene_white": settings.scene_white,
                      "adaptation": settings.adaptation, "display": settings.display.name,
-                     "gamut": settings.gamut, "normalisation": settings.normalisation},
+                     "gamut": settings.gamut, "normalisation": settings.normalisation,
+                     **path_settings(settings)},
+        "extinction_mag": (None if r.extinction_mag is None
+                           else round(float(r.extinction_mag), 6)),
     }
     if source is not None:
         record["source"] = source
@@ -163,6 +166,9 @@ def cmd_colour(args, out) -> int:
         rows += [("full colour", f"{full.hex()}  (encoded {enc.format(*full.rgb_encoded)})"),
                  (f"at magnitude {record['magnitude']:g}",
                   f"{record['hex']}  (encoded {enc.format(*record['rgb_encoded'])})")]
+    if r.extinction_mag is not None:
+        rows.append(("path of the light", f"{path_summary(settings)}: "
+                                          f"+{record['extinction_mag']:.3f} mag in V"))
     rows += [
         ("inside gamut", "yes" if record["in_gamut"] else
          (f"no (mapped by {settings.gamut})" if settings.gamut != "none" else "no (kept as is)")),
@@ -173,6 +179,24 @@ def cmd_colour(args, out) -> int:
     for k, v in rows:
         out.write(f"{k:<{width}}  {v}\n")
     return 0
+
+
+def path_settings(settings) -> dict:
+    """The path-of-light fields of the settings, as the JSON outputs report them."""
+    from starkiln.engine.pipeline.settings import PATH_KEYS
+
+    return {key: getattr(settings, key) for key in PATH_KEYS}
+
+
+def path_summary(settings) -> str:
+    """One line on the path of the light: the dust and the air that were applied."""
+    parts = []
+    if settings.dust_ebv > 0.0:
+        parts.append(f"E(B-V) {settings.dust_ebv:g} ({settings.dust_law}, R_V "
+                     f"{settings.dust_rv:g})")
+    if settings.altitude_deg is not None:
+        parts.append(f"altitude {settings.altitude_deg:g} deg from {settings.site_height_m:g} m")
+    return ", ".join(parts) or "none"
 
 
 def cmd_whites(args, out) -> int:

@@ -91,6 +91,30 @@ def add_colour_options(p: argparse.ArgumentParser) -> None:
     v.add_argument("--compensate", action=argparse.BooleanOptionalAction, default=None,
                    help="pre-boost chroma for a dark dome at the display's peak luminance "
                         "(--no-compensate: off, the default)")
+    a = p.add_argument_group("path of the light (default: none, the star outside dust and air)")
+    dust_amount = a.add_mutually_exclusive_group()
+    dust_amount.add_argument("--ebv", dest="dust_ebv", type=number, metavar="E",
+                             help="interstellar reddening E(B-V), mag, 0-10 (default 0)")
+    dust_amount.add_argument("--av", dest="dust_av", type=number, metavar="A",
+                             help="interstellar extinction A_V, mag (E(B-V) = A_V / R_V)")
+    a.add_argument("--rv", dest="dust_rv", type=number, metavar="R",
+                   help="R_V = A_V / E(B-V) (default 3.1; G23 2.3-5.6, F99 and CCM89 2.0-6.0)")
+    a.add_argument("--dust-law", dest="dust_law", metavar="LAW",
+                   help="G23 (default, Gordon et al. 2023), F99 or CCM89")
+    air = a.add_mutually_exclusive_group()
+    air.add_argument("--altitude", dest="altitude_deg", type=number, metavar="DEG",
+                     help="the stars' apparent altitude, 0 (horizon) to 90 (zenith): turns on "
+                          "the atmosphere (default: none)")
+    air.add_argument("--no-atmosphere", action="store_true", default=None,
+                     help="no atmosphere: clears an altitude from --settings")
+    a.add_argument("--site-height", dest="site_height_m", type=number, metavar="M",
+                   help="site height above sea level, m, -500 to 11000 (default 0)")
+    a.add_argument("--aerosol-tau", dest="aerosol_tau550", type=number, metavar="TAU",
+                   help="aerosol optical depth at 550 nm, 0-5 (default 0.05, a clear site)")
+    a.add_argument("--angstrom", dest="angstrom_exponent", type=number, metavar="ALPHA",
+                   help="aerosol Angstrom exponent, -1 to 4 (default 1.3)")
+    a.add_argument("--ozone", dest="ozone_du", type=number, metavar="DU",
+                   help="ozone column, Dobson units, 0-1000 (default 300)")
 
 
 #: Every settings field -> its command-line option (the argparse ``dest`` is the option's
@@ -103,7 +127,12 @@ SETTING_OPTIONS = {
     "blur_spot_arcmin": "--blur-spot-arcmin", "intensity_curve": "--intensity-curve",
     "magnitude_bright": "--magnitude-bright", "magnitude_faint": "--magnitude-faint",
     "night_tint": "--night-tint", "compensate": "--compensate",
+    "dust_ebv": "--ebv", "dust_rv": "--rv", "dust_law": "--dust-law",
+    "altitude_deg": "--altitude", "site_height_m": "--site-height",
+    "aerosol_tau550": "--aerosol-tau", "angstrom_exponent": "--angstrom", "ozone_du": "--ozone",
 }
+#: Options that set a field another way: ``--av`` gives ``dust_ebv = A_V / R_V``.
+ALTERNATIVE_OPTIONS = {"dust_ebv": "--av", "altitude_deg": "--no-atmosphere"}
 _DESTS = {"scene_white": "white"}
 
 
@@ -119,7 +148,24 @@ def settings_from_args(args) -> "Settings":
             changes[key] = value
     if getattr(args, "naked_eye", None):
         changes["aperture_mm"] = None
+    if getattr(args, "no_atmosphere", None):
+        changes["altitude_deg"] = None
+    av = getattr(args, "dust_av", None)
+    if av is not None:
+        changes["dust_ebv"] = _ebv_from_av(av, changes, base)
     return base.replace(**changes) if changes else base
+
+
+def _ebv_from_av(av: float, changes: dict, base: "Settings") -> float:
+    """E(B-V) = A_V / R_V for ``--av`` (R_V checked for the law first, so a bad R_V is named
+    as such); a negative A_V is refused here, naming ``--av``."""
+    from starkiln.engine.path.dust import check_dust_law, check_rv
+
+    if av < 0.0:
+        raise StarkilnError(f"--av {av:g} is negative; accepted: A_V >= 0 mag")
+    law = check_dust_law(changes.get("dust_law", base.dust_law))
+    rv = check_rv(changes.get("dust_rv", base.dust_rv), law, "--rv")
+    return av / rv
 
 
 #: The command that prints one star's colour (:mod:`starkiln.cli.colour`).
@@ -196,6 +242,8 @@ def command_words_for(settings: "Settings", temperature_K: float, magnitude=None
             words += [option, str(Path(display_profile))]
         elif key == "aperture_mm" and value is None:
             words.append("--naked-eye")
+        elif key == "altitude_deg" and value is None:
+            words.append("--no-atmosphere")
         elif key == "compensate":
             words.append("--compensate" if value else "--no-compensate")
         else:

@@ -164,3 +164,25 @@ def shown_value(value) -> str:
     if isinstance(value, (bool, np.bool_)):
         return "true" if value else "false"
     return repr(value)
+
+
+def values_in_range(values, lo: float, hi: float, message, error: type = None) -> np.ndarray:
+    """``values`` as float64 if all are finite and within [lo, hi]; else ``error`` with
+    ``message(v)``, the one-line text for the first bad value ``v``.
+
+    The one array range check of the engine (magnitudes, E(B-V), altitudes).
+
+    References
+    ----------
+    [IEEE754] (finite: neither infinite nor NaN; common practice).
+
+    Examples
+    --------
+    >>> values_in_range([1.0, 2.0], 0.0, 5.0, lambda v: f"{v:g} is out").tolist()
+    [1.0, 2.0]
+    """
+    a = np.asarray(values, dtype=np.float64)
+    bad = ~np.isfinite(a) | (a < lo) | (a > hi)
+    if np.any(bad):
+        raise (error or InputRangeError)(message(a[bad].flat[0]))
+    return a

@@ -251,6 +251,14 @@ EVERY_FIELD = {
     "magnitude_faint": (["--magnitude-faint", "8"], 8.0),
     "night_tint": (["--night-tint", "0.4"], 0.4),
     "compensate": (["--compensate"], True),
+    "dust_ebv": (["--ebv", "0.2"], 0.2),
+    "dust_rv": (["--rv", "4.0"], 4.0),
+    "dust_law": (["--dust-law", "F99"], "F99"),
+    "altitude_deg": (["--altitude", "35"], 35.0),
+    "site_height_m": (["--site-height", "1500"], 1500.0),
+    "aerosol_tau550": (["--aerosol-tau", "0.12"], 0.12),
+    "angstrom_exponent": (["--angstrom", "0.8"], 0.8),
+    "ozone_du": (["--ozone", "280"], 280.0),
 }
 
 
@@ -261,10 +269,10 @@ def test_every_settings_field_has_an_option_and_a_docs_line():
     write = sub._subparsers._group_actions[0].choices["write"]
     options = {s for a in write._actions for s in a.option_strings}
     assert {v[0][0] for v in EVERY_FIELD.values()} <= options
-    assert {"--naked-eye", "--no-compensate"} <= options
+    assert {"--naked-eye", "--no-compensate", "--no-atmosphere", "--av"} <= options
     docs = (ROOT / "docs" / "formats.md").read_text(encoding="utf-8")
     example = docs.split("## Settings files (TOML)", 1)[1].split("```toml", 1)[1].split("```")[0]
-    keys = set(re.findall(r"^#?\s*([A-Za-z_]+)\s*=", example, flags=re.M)) | {"display"}
+    keys = set(re.findall(r"^#?\s*([A-Za-z_][A-Za-z0-9_]*)\s*=", example, flags=re.M)) | {"display"}
     assert fields <= keys, fields - keys
 
 

@@ -56,7 +56,8 @@ def test_every_settings_field_is_written_out():
     names = {f.name for f in dataclasses.fields(Settings)}
     assert names <= set(SETTING_OPTIONS)
     for key, option in SETTING_OPTIONS.items():
-        spelled = {"aperture_mm": "--naked-eye", "compensate": "--no-compensate"}.get(key, option)
+        spelled = {"aperture_mm": "--naked-eye", "compensate": "--no-compensate",
+                   "altitude_deg": "--no-atmosphere"}.get(key, option)
         assert spelled in words, key
 
 

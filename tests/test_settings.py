@@ -40,14 +40,14 @@ def test_toml_round_trip(tmp_path, settings):
     assert hash(again) == hash(settings)
     # The file is plain TOML 1.0 with the format version (read by the standard library).
     data = tomllib.loads(path.read_text(encoding="utf-8"))
-    assert data["starkiln_settings"] == SETTINGS_FORMAT == 1
+    assert data["starkiln_settings"] == SETTINGS_FORMAT == 2
     assert data["observer"] == settings.observer
     assert data["display"]["white_xy"] == list(settings.display.white_xy)
 
 
 def test_toml_text_has_version_first():
     text = settings_to_toml(Settings())
-    assert text.splitlines()[0].replace(" ", "") == "starkiln_settings=1"
+    assert text.splitlines()[0].replace(" ", "") == "starkiln_settings=2"
     assert tomllib.loads(text)["display"]["name"] == "srgb"
 
 
@@ -110,7 +110,7 @@ def _write(tmp_path, text, name="bad.toml"):
      'green_xy = [0.3, 0.6]\nblue_xy = [0.15, 0.06]\nwhite_xy = [0.3127, 0.329]\n',
      "key 'display'"),
     ('starkiln_settings = 1\n[display]\nname = "x"\nshine = 3\n', "key 'display'"),
-    ('starkiln_settings = 2\n', "starkiln_settings = 2"),             # wrong version
+    ('starkiln_settings = 3\n', "starkiln_settings = 3"),             # unknown version
 ])
 def test_bad_settings_files_name_file_and_key(tmp_path, text, expected):
     # Contract: one line, naming the file and the key (and the bad value where there is one).

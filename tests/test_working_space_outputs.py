@@ -64,6 +64,11 @@ def test_display_renders_are_unchanged():
             continue
         disp, gamut, what = key.split("|")
         if what not in ("enc", "lin"):
+            # The night renders of that commit used one zero point (E0) for every colour; the
+            # brightness now comes from each star's spectrum (issue 15, item 3), which moves
+            # every night luminance by a few per cent by design. The night chain is checked
+            # against CIE 191 and the CALSPEC Vega illuminance in test_vision.py and
+            # test_path.py; here the colour renders stay pinned.
             continue
         r = render(Settings(display=disp, gamut=gamut, scene_white="D50"), t)
         got = r.rgb_encoded if what == "enc" else r.rgb_linear

@@ -242,10 +242,11 @@ def luminous_efficacy_lm_W(temperature_K) -> np.ndarray:
 _CHUNK = 512  # temperatures per block: 512 x 471 doubles = 1.9 MB, stays in cache
 
 
-def planck_weighted_sums(temperature_K, weights, wavelength_nm=None) -> np.ndarray:
+def planck_weighted_sums(temperature_K, weights, wavelength_nm=None,
+                         transmission=None) -> np.ndarray:
     """Sums of Planck spectra against weighting functions, without storing the spectra.
 
-    Computes ``sum_lambda L(lambda, T) w_k(lambda) * d_lambda`` for every
+    Computes ``sum_lambda L(lambda, T) t(lambda) w_k(lambda) * d_lambda`` for every
     temperature, in cache-sized blocks, with the ``2 h c^2 / lambda^5`` factor
     folded into the weights so that each sample costs one ``expm1`` and one
     reciprocal. Blocks are shared between two threads (numpy releases the GIL
@@ -259,6 +260,10 @@ def planck_weighted_sums(temperature_K, weights, wavelength_nm=None) -> np.ndarr
         (N, K) weighting functions on the wavelength grid (e.g. CMFs, V, V').
     wavelength_nm : array_like, optional
         (N,) uniform grid in nm; default 360-830 nm at 1 nm.
+    transmission : array_like, optional
+        A transmission ``t`` on the grid (the path of the light): (N,) for every temperature
+        (folded into the weights: no extra cost per temperature), or (M, N) with one row per
+        temperature (M = ``temperature_K.size``, in flat order). None: ``t = 1``.
 
     Returns
     -------
@@ -277,6 +282,13 @@ def planck_weighted_sums(temperature_K, weights, wavelength_nm=None) -> np.ndarr
     w2 = w if w.ndim == 2 else w[:, None]
     first, a = _planck_factors(wl_m)  # L = first / expm1(a / T): fold first into the weights
     folded = w2 * (first * step_m)[:, None]
+    rows = None
+    if transmission is not None:
+        tr = np.asarray(transmission, dtype=np.float64)
+        if tr.ndim == 1:
+            folded = folded * tr[:, None]
+        else:
+            rows = tr.reshape(-1, wl_nm.size)
     inv_t = 1.0 / t.reshape(-1)
     out = np.empty((inv_t.size, w2.shape[1]))
 
@@ -285,6 +297,8 @@ def planck_weighted_sums(temperature_K, weights, wavelength_nm=None) -> np.ndarr
         with np.errstate(over="ignore"):
             np.expm1(x, out=x)
         np.reciprocal(x, out=x)
+        if rows is not None:
+            x *= rows[start:start + _CHUNK]
         out[start:start + _CHUNK] = x @ folded
 
     starts = range(0, inv_t.size, _CHUNK)

@@ -2,17 +2,19 @@
 
 The model, in order (all vectorised):
 
-1. **Illuminance at the eye** from the apparent visual magnitude m_V:
-   ``E_v = E0 * 10^(-0.4 m_V) * tau * (D / d)^2`` lux, with ``d`` the
+1. **Illuminance at the eye** from the apparent magnitude m:
+   ``E_v = E_0 * 10^(-0.4 m) * tau * (D / d)^2`` lux, with ``d`` the
    dark-adapted pupil (7 mm by default, common practice), ``D`` the instrument
    aperture and ``tau`` its transmission (naked eye: ``D = d``, ``tau = 1``).
    The aperture gain is therefore ``5 log10(D / d)`` magnitudes.
-   ``E0 = 2.54e-6 lx`` is the illuminance of a zero-magnitude star outside the
-   atmosphere as P. Schlyter's "Radiometry and photometry in astronomy" tables
-   it [Schlyter].
-   Published values differ by tens of percent: 2.1e-6 lx where 1 lx is taken
-   as m = -14.18, 2.6e-6 lx elsewhere; that shifts every magnitude threshold
-   below by up to ~0.2 mag.
+   ``E_0``, the illuminance of a magnitude-0 star, comes from each star's own
+   (arriving) spectrum through V(lambda), normalised by the V band with the Vega
+   zero point (:mod:`starkiln.engine.eye.brightness`; the render path passes it
+   to :func:`photopic_illuminance_lux`). The single ``E0_LUX = 2.54e-6 lx`` of
+   P. Schlyter's "Radiometry and photometry in astronomy" [Schlyter] is kept as
+   that function's default and for reference: published single values differ
+   by tens of percent (2.1e-6 to 2.6e-6 lx), and the CALSPEC Vega spectrum gives
+   about 2.6 % more than 2.54e-6 lx.
 2. **Rod and cone signals**: the V band is taken as photopic (V(lambda)), so
    ``E_v`` is the photopic illuminance; the scotopic illuminance is
    ``E_s = E_v * S/P`` with the star's scotopic-to-photopic ratio
@@ -91,7 +93,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from starkiln.engine.errors import InputRangeError
+from starkiln.engine.errors import InputRangeError, values_in_range
 
 #: Illuminance of a zero-magnitude (V) star outside the atmosphere, lux ([Schlyter];
 #: other published values 2.1e-6 to 2.6e-6, see the module docstring).
@@ -117,13 +119,9 @@ _ARCMIN_RAD = np.pi / (180.0 * 60.0)
 
 def check_magnitude(magnitude) -> np.ndarray:
     """Validate apparent magnitudes: finite and within -30..+30; raise :class:`InputRangeError`."""
-    m = np.asarray(magnitude, dtype=np.float64)
     lo, hi = MAGNITUDE_RANGE
-    bad = ~np.isfinite(m) | (m < lo) | (m > hi)
-    if np.any(bad):
-        v = m[bad].flat[0]
-        raise InputRangeError(f"magnitude {v:g} is outside the accepted range {lo:g} to +{hi:g}")
-    return m
+    return values_in_range(magnitude, lo, hi, lambda v: f"magnitude {v:g} is outside the "
+                                                       f"accepted range {lo:g} to +{hi:g}")
 
 
 def aperture_gain(aperture_mm, pupil_mm: float = 7.0, transmission: float = 1.0):
@@ -143,12 +141,17 @@ def blur_spot_solid_angle_sr(blur_spot_arcmin: float) -> float:
     return np.pi * r * r
 
 
-def photopic_illuminance_lux(magnitude, gain=1.0) -> np.ndarray:
+def photopic_illuminance_lux(magnitude, gain=1.0, zero_point_lux=E0_LUX) -> np.ndarray:
     """Photopic illuminance at the eye of a star of visual magnitude ``m``: ``E0 10^(-0.4 m) gain``.
+
+    ``zero_point_lux`` is the illuminance at magnitude 0: the render path passes each star's
+    own, from its spectrum (:mod:`starkiln.engine.eye.brightness`); the default is the single
+    E0 of [Schlyter].
 
     References: [Schlyter] for E0 (see the module docstring); [Pogson1856].
     """
-    return E0_LUX * np.exp(-0.4 * np.log(10.0) * np.asarray(magnitude, dtype=np.float64)) * gain
+    return (zero_point_lux * np.exp(-0.4 * np.log(10.0) * np.asarray(magnitude, dtype=np.float64))
+            * gain)
 
 
 def mesopic_cie191(photopic_cd_m2, scotopic_cd_m2, iterations: int = 400):

@@ -22,6 +22,20 @@ the largest channel is 1, or the luminance is ``luminance_Y``), and step 6 is th
 
 Temperatures are de-duplicated first, so a lookup grid of W temperatures x H
 rows costs W spectra, not W x H.
+
+The path of the light (:mod:`starkiln.engine.path`): the spectrum of step 1 is the one that
+reaches the eye, ``Planck(T) x T_dust x T_air``. With the settings' fixed path the
+transmission multiplies the weighting functions once per settings object (no extra cost per
+star, still one spectrum per temperature); with per-star ``dust_ebv`` / ``altitude_deg``
+arrays the distinct (T, E(B-V), altitude) triples are rendered, each with its own
+transmission, in blocks. With no path (the defaults) the chain is exactly the one above.
+``Rendered.extinction_mag`` holds what the path adds in magnitudes (synthetic photometry of
+the arriving minus the emitted spectrum, :mod:`starkiln.engine.colour.photometry`).
+
+Brightness (with magnitudes): the illuminance at the eye comes from the star's own arriving
+spectrum through V(lambda) and V'(lambda), normalised by the magnitude's band with the Vega
+zero point (:mod:`starkiln.engine.eye.brightness`); the magnitude given is the star's outside
+the path.
 """
 
 from __future__ import annotations
@@ -73,6 +87,9 @@ class Rendered:
     compensation_reached : (...,) with ``compensate``, whether the saturation the dome audience
         perceives is within 1 % of the intended one and the colour fits the gamut (None
         otherwise; :func:`starkiln.engine.eye.vision.perceived_saturation`).
+    extinction_mag : (...,) magnitudes the path of the light adds (dust and air), by synthetic
+        photometry in the band of the magnitudes (V unless ``magnitude_band="G"``); None
+        with no path. The magnitude at the eye is ``magnitude + extinction_mag``.
     Night-vision fields are None without magnitudes.
     """
 
@@ -89,6 +106,7 @@ class Rendered:
     cone_weight: np.ndarray | None = None
     saturation: np.ndarray | None = None
     compensation_reached: np.ndarray | None = None
+    extinction_mag: np.ndarray | None = None
     #: Encoded values when the render already has them; otherwise computed on first use.
     encoded_: np.ndarray | None = field(default=None, repr=False, compare=False)
     dimmed_encoded_: np.ndarray | None = field(default=None, repr=False, compare=False)
@@ -202,7 +220,8 @@ def _chain(settings: Settings) -> _Chain:
     return _Chain(to_rgb, to_d65 @ disp.rgb_to_XYZ, disp.rgb_to_XYZ[1].copy())
 
 
-def render(settings: Settings, temperature_K, magnitude=None) -> Rendered:
+def render(settings: Settings, temperature_K, magnitude=None, *, dust_ebv=None,
+           altitude_deg=None, magnitude_band: str = "V") -> Rendered:
     """Display colours of stars: the single render path of Starkiln.
 
     Parameters
@@ -216,7 +235,16 @@ def render(settings: Settings, temperature_K, magnitude=None) -> Rendered:
         (e.g. temperatures (1, W) and magnitudes (H, 1) give (H, W) colours). With
         magnitudes the night-vision model of :mod:`starkiln.engine.eye.vision` applies (unless
         ``settings.vision == "none"``); without, every star is at full colour and
-        intensity 1.
+        intensity 1. The magnitude is the star's outside the path of the light.
+    dust_ebv : array_like, optional
+        Per-star E(B-V), mag, 0-10, broadcast against ``temperature_K``; overrides
+        ``settings.dust_ebv`` (law and R_V from the settings).
+    altitude_deg : array_like, optional
+        Per-star apparent altitudes, 0-90 degrees, broadcast against ``temperature_K``;
+        overrides ``settings.altitude_deg`` (site and air from the settings).
+    magnitude_band : ``V`` (default) or ``G``
+        The band of ``magnitude``: Johnson V, or Gaia G (the brightness is then normalised
+        through the G band, :mod:`starkiln.engine.eye.brightness`).
 
     Returns
     -------
@@ -226,8 +254,9 @@ def render(settings: Settings, temperature_K, magnitude=None) -> Rendered:
     Raises
     ------
     starkiln.engine.errors.InputRangeError
-        A temperature that is not finite or outside 500-100 000 K, or a magnitude
-        that is not finite or outside -30..+30.
+        A temperature that is not finite or outside 500-100 000 K, a magnitude
+        that is not finite or outside -30..+30, a per-star E(B-V) or altitude out of range,
+        or an unknown magnitude band.
 
     References
     ----------
@@ -240,41 +269,202 @@ def render(settings: Settings, temperature_K, magnitude=None) -> Rendered:
     >>> str(render(Settings(), 6504.0).hex())
     '#fff9fe'
     """
+    from starkiln.engine.eye.brightness import check_magnitude_band
+    from starkiln.engine.path.chain import has_path
+
     t = check_temperature(temperature_K)
     mag = None if magnitude is None else nv.check_magnitude(magnitude)
+    band = check_magnitude_band(magnitude_band)
+    stars = None
+    if has_path(settings, dust_ebv, altitude_deg):
+        stars = _StarPath.of(settings, t, dust_ebv, altitude_deg, band)
+        t = stars.temperature_K
     size = t.size if mag is None else int(np.prod(np.broadcast_shapes(t.shape, mag.shape)))
     if size < _BLAS_SINGLE_FROM:
-        return _render_colour(settings, t) if mag is None else _render_night(settings, t, mag)
+        return (_render_colour(settings, t, stars) if mag is None
+                else _render_night(settings, t, mag, stars, band))
     from threadpoolctl import threadpool_limits
 
     # OpenBLAS splits even (n x 3) @ (3 x 3) products over threads and is then ~6x slower
     # here than on one; the engine parallelises its own blocks instead.
     with threadpool_limits(limits=1, user_api="blas"):
-        return _render_colour(settings, t) if mag is None else _render_night(settings, t, mag)
+        return (_render_colour(settings, t, stars) if mag is None
+                else _render_night(settings, t, mag, stars, band))
 
 
-def _per_temperature(settings: Settings, t_flat: np.ndarray, with_sp: bool):
-    """Steps 1-5 once per distinct temperature: (unique, inverse, XYZ, rgb, in_gamut, S/P).
+@dataclass(frozen=True)
+class _StarPath:
+    """The path of the light for one render: fixed (settings) or per star (arrays).
 
-    With ``with_sp`` the same spectral pass also integrates V and V' for the S/P ratio.
+    ``temperature_K`` is broadcast against the per-star arrays; ``ebv`` and ``alt`` are None
+    for the settings' fixed path, else flat arrays of that shape (``alt`` None: no air).
     """
-    unique, inverse = np.unique(t_flat, return_inverse=True)
-    sp_u = None
-    if with_sp:
-        weights = np.concatenate([cmfs(settings.observer), v_photopic()[:, None],
-                                  v_scotopic()[:, None]], axis=1)
-        sums = planck_weighted_sums(unique, weights)
-        XYZ_u = sums[:, :3] / sums[:, 1:2]
-        sp_u = _sp(sums[:, 3], sums[:, 4])
+
+    temperature_K: np.ndarray
+    ebv: np.ndarray | None
+    alt: np.ndarray | None
+    band: str
+
+    @classmethod
+    def of(cls, settings, t, dust_ebv, altitude_deg, band):
+        from starkiln.engine.path import atmosphere as atm
+        from starkiln.engine.path import dust
+
+        if dust_ebv is None and altitude_deg is None:
+            return cls(t, None, None, band)
+        ebv = (np.asarray(settings.dust_ebv) if dust_ebv is None
+               else dust.check_ebv(dust_ebv, "dust_ebv", error=InputRangeError))
+        alt = (None if altitude_deg is None
+               else atm.check_altitude(altitude_deg, error=InputRangeError))
+        if alt is None and settings.altitude_deg is not None:
+            alt = np.asarray(settings.altitude_deg)
+        arrays = [t, ebv] + ([alt] if alt is not None else [])
+        shape = np.broadcast_shapes(*(a.shape for a in arrays))
+        flat = [np.ascontiguousarray(np.broadcast_to(a, shape), dtype=np.float64).reshape(-1)
+                for a in arrays]
+        return cls(flat[0].reshape(shape), flat[1], flat[2] if alt is not None else None, band)
+
+
+_PATH_ROWS = 8192  # distinct (T, E(B-V), altitude) per block of per-star transmissions
+#: (8192 rows x 471 samples: a 31 MB transmission block, and two threads in the Planck sums)
+
+
+def _band_columns(band: str):
+    """The band of the magnitudes as weights: on the colour grid when its response lies inside
+    it (V: one more column of the colour pass, no second spectral pass), else None."""
+    from starkiln.engine.colour.cie_data import wavelengths_nm
+    from starkiln.engine.eye.brightness import band_support
+
+    wl_b, w_b, _ = band_support(band)
+    colour_wl = wavelengths_nm()
+    if wl_b[0] < colour_wl[0] or wl_b[-1] > colour_wl[-1]:
+        return None
+    out = np.zeros(colour_wl.size)
+    lo = int(round(wl_b[0] - colour_wl[0]))
+    out[lo:lo + w_b.size] = w_b
+    return out
+
+
+def _spectral_sums(settings: Settings, t_u: np.ndarray, weights: np.ndarray, band: str,
+                   stars: "_StarPath | None", ebv_u=None, alt_u=None):
+    """Sums of the arriving spectra of distinct stars against the colour-grid ``weights``, and
+    the band integrals of the magnitudes' band: (sums (M, K), emitted (M,), arriving (M,) or
+    None without a path).
+
+    One spectral pass where it can be: the V band lies inside the colour grid, so its integral
+    is one more column; the settings' fixed path multiplies the weights once.
+    """
+    from starkiln.engine.colour import photometry as ph
+    from starkiln.engine.colour.cie_data import wavelengths_nm
+    from starkiln.engine.eye.brightness import band_support
+    from starkiln.engine.path.chain import path_transmission
+
+    k = weights.shape[1]
+    on_colour = _band_columns(band)
+    wl_b, w_b, sl_b = band_support(band)
+
+    def band_pass(t, transmission=None):
+        return planck_weighted_sums(t, w_b, wl_b, transmission=transmission)
+
+    if stars is None:
+        if on_colour is None:
+            return planck_weighted_sums(t_u, weights), band_pass(t_u), None
+        sums = planck_weighted_sums(t_u, np.column_stack([weights, on_colour]))
+        return sums[:, :k], sums[:, k], None
+    cols = weights if on_colour is None else np.column_stack([weights, on_colour])
+    grid = ph.PHOTOMETRY_GRID_NM
+    lo = int(np.searchsorted(grid, wavelengths_nm()[0]))
+    sl_c = slice(lo, lo + weights.shape[0])
+    if ebv_u is None:  # the settings' fixed path: fold it into the weights once
+        tr = path_transmission(settings, grid)
+        if on_colour is None:
+            sums = planck_weighted_sums(t_u, weights, transmission=tr[sl_c])
+            return sums, band_pass(t_u), band_pass(t_u, tr[sl_b])
+        tr_c = tr[sl_c]
+        sums = planck_weighted_sums(t_u, np.column_stack([weights * tr_c[:, None],
+                                                          on_colour * tr_c, on_colour]))
+        return sums[:, :k], sums[:, k + 1], sums[:, k]
+    # Per-star values: one transmission row per distinct star, in blocks.
+    t_only, back = np.unique(t_u, return_inverse=True)
+    # The emitted band integral depends on the temperature alone: the same pass as without a
+    # path (so that a transmission of 1 gives exactly the plain render).
+    emitted = (band_pass(t_only) if on_colour is None
+               else planck_weighted_sums(t_only, cols)[:, k])[back.reshape(-1)]
+    sums = np.empty((t_u.size, cols.shape[1]))
+    arriving = np.empty(t_u.size)
+    tr_grid = grid if on_colour is None else wavelengths_nm()  # V: the colour grid suffices
+    if on_colour is not None:
+        sl_c = slice(0, tr_grid.size)
+    for start in range(0, t_u.size, _PATH_ROWS):
+        sl = slice(start, start + _PATH_ROWS)
+        alt_sl = None if alt_u is None else alt_u[sl]
+        tr = path_transmission(settings, tr_grid, ebv_u[sl], alt_sl)
+        sums[sl] = planck_weighted_sums(t_u[sl], cols, transmission=tr[:, sl_c])
+        if on_colour is None:
+            arriving[sl] = band_pass(t_u[sl], tr[:, sl_b])
+    if on_colour is not None:
+        arriving = sums[:, k]
+    return sums[:, :k], emitted, arriving
+
+
+@dataclass(frozen=True)
+class _Distinct:
+    """Steps 1-5 once per distinct star (temperature, or (T, E(B-V), altitude) triple)."""
+
+    temperature_K: np.ndarray  # (M,) the temperature of each distinct star
+    inverse: np.ndarray  # (n,) index of each star's distinct entry
+    XYZ: np.ndarray
+    rgb: np.ndarray
+    in_gamut: np.ndarray
+    sp: np.ndarray | None = None  # S/P of the arriving light (with magnitudes)
+    zero_point_lux: np.ndarray | None = None  # photopic lux at magnitude 0 (with magnitudes)
+    extinction_mag: np.ndarray | None = None  # what the path adds (None: no path)
+
+
+def _per_temperature(settings: Settings, t_flat: np.ndarray, with_sp: bool,
+                     stars: "_StarPath | None" = None, band: str = "V") -> _Distinct:
+    """Steps 1-5 once per distinct temperature (and path): a :class:`_Distinct`.
+
+    With ``with_sp`` the same spectral pass also integrates V and V' for the S/P ratio and the
+    brightness. With a path, the sums are those of the arriving spectrum.
+    """
+    ebv_u = alt_u = None
+    if stars is not None and stars.ebv is not None:
+        cols = [t_flat, stars.ebv] + ([stars.alt] if stars.alt is not None else [])
+        keys, inverse = np.unique(np.stack(cols, axis=1), axis=0, return_inverse=True)
+        inverse = inverse.reshape(-1)
+        unique, ebv_u = keys[:, 0].copy(), keys[:, 1].copy()
+        alt_u = keys[:, 2].copy() if stars.alt is not None else None
     else:
+        unique, inverse = np.unique(t_flat, return_inverse=True)
+    sp_u = e0_u = ext_u = None
+    if stars is None and not with_sp:
         XYZ_u = blackbody_XYZ(unique, settings.observer)
+    else:
+        weights = cmfs(settings.observer)
+        if with_sp:
+            weights = np.concatenate([weights, v_photopic()[:, None], v_scotopic()[:, None]],
+                                     axis=1)
+        sums, emitted, arriving = _spectral_sums(settings, unique, weights, band, stars,
+                                                 ebv_u, alt_u)
+        if arriving is not None:
+            with np.errstate(divide="ignore"):
+                ext_u = -2.5 * np.log10(arriving / emitted)
+        XYZ_u = sums[:, :3] / sums[:, 1:2]
+        if with_sp:
+            from starkiln.engine.eye.brightness import zero_point_lux
+
+            sp_u = _sp(sums[:, 3], sums[:, 4])
+            e0_u = zero_point_lux(sums[:, 3], emitted, band)
     rgb_u, ok_u = _display_rgb(settings, XYZ_u)
-    return unique, inverse, XYZ_u, rgb_u, ok_u, sp_u
+    return _Distinct(unique, inverse, XYZ_u, rgb_u, ok_u, sp_u, e0_u, ext_u)
 
 
-def _render_colour(settings: Settings, t: np.ndarray) -> Rendered:
+def _render_colour(settings: Settings, t: np.ndarray, stars: "_StarPath | None" = None
+                   ) -> Rendered:
     """Full colour per temperature (no magnitudes): steps 1-6 of the chain."""
-    _, inverse, XYZ_u, rgb_u, ok_u, _ = _per_temperature(settings, t.reshape(-1), False)
+    d = _per_temperature(settings, t.reshape(-1), False, stars)
+    inverse, XYZ_u, rgb_u, ok_u = d.inverse, d.XYZ, d.rgb, d.in_gamut
     enc_u = encode_for(settings.display, rgb_u)
     shape = t.shape
     XYZ = XYZ_u[inverse].reshape(shape + (3,))
@@ -287,6 +477,8 @@ def _render_colour(settings: Settings, t: np.ndarray) -> Rendered:
         in_gamut=ok_u[inverse].reshape(shape),
         intensity=np.ones(shape),
         display=settings.display,
+        extinction_mag=(None if d.extinction_mag is None
+                        else d.extinction_mag[inverse].reshape(shape)),
         encoded_=encoded,
         dimmed_encoded_=encoded,
     )
@@ -322,14 +514,18 @@ _NIGHT_CHUNK = 65536  # stars per block of the night-vision pass (a few MB per a
 _BLAS_SINGLE_FROM = 4096  # from this many stars, render with single-threaded BLAS
 
 
-def _render_night(settings: Settings, t: np.ndarray, mag: np.ndarray) -> Rendered:
+def _render_night(settings: Settings, t: np.ndarray, mag: np.ndarray,
+                  stars: "_StarPath | None" = None, band: str = "V") -> Rendered:
     """Colour and brightness at night: the chain plus :mod:`starkiln.engine.eye.vision`, broadcast T x m.
 
     The spectral work runs once per distinct temperature; the per-star vision work runs in
     blocks of ``_NIGHT_CHUNK`` stars on two threads (numpy releases the GIL in its kernels).
     """
     shape = np.broadcast_shapes(t.shape, mag.shape)
-    unique, inverse, XYZ_u, rgb_u, ok_u, sp_u = _per_temperature(settings, t.reshape(-1), True)
+    d = _per_temperature(settings, t.reshape(-1), True, stars, band)
+    unique, inverse, XYZ_u, rgb_u, ok_u, sp_u = (d.temperature_K, d.inverse, d.XYZ, d.rgb,
+                                                 d.in_gamut, d.sp)
+    e0_u, ext_u = d.zero_point_lux, d.extinction_mag
     chain = _chain(settings)
     lab_u = XYZ_to_Oklab(rgb_u @ chain.rgb_to_XYZ_D65.T)
     idx = np.broadcast_to(inverse.reshape(t.shape), shape).reshape(-1)
@@ -341,7 +537,8 @@ def _render_night(settings: Settings, t: np.ndarray, mag: np.ndarray) -> Rendere
 
     def block(start: int) -> None:
         sl = slice(start, start + _NIGHT_CHUNK)
-        res = _night_block(settings, chain, m_flat[sl], sp_u[idx[sl]], lab_u[idx[sl]])
+        res = _night_block(settings, chain, m_flat[sl], sp_u[idx[sl]], lab_u[idx[sl]],
+                           e0_u[idx[sl]], None if ext_u is None else ext_u[idx[sl]])
         for key, value in res.items():
             out[key][sl] = value
 
@@ -373,16 +570,22 @@ def _render_night(settings: Settings, t: np.ndarray, mag: np.ndarray) -> Rendere
         cone_weight=grid(out["cone"]),
         saturation=grid(out["sat"]),
         compensation_reached=grid(out["reached"]) if settings.compensate else None,
+        extinction_mag=None if ext_u is None else grid(ext_u[idx]),
     )
 
 
-def _night_block(settings: Settings, chain: "_Chain", mag, sp, lab) -> dict:
-    """Night-vision steps for one block of stars (1-D arrays): see :mod:`starkiln.engine.eye.vision`."""
+def _night_block(settings: Settings, chain: "_Chain", mag, sp, lab, e0, ext=None) -> dict:
+    """Night-vision steps for one block of stars (1-D arrays): see :mod:`starkiln.engine.eye.vision`.
+
+    ``e0`` is each star's illuminance at magnitude 0 from its own arriving spectrum
+    (:mod:`starkiln.engine.eye.brightness`); ``ext`` what the path adds in magnitudes (None:
+    no path), so that the magnitude at the eye is ``mag + ext``.
+    """
     gain = nv.aperture_gain(settings.aperture_mm, settings.pupil_mm, settings.transmission)
     omega = nv.blur_spot_solid_angle_sr(settings.blur_spot_arcmin)
-    lp = nv.photopic_illuminance_lux(mag, gain) / omega
+    lp = nv.photopic_illuminance_lux(mag, gain, e0) / omega
     cone, lmes = nv.mesopic_cie191(lp, lp * sp)
-    m_eye = mag - 2.5 * np.log10(gain)
+    m_eye = (mag if ext is None else mag + ext) - 2.5 * np.log10(gain)
     if settings.vision == "mesopic":
         sat = nv.saturation_from_cone_weight(cone)
         m_eff = m_eye - 2.5 * np.log10(lmes / lp)
@@ -613,7 +816,11 @@ def same_stars_in(settings: Settings, rendered: Rendered) -> np.ndarray:
     shape = rendered.rgb_linear.shape
     t_flat = np.asarray(rendered.temperature_K, dtype=np.float64).reshape(-1)
     XYZ_flat = np.asarray(rendered.XYZ, dtype=np.float64).reshape(-1, 3)
-    _, first, inverse = np.unique(t_flat, return_index=True, return_inverse=True)
+    if rendered.extinction_mag is None:
+        _, first, inverse = np.unique(t_flat, return_index=True, return_inverse=True)
+    else:  # with a path of the light the same temperature may arrive as different light
+        _, first, inverse = np.unique(XYZ_flat, axis=0, return_index=True, return_inverse=True)
+        inverse = inverse.reshape(-1)
     rgb_u, _ = _display_rgb(settings, XYZ_flat[first])
     if rendered.magnitude is None:
         return rgb_u[inverse].reshape(shape)

@@ -3,7 +3,7 @@
 Every output path receives a :class:`Settings`; nothing else carries colour
 options. TOML layout (``starkiln_settings`` is the format version)::
 
-    starkiln_settings = 1
+    starkiln_settings = 2
     observer = "cie1931"
     scene_white = "D65"
     adaptation = "bradford"
@@ -20,6 +20,14 @@ options. TOML layout (``starkiln_settings`` is the format version)::
     magnitude_faint = 6.5
     night_tint = 0.0
     compensate = false
+    dust_ebv = 0.0             # the path of the light (format 2): see the class docstring
+    dust_rv = 3.1
+    dust_law = "G23"
+    # altitude_deg = 30.0      # absent = no atmosphere
+    site_height_m = 0.0
+    aerosol_tau550 = 0.05
+    angstrom_exponent = 1.3
+    ozone_du = 300.0
 
     [display]            # or: display = "srgb"  (a preset name)
     name = "srgb"
@@ -39,8 +47,13 @@ target's default (:func:`starkiln.engine.colour.gamut.default_gamut_method`): ``
 display, as format 1 always meant, and ``none`` (no mapping, values outside 0-1 kept) for a
 working space. A display target's file still says ``gamut = "chroma"`` (so files for displays
 are unchanged); a working-space target's file names the gamut only when one was asked for.
-``none`` is refused for a display. The format stays 1: the keys are the same, and every file
-an earlier version wrote reads as it did.
+``none`` is refused for a display.
+
+Format 2 adds the path of the light (``dust_*``, ``altitude_deg``, ``site_height_m``,
+``aerosol_tau550``, ``angstrom_exponent``, ``ozone_du``; :mod:`starkiln.engine.path`). Files
+of format 1 are still read, each of those fields at its default (no dust, no atmosphere), so
+they render exactly as before; a format-1 file that names one of the new keys is refused
+(format 1 has no such key). Files are always written as format 2.
 """
 
 from __future__ import annotations
@@ -59,7 +72,9 @@ from starkiln.engine.colour.observers import check_observer
 from starkiln.engine.eye.vision import INTENSITY_CURVES, VISIONS
 from starkiln.engine.colour.whites import check_adaptation, normalise_white_spec
 
-SETTINGS_FORMAT = 1
+SETTINGS_FORMAT = 2
+#: Every format this version reads (format 1: no path-of-light keys).
+READABLE_FORMATS = (1, 2)
 NORMALISATIONS = ("max-channel", "luminance")
 #: Accepted instrument apertures and transmissions. With the pupil (1-9 mm), the blur spot
 #: (0.1-60 arcmin) and magnitudes -30..+30, every image luminance within these bounds stays a
@@ -110,6 +125,23 @@ class Settings:
     night_tint : 0 (neutral, default) to 1: cool tint of the colourless night percept
         (a rendering convention, not physics).
     compensate : pre-boost chroma for viewing on a dark dome at the display's peak luminance.
+
+    The path of the light (:mod:`starkiln.engine.path`; none by default, and then every output
+    is as without it):
+
+    dust_ebv : interstellar colour excess E(B-V), mag, 0-10 (0: no dust).
+    dust_rv : R_V = A_V / E(B-V), 3.1 by default, within the law's range
+        (:func:`starkiln.engine.path.dust.rv_range`: G23 2.3-5.6, F99 and CCM89 2.0-6.0).
+    dust_law : ``G23`` (default, [Gordon2023]), ``F99`` ([Fitzpatrick1999]) or ``CCM89``
+        ([Cardelli1989]), through the dust-extinction package.
+    altitude_deg : apparent altitude of the stars, 0 (horizon) to 90 (zenith) degrees, or None
+        (default) for no atmosphere (the star as seen from outside the air).
+    site_height_m : height of the site above sea level, m, -500 to 11000 (scales the
+        Rayleigh depth by the pressure, [USSA1976]).
+    aerosol_tau550 : aerosol optical depth at 550 nm, 0-5 (default 0.05, a clear site;
+        common practice).
+    angstrom_exponent : Angstrom exponent of the aerosol, -1 to 4 (default 1.3; common practice).
+    ozone_du : ozone column, Dobson units, 0-1000 (default 300; common practice).
     """
 
     observer: str = "cie1931"
@@ -129,6 +161,14 @@ class Settings:
     magnitude_faint: float = 6.5
     night_tint: float = 0.0
     compensate: bool = False
+    dust_ebv: float = 0.0
+    dust_rv: float = 3.1
+    dust_law: str = "G23"
+    altitude_deg: float | None = None
+    site_height_m: float = 0.0
+    aerosol_tau550: float = 0.05
+    angstrom_exponent: float = 1.3
+    ozone_du: float = 300.0
 
     def __post_init__(self):
         for name in _TEXT_KEYS:
@@ -154,6 +194,28 @@ class Settings:
             raise SettingsError(f"luminance_Y {y:g} is outside the accepted range 0 < Y <= 1")
         object.__setattr__(self, "luminance_Y", y)
         self._check_vision()
+        self._check_path()
+
+    def _check_path(self):
+        """Validate the path-of-light fields (ranges in the class docstring)."""
+        from starkiln.engine.path import atmosphere as atm
+        from starkiln.engine.path import dust
+
+        set_ = object.__setattr__
+        set_(self, "dust_law", dust.check_dust_law(self.dust_law))
+        set_(self, "dust_rv", dust.check_rv(self.dust_rv, self.dust_law))
+        ebv = finite_number(self.dust_ebv, "dust_ebv")
+        set_(self, "dust_ebv", float(dust.check_ebv(ebv)))
+        if self.altitude_deg is not None:
+            alt = finite_number(self.altitude_deg, "altitude_deg")
+            set_(self, "altitude_deg", float(atm.check_altitude(alt)))
+        set_(self, "site_height_m", _bounded(self.site_height_m, "site_height_m",
+                                             *atm.SITE_HEIGHT_RANGE_M))
+        set_(self, "aerosol_tau550", _bounded(self.aerosol_tau550, "aerosol_tau550",
+                                              *atm.AEROSOL_TAU_RANGE))
+        set_(self, "angstrom_exponent", _bounded(self.angstrom_exponent, "angstrom_exponent",
+                                                 *atm.ANGSTROM_RANGE))
+        set_(self, "ozone_du", _bounded(self.ozone_du, "ozone_du", *atm.OZONE_DU_RANGE))
 
     def _check_gamut(self):
         """Resolve ``gamut``: the target's default when None; ``none`` only for working spaces."""
@@ -264,15 +326,20 @@ class Settings:
                                 f"{plain_type_name(data)}")
         version = data.get("starkiln_settings", SETTINGS_FORMAT)
         if (isinstance(version, bool) or not isinstance(version, int)
-                or version != SETTINGS_FORMAT):
+                or version not in READABLE_FORMATS):
             raise SettingsError(f"{source}: starkiln_settings = {shown_value(version)} is not "
                                 "supported; "
-                                f"accepted: {SETTINGS_FORMAT}")
+                                f"accepted: {', '.join(map(str, READABLE_FORMATS))}")
         names = [f.name for f in dataclasses.fields(cls)]
+        if version == 1:  # format 1 has no path of the light: those fields keep their defaults
+            names = [n for n in names if n not in PATH_KEYS]
         kwargs = {}
         for key, value in data.items():
             if key == "starkiln_settings":
                 continue
+            if key not in names and key in PATH_KEYS:
+                raise SettingsError(f"{source}: key {key!r} is not part of settings format 1; "
+                                    "accepted: starkiln_settings = 2 for the path of the light")
             if key not in names:
                 raise SettingsError(f"{source}: unknown key {key!r}; accepted: "
                                     f"{', '.join(sorted(names + ['starkiln_settings']))}")
@@ -286,9 +353,14 @@ class Settings:
 
 #: The kind of each settings key in a file: text, number or true/false (display: text or table).
 _TEXT_KEYS = ("observer", "scene_white", "adaptation", "gamut", "normalisation", "vision",
-              "intensity_curve")
+              "intensity_curve", "dust_law")
 _NUMBER_KEYS = ("luminance_Y", "pupil_mm", "aperture_mm", "transmission", "blur_spot_arcmin",
-                "magnitude_bright", "magnitude_faint", "night_tint")
+                "magnitude_bright", "magnitude_faint", "night_tint", "dust_ebv", "dust_rv",
+                "altitude_deg", "site_height_m", "aerosol_tau550", "angstrom_exponent",
+                "ozone_du")
+#: The keys format 2 added: the path of the light.
+PATH_KEYS = ("dust_ebv", "dust_rv", "dust_law", "altitude_deg", "site_height_m",
+             "aerosol_tau550", "angstrom_exponent", "ozone_du")
 _EXAMPLES = {"scene_white": "text such as 'D65' or 'xy:0.3127,0.3290'"}
 
 
