@@ -22,6 +22,11 @@ def add_parsers(sub) -> None:
                      help="dereddened Gaia BP-RP colour index")
     src.add_argument("--spectral-class", metavar="CLASS", help="main-sequence class, e.g. G2V")
     add_index_model_option(c)
+    c.add_argument("--deredden", action="store_true",
+                   help="the --bv or --bp-rp given is observed and already holds the dust of "
+                        "--ebv/--av: remove it (synthetic photometry of the matched "
+                        "blackbody) and show the star as it would be without the dust (the "
+                        "dust is not applied again)")
     c.add_argument("--magnitude", type=number, metavar="M",
                    help="apparent visual magnitude: turns on the night-vision model")
     c.add_argument("--json", action="store_true", help="print one JSON object")
@@ -47,8 +52,37 @@ def add_parsers(sub) -> None:
         q.add_argument("--force", action="store_true", help="overwrite OUT if it exists")
 
 
-def _temperature_from_args(args) -> tuple[float, dict | None]:
-    """The temperature to render and, for a colour index or class, what it came from."""
+def _dust_given(args, settings) -> bool:
+    """Whether a dust column was named (``--ebv``, ``--av`` or the settings file's)."""
+    return (getattr(args, "dust_ebv", None) is not None
+            or getattr(args, "dust_av", None) is not None or settings.dust_ebv > 0.0)
+
+
+def _deredden_source(args, settings) -> tuple[dict, float, "object"]:
+    """For ``--deredden``: what the JSON reports, the intrinsic index (rendered as
+    ``--bv``/``--bp-rp`` would be) and the settings to render with (the same without the
+    dust: it is already removed)."""
+    from starkiln.engine.path.deredden import intrinsic_index
+
+    if args.bv is None and args.bp_rp is None:
+        raise StarkilnError("--deredden applies only to an observed --bv or --bp-rp, not to "
+                            "--temperature or --spectral-class")
+    if not _dust_given(args, settings):
+        raise StarkilnError("--deredden needs the dust the observed colour holds; accepted: "
+                            "--ebv E or --av A (or dust_ebv in --settings)")
+    index, observed = ("B-V", args.bv) if args.bv is not None else ("BP-RP", args.bp_rp)
+    ebv = settings.dust_ebv
+    intrinsic = float(intrinsic_index(index, observed, ebv, law=settings.dust_law,
+                                      rv=settings.dust_rv))
+    dereddening = {"observed": observed, "intrinsic": round(intrinsic, 6),
+                   "excess_mag": round(observed - intrinsic, 6), "dust_ebv": ebv,
+                   "dust_law": settings.dust_law, "dust_rv": settings.dust_rv}
+    return dereddening, intrinsic, settings.replace(dust_ebv=0.0)
+
+
+def _temperature_from_args(args, intrinsic=None) -> tuple[float, dict | None]:
+    """The temperature to render and, for a colour index or class, what it came from
+    (``intrinsic``: the dereddened index that replaces ``--bv``/``--bp-rp``)."""
     from starkiln.engine.stars import temperature as st
 
     if args.temperature is not None:
@@ -64,6 +98,8 @@ def _temperature_from_args(args) -> tuple[float, dict | None]:
                    "effective_temperature_K":
                        st.temperature_from_spectral_class(args.spectral_class)}
     index, value = ("B-V", args.bv) if args.bv is not None else ("BP-RP", args.bp_rp)
+    if intrinsic is not None:
+        value = round(intrinsic, 6)  # as reported; the render is the same within 1e-6 mag
     t = float(st.temperature_from_index(value, index, model))
     status = ("bluer-than-blackbody" if model == "synthetic"
               and value < st.blackbody_blue_limit(index) else "ok")
@@ -81,11 +117,19 @@ def _source_rows(source: dict | None, temperature: float) -> list:
         return [("temperature", f"{temperature:.0f} K ({how})"),
                 ("effective temperature", f"{source['effective_temperature_K']:.0f} K "
                                           f"({source['spectral_class']}, mean dwarf table)")]
+    shown = (f"intrinsic {source['index']} {source['value']:.3f}" if "dereddening" in source
+             else f"{source['index']} {source['value']:g}")
     if source["index_model"] == "relation":
-        how = f"effective temperature of {source['index']} {source['value']:g}, relation model"
+        how = f"effective temperature of {shown}, relation model"
     else:
-        how = f"blackbody of {source['index']} {source['value']:g}, synthetic model"
+        how = f"blackbody of {shown}, synthetic model"
     rows = [("temperature", f"{temperature:.0f} K ({how})")]
+    d = source.get("dereddening")
+    if d is not None:
+        rows.append(("dereddened", f"observed {source['index']} {d['observed']:g} - excess "
+                                   f"{d['excess_mag']:.3f} = intrinsic {d['intrinsic']:.3f} "
+                                   f"(E(B-V) {d['dust_ebv']:g}, {d['dust_law']}, R_V "
+                                   f"{d['dust_rv']:g}; the dust is not applied again)"))
     if source["status"] == "bluer-than-blackbody":
         rows.append(("note", f"{source['index']} {source['value']:g} is bluer than the "
                              "100 000 K blackbody: shown at 100 000 K"))
@@ -97,7 +141,12 @@ def cmd_colour(args, out) -> int:
     from starkiln.engine.pipeline.render import render
 
     settings = settings_from_args(args)
-    temperature, source = _temperature_from_args(args)
+    dereddening = intrinsic = None
+    if args.deredden:  # the observed colour holds the dust: remove it, render without it
+        dereddening, intrinsic, settings = _deredden_source(args, settings)
+    temperature, source = _temperature_from_args(args, intrinsic)
+    if dereddening is not None:
+        source["dereddening"] = dereddening
     r = render(settings, temperature, args.magnitude)
     record = {
         "temperature_K": float(r.temperature_K),
