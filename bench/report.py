@@ -45,6 +45,7 @@ SCRIPTS = [
     ("icc", "bench_icc.py", []),
     ("png-icc", "bench_png_icc.py", []),
     ("plates", "bench_plates.py", []),
+    ("deredden", "bench_deredden.py", []),
 ]
 
 
@@ -132,7 +133,7 @@ def merge_rows(doc: str, scripts: list[str], results: list[tuple[str, dict]], no
 def main(argv=None) -> int:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--only", default="", help="comma list of script keys "
-                    "(render, lut, gui, catalogue, palette, working-spaces); default all: "
+                    "(render, lut, gui, catalogue, palette, working-spaces, deredden ...); default all: "
                     "with --only, the other scripts' rows are kept")
     ap.add_argument("--dry-run", action="store_true", help="print the table, do not write it")
     args = ap.parse_args(argv)
