@@ -17,9 +17,10 @@ def add_parsers(sub) -> None:
                        description="Print the display colour of one star.")
     src = c.add_mutually_exclusive_group(required=True)
     src.add_argument("--temperature", type=number, metavar="K", help="effective temperature, K")
-    src.add_argument("--bv", type=number, metavar="B-V", help="Johnson B-V colour index")
+    src.add_argument("--bv", type=number, metavar="B-V",
+                     help="Johnson B-V colour index (intrinsic; observed with --deredden)")
     src.add_argument("--bp-rp", type=number, metavar="BP-RP",
-                     help="dereddened Gaia BP-RP colour index")
+                     help="Gaia BP-RP colour index (intrinsic; observed with --deredden)")
     src.add_argument("--spectral-class", metavar="CLASS", help="main-sequence class, e.g. G2V")
     add_index_model_option(c)
     c.add_argument("--deredden", action="store_true",
