@@ -8,8 +8,9 @@ astropy, pyarrow and dask are loaded only when the command runs.
 
 from __future__ import annotations
 
-from starkiln.cli.options import (add_colour_options, add_index_model_option, number,
-                                  positive_int, settings_from_args)
+from starkiln.cli.options import (add_colour_options, add_deredden_option,
+                                  add_index_model_option, deredden_dust, number, positive_int,
+                                  settings_from_args)
 from starkiln.engine.errors import StarkilnError
 
 
@@ -33,6 +34,7 @@ def add_parsers(sub) -> None:
                    help="dereddened Gaia BP-RP (see --index-model); also the colour for "
                         "--magnitude-band G")
     add_index_model_option(c)
+    add_deredden_option(c, "--bv-column or --bp-rp-column")
     c.add_argument("--extrapolate-bp-rp", action="store_true",
                    help="with --index-model relation: colour BP-RP outside the calibrated "
                         "0.39-1.50 (up to -0.5..5.0) as status 'extrapolated' (appearance only)")
@@ -120,12 +122,19 @@ def plan_from_args(args, settings):
     magnitude = args.magnitude
     if magnitude is not None and args.magnitude_column is not None:
         raise StarkilnError("give --magnitude-column or --magnitude, not both")
+    deredden_ebv = None
+    if getattr(args, "deredden", False):  # observed colours hold the dust: remove it first
+        if source == "temperature":
+            raise StarkilnError("--deredden applies only to an observed --bv-column or "
+                                "--bp-rp-column, not to --temperature-column")
+        deredden_ebv, settings = deredden_dust(args, settings)
     return CataloguePlan(
         settings=settings, source=source, source_column=column,
         magnitude_column=args.magnitude_column, magnitude_band=band,
         bp_rp_column=args.bp_rp_column, magnitude=magnitude,
         extrapolate_bp_rp=args.extrapolate_bp_rp, exact=args.exact, prefix=args.prefix,
-        linear_columns=args.linear_columns or (), index_model=args.index_model)
+        linear_columns=args.linear_columns or (), index_model=args.index_model,
+        deredden_ebv=deredden_ebv)
 
 
 def cmd_catalogue(args, out) -> int:
@@ -142,6 +151,10 @@ def cmd_catalogue(args, out) -> int:
                             "packages)") from None
     for line in summary.lines():
         out.write(line + "\n")
+    if plan.deredden_ebv is not None:
+        s = plan.settings
+        out.write(f"dereddened: E(B-V) {plan.deredden_ebv:g} ({s.dust_law}, R_V {s.dust_rv:g}) "
+                  "removed from the observed colours; the dust is not applied again\n")
     return 0
 
 

@@ -7,7 +7,8 @@ from __future__ import annotations
 
 import json
 
-from starkiln.cli.options import add_colour_options, add_index_model_option, number, settings_from_args
+from starkiln.cli.options import (add_colour_options, add_deredden_option, add_index_model_option,
+                                  deredden_dust, number, settings_from_args)
 from starkiln.engine.errors import StarkilnError
 
 
@@ -23,11 +24,7 @@ def add_parsers(sub) -> None:
                      help="Gaia BP-RP colour index (intrinsic; observed with --deredden)")
     src.add_argument("--spectral-class", metavar="CLASS", help="main-sequence class, e.g. G2V")
     add_index_model_option(c)
-    c.add_argument("--deredden", action="store_true",
-                   help="the --bv or --bp-rp given is observed and already holds the dust of "
-                        "--ebv/--av: remove it (synthetic photometry of the matched "
-                        "blackbody) and show the star as it would be without the dust (the "
-                        "dust is not applied again)")
+    add_deredden_option(c, "--bv or --bp-rp given")
     c.add_argument("--magnitude", type=number, metavar="M",
                    help="apparent visual magnitude: turns on the night-vision model")
     c.add_argument("--json", action="store_true", help="print one JSON object")
@@ -53,12 +50,6 @@ def add_parsers(sub) -> None:
         q.add_argument("--force", action="store_true", help="overwrite OUT if it exists")
 
 
-def _dust_given(args, settings) -> bool:
-    """Whether a dust column was named (``--ebv``, ``--av`` or the settings file's)."""
-    return (getattr(args, "dust_ebv", None) is not None
-            or getattr(args, "dust_av", None) is not None or settings.dust_ebv > 0.0)
-
-
 def _deredden_source(args, settings) -> tuple[dict, float, "object"]:
     """For ``--deredden``: what the JSON reports, the intrinsic index (rendered as
     ``--bv``/``--bp-rp`` would be) and the settings to render with (the same without the
@@ -68,17 +59,14 @@ def _deredden_source(args, settings) -> tuple[dict, float, "object"]:
     if args.bv is None and args.bp_rp is None:
         raise StarkilnError("--deredden applies only to an observed --bv or --bp-rp, not to "
                             "--temperature or --spectral-class")
-    if not _dust_given(args, settings):
-        raise StarkilnError("--deredden needs the dust the observed colour holds; accepted: "
-                            "--ebv E or --av A (or dust_ebv in --settings)")
+    ebv, plain = deredden_dust(args, settings)
     index, observed = ("B-V", args.bv) if args.bv is not None else ("BP-RP", args.bp_rp)
-    ebv = settings.dust_ebv
     intrinsic = float(intrinsic_index(index, observed, ebv, law=settings.dust_law,
                                       rv=settings.dust_rv))
     dereddening = {"observed": observed, "intrinsic": round(intrinsic, 6),
                    "excess_mag": round(observed - intrinsic, 6), "dust_ebv": ebv,
                    "dust_law": settings.dust_law, "dust_rv": settings.dust_rv}
-    return dereddening, intrinsic, settings.replace(dust_ebv=0.0)
+    return dereddening, intrinsic, plain
 
 
 def _temperature_from_args(args, intrinsic=None) -> tuple[float, dict | None]:

@@ -168,6 +168,31 @@ def _ebv_from_av(av: float, changes: dict, base: "Settings") -> float:
     return av / rv
 
 
+def add_deredden_option(p, what: str) -> None:
+    """Add ``--deredden``: the colour index given (``what``) is observed and holds the dust."""
+    p.add_argument("--deredden", action="store_true",
+                   help=f"the {what} is observed and already holds the dust of --ebv/--av: "
+                        "remove it (synthetic photometry of the matched blackbody) and show "
+                        "the star as it would be without the dust (the dust is not applied "
+                        "again)")
+
+
+def deredden_dust(args, settings: "Settings") -> tuple[float, "Settings"]:
+    """For ``--deredden``: the E(B-V) to remove and the settings to render with (the same
+    without the dust); a one-line error when no dust was named.
+
+    References
+    ----------
+    :mod:`starkiln.engine.path.deredden` (the method).
+    """
+    given = (getattr(args, "dust_ebv", None) is not None
+             or getattr(args, "dust_av", None) is not None or settings.dust_ebv > 0.0)
+    if not given:
+        raise StarkilnError("--deredden needs the dust the observed colour holds; accepted: "
+                            "--ebv E or --av A (or dust_ebv in --settings)")
+    return settings.dust_ebv, settings.replace(dust_ebv=0.0)
+
+
 #: The command that prints one star's colour (:mod:`starkiln.cli.colour`).
 COLOUR_COMMAND = ("starkiln", "colour")
 

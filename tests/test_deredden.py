@@ -202,3 +202,70 @@ def test_cli_json_reports_observed_intrinsic_and_excess(capsys, vega_zero):
     plain = json.loads(capsys.readouterr()[0])
     assert plain["hex"] == rec["hex"]
     assert abs(plain["temperature_K"] / 6000.0 - 1.0) < 0.02  # Planck1901: the blackbody back
+
+
+# --- catalogues -----------------------------------------------------------------------------
+
+def _read_csv(path):
+    import csv
+
+    with open(path, newline="") as f:
+        return list(csv.DictReader(f))
+
+
+@pytest.mark.parametrize("exact", [False, True])
+def test_catalogue_deredden_colours_the_intrinsic_indices(tmp_path, capsys, vega_zero, exact):
+    # Blackbodies reddened in the test (dust-extinction G23, E(B-V) 0.35) and measured with
+    # speclite: dereddened by the catalogue, each row has the colour of its blackbody's own
+    # speclite B-V given without dust (within one 8-bit step, 1/255: the catalogue's
+    # acceptance check). One row too blue for the dust, one empty.
+    pytest.importorskip("pyarrow")
+    temps = [3300.0, 4800.0, 6200.0, 9000.0, 18000.0]
+    ebv = 0.35
+    obs = [float(speclite_raw_index("B-V", WAVE_A, blackbody_flux(t) * g23_extinguish(ebv))
+                 + vega_zero["B-V"]) for t in temps]
+    own = [float(speclite_raw_index("B-V", WAVE_A, blackbody_flux(t)) + vega_zero["B-V"])
+           for t in temps]
+    rows = [f"{o:.6f}" for o in obs] + ["-0.30", ""]
+    observed = tmp_path / "observed.csv"
+    observed.write_text("id,bv\n" + "\n".join(f"s{k},{v}" for k, v in enumerate(rows)) + "\n")
+    intrinsic = tmp_path / "intrinsic.csv"
+    intrinsic.write_text("bv\n" + "\n".join(f"{v:.6f}" for v in own) + "\n")
+    extra = ["--exact"] if exact else []
+    assert main(["catalogue", str(observed), str(tmp_path / "a.csv"), "--bv-column", "bv",
+                 "--ebv", str(ebv), "--deredden", "--no-progress", *extra]) == 0
+    summary = capsys.readouterr()[0]
+    assert "too-blue-for-dust" in summary and "dereddened: E(B-V) 0.35" in summary
+    assert main(["catalogue", str(intrinsic), str(tmp_path / "b.csv"), "--bv-column", "bv",
+                 "--no-progress", *extra]) == 0
+    capsys.readouterr()
+    a, b = _read_csv(tmp_path / "a.csv"), _read_csv(tmp_path / "b.csv")
+    assert [r["status"] for r in a] == ["ok"] * 5 + ["too-blue-for-dust", "missing-temperature"]
+    for ra, rb in zip(a[:5], b):
+        for c in "rgb":
+            assert abs(float(ra[c]) - float(rb[c])) <= 1.0 / 255.0, (ra, rb)
+    assert all(a[k][c] == "" for k in (5, 6) for c in "rgb")
+
+
+def test_catalogue_deredden_errors_exit_2(tmp_path, capsys):
+    src = tmp_path / "s.csv"
+    src.write_text("bv,teff\n0.5,5000\n")
+    for args, words in ((["--bv-column", "bv", "--deredden"], "--ebv"),
+                        (["--temperature-column", "teff", "--ebv", "0.2", "--deredden"],
+                         "--bv-column")):
+        assert main(["catalogue", str(src), str(tmp_path / "o.csv"), *args]) == 2
+        out, err = capsys.readouterr()
+        assert len(err.strip().splitlines()) == 1 and words in err
+        assert not (tmp_path / "o.csv").exists()  # nothing written
+
+
+def test_plan_refuses_dust_applied_twice():
+    # The plan's contract: dereddened colours are shown without the dust.
+    from starkiln.engine.catalogue.plan import CataloguePlan
+    from starkiln.engine.errors import StarkilnError
+    from starkiln.engine.pipeline.settings import Settings
+
+    with pytest.raises(StarkilnError, match="dust_ebv 0"):
+        CataloguePlan(Settings(dust_ebv=0.3), "bv", "bv", deredden_ebv=0.3)
+    with pytest.raises(StarkilnError, match="not to temperatures"):
+        CataloguePlan(Settings(), "temperature", "t", deredden_ebv=0.3)

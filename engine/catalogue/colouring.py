@@ -28,7 +28,7 @@ from starkiln.engine.catalogue.plan import (BLUER_THAN_BLACKBODY, EXTRAPOLATED, 
                                             MAGNITUDE_MAX, MAGNITUDE_MIN,
                                             MAGNITUDE_OUT_OF_RANGE, MISSING_MAGNITUDE,
                                             MISSING_TEMPERATURE, NOT_A_NUMBER, OUT_OF_RANGE,
-                                            STATUSES, CataloguePlan)
+                                            STATUSES, TOO_BLUE_FOR_DUST, CataloguePlan)
 
 
 @dataclass
@@ -107,6 +107,11 @@ def colour_values(plan: CataloguePlan, columns: dict) -> Coloured:
     parts = min(threads, n // _MIN_ROWS_PER_THREAD)
     if parts < 2:
         return colour_values_serial(plan, columns)
+    if plan.deredden_ebv is not None:  # build the dereddening table before the threads
+        from starkiln.engine.path.deredden import reddened_range
+
+        reddened_range(_INDEX[plan.source], plan.deredden_ebv, law=plan.settings.dust_law,
+                       rv=plan.settings.dust_rv)
     if not plan.exact:  # build (or load) the grid once, before the threads need it
         from starkiln.engine.catalogue.grid_cache import colour_grid
 
@@ -174,6 +179,8 @@ def colour_values_serial(plan: CataloguePlan, columns: dict) -> Coloured:
     _flag(codes, src_missing, MISSING_TEMPERATURE)
     finite = np.isfinite(src)
     _flag(codes, ~finite, NOT_A_NUMBER)
+    if plan.deredden_ebv is not None:  # observed colours: the intrinsic ones from here on
+        src = _dereddened(plan, src, codes)
     with np.errstate(invalid="ignore"):
         if plan.source == "temperature":
             inside = (src >= TEMPERATURE_MIN_K) & (src <= TEMPERATURE_MAX_K)
@@ -235,6 +242,23 @@ def colour_values_serial(plan: CataloguePlan, columns: dict) -> Coloured:
         for a in (r, g, b, intensity) + linear:
             a[blank] = np.nan
     return Coloured(r, g, b, intensity, codes, blank, linear)
+
+
+def _dereddened(plan: CataloguePlan, observed, codes) -> np.ndarray:
+    """The intrinsic indices of observed ones behind ``plan.deredden_ebv`` (vectorised);
+    rows no blackbody behind the dust can show get ``too-blue-for-dust`` or ``out-of-range``.
+
+    References
+    ----------
+    :func:`starkiln.engine.path.deredden.deredden` ([BessellMurphy2012], [Riello2021]).
+    """
+    from starkiln.engine.path import deredden as dr
+
+    out = dr.deredden(_INDEX[plan.source], observed, plan.deredden_ebv,
+                      law=plan.settings.dust_law, rv=plan.settings.dust_rv)
+    _flag(codes, out.status == dr.TOO_BLUE, TOO_BLUE_FOR_DUST)
+    _flag(codes, out.status == dr.TOO_RED, OUT_OF_RANGE)
+    return out.intrinsic_mag
 
 
 #: The colour index of each colour source.

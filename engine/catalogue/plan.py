@@ -52,9 +52,10 @@ STATUSES = (
     "not-a-number",            # a cell that is text, NaN or infinite
     "out-of-range",            # temperature source outside its accepted range
     "magnitude-out-of-range",  # V outside -30..30, or BP-RP outside the G-to-V range
+    "too-blue-for-dust",       # dereddening: bluer than any blackbody behind the dust can be
 )
 OK, EXTRAPOLATED, BLUER_THAN_BLACKBODY, MISSING_TEMPERATURE, MISSING_MAGNITUDE, NOT_A_NUMBER, \
-    OUT_OF_RANGE, MAGNITUDE_OUT_OF_RANGE = range(len(STATUSES))
+    OUT_OF_RANGE, MAGNITUDE_OUT_OF_RANGE, TOO_BLUE_FOR_DUST = range(len(STATUSES))
 #: The last status code of a coloured row (codes up to it are coloured, the rest blank).
 LAST_COLOURED = BLUER_THAN_BLACKBODY
 
@@ -115,6 +116,10 @@ class CataloguePlan:
         are appended after the status (module docstring).
     threads : threads that colour parts of a chunk at once (numpy releases the GIL);
         0 (default) means one per core, up to 4. Dask workers use 1.
+    deredden_ebv : E(B-V) (mag) of the dust the observed B-V or BP-RP column already holds,
+        removed before colouring (:func:`starkiln.engine.path.deredden.deredden`, the law and
+        R_V of ``settings``), or None. The settings then apply no dust
+        (``settings.dust_ebv`` must be 0): the star is shown as it is without the dust.
     """
 
     settings: Settings
@@ -130,11 +135,23 @@ class CataloguePlan:
     threads: int = 0
     linear_columns: tuple = ()
     index_model: str = "synthetic"
+    deredden_ebv: float | None = None
 
     def __post_init__(self):
         from starkiln.engine.stars.temperature import check_index_model
 
         object.__setattr__(self, "index_model", check_index_model(self.index_model))
+        if self.deredden_ebv is not None:
+            from starkiln.engine.path.dust import check_ebv
+
+            if self.source == "temperature":
+                raise StarkilnError("dereddening applies only to a B-V or BP-RP column, not "
+                                    "to temperatures")
+            if self.settings.dust_ebv > 0.0:
+                raise StarkilnError("dereddened colours are shown without the dust: the "
+                                    "settings must apply none (dust_ebv 0)")
+            object.__setattr__(self, "deredden_ebv", float(check_ebv(self.deredden_ebv,
+                                                                     "E(B-V)")))
         if self.extrapolate_bp_rp and self.index_model != "relation":
             raise StarkilnError("--extrapolate-bp-rp applies only to --index-model relation "
                                 "(the synthetic model covers BP-RP -0.6 to 14.82)")

@@ -19,14 +19,17 @@ Here "E(B-V)" is the dust column's nominal colour excess as the laws use it, ``A
 ([Cardelli1989] section I); the synthetic excess of a given star's B-V differs from it by a
 few per cent (smallest for hot stars, which define it: common practice).
 
-Speed. For each (index, law, R_V) one table is built on first use (about 0.2 s; cached in
-memory): the synthetic index of blackbodies on :data:`MIRED_NODES` nodes evenly spaced from 0
+Speed. For each (index, law, R_V) one table is built on first use (under a second with the
+dust law's import; cached in memory): the synthetic index of blackbodies on :data:`MIRED_NODES` nodes evenly spaced from 0
 mired (T -> infinity, the Rayleigh-Jeans limit) to 2000 mired (500 K), without dust and through
-dust columns on :data:`EBV_NODES` nodes evenly spaced over 0-10 mag. A star's observed index is
-then found among the table's mired nodes by a vectorised bisection (the reddened index grows
-with mired at every E(B-V)), linear in E(B-V) between rows and linear in mired within the
-bracketing cell: no per-star Python loop. Table interpolation keeps within 1e-4 mag of the
-direct synthetic photometry (``tests/test_deredden.py``).
+dust columns on :data:`EBV_NODES` nodes evenly spaced over 0-10 mag. The reddened index grows
+with mired at every E(B-V), so each row is inverted once onto :data:`LOOKUP_NODES` observed
+values evenly spaced over the row's range (the intrinsic index and mired there, linear in
+mired between the nodes). A star's lookup is then arithmetic: the two rows about its E(B-V),
+linear within each row and linear in E(B-V) between them (no search, no per-star Python
+loop); one dust column for every star (a scalar E(B-V), as a catalogue's) has its own
+inverse, built once. Interpolation keeps within 1e-4 mag of the direct synthetic photometry
+(``tests/test_deredden.py`` compares with speclite and dust-extinction).
 
 Out of range. An observed index bluer than the Rayleigh-Jeans blackbody seen through the same
 dust (bluer than any reddened blackbody can be), or redder than the 500 K blackbody through
@@ -59,8 +62,8 @@ EBV_NODES = 401
 DEREDDEN_STATUSES = ("ok", "bluer-than-reddened-blackbody", "redder-than-reddened-blackbody",
                      "not-a-number")
 OK, TOO_BLUE, TOO_RED, NOT_A_NUMBER = range(len(DEREDDEN_STATUSES))
-#: Bisection steps: 2^11 = 2048 cells.
-_STEPS = int(np.ceil(np.log2(MIRED_NODES - 1)))
+#: Observed-index nodes of each E(B-V) row's inverse, evenly spaced over the row's range.
+LOOKUP_NODES = 4097
 
 
 class Dereddened(NamedTuple):
@@ -73,7 +76,8 @@ class Dereddened(NamedTuple):
     excess_mag : numpy.ndarray
         ``observed - intrinsic``: the colour excess of that spectrum.
     temperature_K : numpy.ndarray
-        The matched blackbody's temperature (``inf`` at the Rayleigh-Jeans limit).
+        The matched blackbody's temperature (``inf`` at the Rayleigh-Jeans limit; within
+        0.5 %, interpolated in mired).
     status : numpy.ndarray
         uint8 codes into :data:`DEREDDEN_STATUSES`.
     """
@@ -89,6 +93,10 @@ class _Table(NamedTuple):
     intrinsic: np.ndarray  # (M,) dust-free index at the nodes
     reddened: np.ndarray   # (E, M) index through the dust of each E(B-V) node
     ebv_step: float
+    first: np.ndarray      # (E,) each row's bluest observed index (the lookup's first node)
+    per_mag: np.ndarray    # (E,) lookup nodes per mag of each row
+    lookup_intrinsic: np.ndarray  # (E * K,) intrinsic index at the rows' observed nodes
+    lookup_mired: np.ndarray      # (E * K,) mired there
 
 
 def _check_law(law, rv) -> tuple[str, float]:
@@ -121,9 +129,19 @@ def _table(index: str, law: str, rv: float) -> _Table:
     if not (np.isfinite(reddened).all() and np.all(np.diff(reddened, axis=1) > 0)):
         raise RuntimeError(f"the reddened blackbody {index} table is not monotonic in mired"
                            )  # pragma: no cover - physics says it cannot happen
-    for a in (mired, intrinsic, reddened):
+    first, last = reddened[:, 0].copy(), reddened[:, -1].copy()
+    per_mag = (LOOKUP_NODES - 1) / (last - first)
+    lookup_intrinsic = np.empty((EBV_NODES, LOOKUP_NODES))
+    lookup_mired = np.empty((EBV_NODES, LOOKUP_NODES))
+    for j in range(EBV_NODES):  # 401 rows, once per table: the inverse of each row
+        nodes = np.linspace(first[j], last[j], LOOKUP_NODES)
+        lookup_intrinsic[j] = np.interp(nodes, reddened[j], intrinsic)
+        lookup_mired[j] = np.interp(nodes, reddened[j], mired)
+    arrays = (mired, intrinsic, reddened, first, per_mag,
+              lookup_intrinsic.ravel(), lookup_mired.ravel())
+    for a in arrays:
         a.setflags(write=False)
-    return _Table(mired, intrinsic, reddened, float(ebv[1] - ebv[0]))
+    return _Table(mired, intrinsic, reddened, float(ebv[1] - ebv[0]), *arrays[3:])
 
 
 def _rows(table: _Table, ebv: np.ndarray):
@@ -136,6 +154,48 @@ def _rows(table: _Table, ebv: np.ndarray):
 def _reddened_at(table: _Table, j, f, i) -> np.ndarray:
     r = table.reddened
     return r[j, i] + f * (r[j + 1, i] - r[j, i])
+
+
+def _lookup(table: _Table, observed, j, f) -> tuple[np.ndarray, np.ndarray]:
+    """(intrinsic index, mired) of observed indices already checked, rows ``j`` and fractions
+    ``f`` in E(B-V): linear in each row's inverse, then linear in E(B-V)."""
+    intrinsic = np.zeros(observed.shape)
+    mired = np.zeros(observed.shape)
+    for row, weight in ((j, 1.0 - f), (j + 1, f)):  # the two E(B-V) rows about each star
+        x = observed - table.first[row]
+        x *= table.per_mag[row]
+        i = np.clip(x.astype(np.intp), 0, LOOKUP_NODES - 2)
+        x -= i  # in [0, 1) inside the row; a little beyond at its ends (linear extension)
+        i += row * LOOKUP_NODES
+        for values, out in ((table.lookup_intrinsic, intrinsic), (table.lookup_mired, mired)):
+            v0 = values.take(i)
+            out += weight * (v0 + x * (values.take(i + 1) - v0))
+    return intrinsic, mired
+
+
+@lru_cache(maxsize=64)
+def _column_lookup(index: str, law: str, rv: float, ebv: float):
+    """One dust column's inverse on evenly spaced observed values (from :func:`_lookup`)."""
+    table = _table(index, law, rv)
+    j, f = _rows(table, np.array([ebv]))
+    lo, hi = _reddened_at(table, j, f, 0)[0], _reddened_at(table, j, f, MIRED_NODES - 1)[0]
+    nodes = np.linspace(lo, hi, LOOKUP_NODES)
+    intrinsic, mired = _lookup(table, nodes, np.repeat(j, LOOKUP_NODES),
+                               np.repeat(f, LOOKUP_NODES))
+    intrinsic, mired = np.append(intrinsic, intrinsic[-1]), np.append(mired, mired[-1])
+    slopes = np.append(np.diff(intrinsic), 0.0), np.append(np.diff(mired), 0.0)
+    return float(lo), (LOOKUP_NODES - 1) / float(hi - lo), (intrinsic, mired), slopes
+
+
+def _one_column(index: str, law: str, rv: float, ebv: float, observed):
+    """(intrinsic index, mired) of checked observed indices behind one dust column."""
+    lo, per_mag, values, slopes = _column_lookup(index, law, rv, ebv)
+    x = observed - lo
+    x *= per_mag
+    np.clip(x, 0.0, LOOKUP_NODES - 1.0, out=x)
+    i = x.astype(np.intp)
+    x -= i
+    return tuple(v.take(i) + x * s.take(i) for v, s in zip(values, slopes))
 
 
 def deredden(index_name: str, observed_index_mag, ebv_mag, *, law: str = "G23",
@@ -193,22 +253,13 @@ def deredden(index_name: str, observed_index_mag, ebv_mag, *, law: str = "G23",
     with np.errstate(invalid="ignore"):
         status[finite & (o < _reddened_at(table, j, f, 0))] = TOO_BLUE
         status[finite & (o > _reddened_at(table, j, f, last))] = TOO_RED
-    # Bisection over the node cells: lo, hi bracket the observed index on the row at E(B-V).
-    lo = np.zeros(o.shape, dtype=np.intp)
-    hi = np.full(o.shape, last, dtype=np.intp)
-    ov = np.where(status == OK, o, table.reddened[0, 0])
-    for _ in range(_STEPS):
-        mid = (lo + hi) >> 1
-        below = _reddened_at(table, j, f, mid) <= ov
-        lo = np.where(below, mid, lo)
-        hi = np.where(below, hi, mid)
-    r0 = _reddened_at(table, j, f, lo)
-    r1 = _reddened_at(table, j, f, hi)
-    t = np.clip((ov - r0) / (r1 - r0), 0.0, 1.0)
-    intrinsic = table.intrinsic[lo] + t * (table.intrinsic[hi] - table.intrinsic[lo])
-    mired = table.mired[lo] + t * (table.mired[hi] - table.mired[lo])
+    ov = np.where(status == OK, o, table.first[0])
+    if np.ndim(ebv_mag) == 0:  # one dust column for every star (a catalogue's --ebv)
+        intrinsic, mired = _one_column(index, law, rv, float(e[0]) if e.size else 0.0, ov)
+    else:
+        intrinsic, mired = _lookup(table, ov, j, f)
     with np.errstate(divide="ignore"):
-        temperature = 1e6 / mired
+        temperature = 1e6 / np.maximum(mired, 0.0)
     bad = status != OK
     intrinsic[bad] = np.nan
     temperature[bad] = np.nan
