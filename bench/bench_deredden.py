@@ -24,16 +24,7 @@ import argparse
 import time
 
 import numpy as np
-
-
-def best_of(fn, repeats: int) -> float:
-    """Best wall time of ``repeats`` calls (the least disturbed by other processes)."""
-    times = []
-    for _ in range(repeats):
-        t0 = time.perf_counter()
-        fn()
-        times.append(time.perf_counter() - t0)
-    return min(times)
+from bench_render import best_of  # this folder is the script's first import path
 
 
 def per_star_route(observed, ebv) -> float:

@@ -374,8 +374,8 @@ def colour_excess(index_name: str, temperature_K, ebv_mag, law: str = "G23",
 
     References
     ----------
-    [BessellMurphy2012] eq. 1; [Riello2021] section 5.4; [Planck1901]; [Cardelli1989] eq. 1;
-    [Gordon2023]; [Fitzpatrick1999]; [DustExtinction].
+    The synthetic photometry of [BessellMurphy2012] and [Riello2021] through the dust of
+    [Cardelli1989] eq. 1 with the laws of :func:`intrinsic_index`.
 
     Examples
     --------
