@@ -73,6 +73,16 @@ def test_dask_equals_the_single_machine_path(tmp_path, source, column):
     assert_same(tmp_path / "local.parquet", tmp_path / "out")
 
 
+def test_dask_dereddens_as_the_single_machine_path(tmp_path):
+    # --deredden (a fixed E(B-V)) on the workers: the same rows, colours and statuses.
+    src = make_parts(tmp_path / "in", n_files=2, rows=2000)
+    plan = CataloguePlan(Settings(), "bv", "bv", deredden_ebv=0.25)
+    local = colour_catalogue(src, tmp_path / "local.parquet", plan)
+    summary = colour_catalogue_dask(src, tmp_path / "out", plan, n_workers=1, processes=False)
+    assert summary.counts == local.counts and local.counts["too-blue-for-dust"] > 0
+    assert_same(tmp_path / "local.parquet", tmp_path / "out")
+
+
 def test_dask_equals_the_single_machine_path_with_magnitudes(tmp_path, monkeypatch):
     import starkiln.engine.catalogue.plan as catalogue_plan
     monkeypatch.setattr(catalogue_plan, "EXACT_ROWS_WITH_MAGNITUDE", 0)  # through the 2-D grid
