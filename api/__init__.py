@@ -40,6 +40,8 @@ _PUBLIC = {
     "temperature_from_index": ("starkiln.engine.stars.temperature", "temperature_from_index"),
     "temperature_for_spectral_class": ("starkiln.engine.stars.temperature",
                                        "temperature_for_spectral_class"),
+    "intrinsic_index": ("starkiln.engine.path.deredden", "intrinsic_index"),
+    "colour_excess": ("starkiln.engine.path.deredden", "colour_excess"),
     # exports
     "TextureSpec": ("starkiln.engine.exports.texture_spec", "TextureSpec"),
     "export_texture": ("starkiln.engine.exports.textures", "export_texture"),

@@ -158,6 +158,16 @@ def test_index_models_against_the_sun():
     assert shown('temperature_for_spectral_class("A0V")') > 1.2 * 9700
 
 
+def test_dereddening_examples_against_the_definition_of_e_bv():
+    # E(B-V) is the B-V excess of hot stars (common practice): within 0.03 at E(B-V) 0.5;
+    # broad bands redden cooler spectra less (common practice), so a cool star's is smaller;
+    # the intrinsic B-V is the observed minus an excess of that size.
+    hot = shown('colour_excess("B-V", 30000.0, 0.5)')
+    cool = shown('colour_excess("B-V", 3500.0, 0.5)')
+    assert hot == pytest.approx(0.5, abs=0.03) and 0.35 < cool < hot
+    assert shown('intrinsic_index("B-V", 0.95, 0.5)') == pytest.approx(0.95 - 0.5, abs=0.06)
+
+
 def test_example_star_ordering_is_physical():
     # Common practice: cool stars render red-orange (red channel strongest, blue weakest), hot
     # stars blue-white (blue channel strongest).
