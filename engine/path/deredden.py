@@ -20,9 +20,10 @@ Here "E(B-V)" is the dust column's nominal colour excess as the laws use it, ``A
 few per cent (smallest for hot stars, which define it: common practice).
 
 Speed. For each (index, law, R_V) one table is built on first use (under a second with the
-dust law's import; cached in memory): the synthetic index of blackbodies on :data:`MIRED_NODES` nodes evenly spaced from 0
-mired (T -> infinity, the Rayleigh-Jeans limit) to 2000 mired (500 K), without dust and through
-dust columns on :data:`EBV_NODES` nodes evenly spaced over 0-10 mag. The reddened index grows
+dust law's import; cached in memory): the synthetic index of blackbodies on
+:data:`MIRED_NODES` nodes evenly spaced from 0 mired (T -> infinity, the Rayleigh-Jeans
+limit) to 2000 mired (500 K), without dust and through dust columns on :data:`EBV_NODES`
+nodes evenly spaced over 0-10 mag. The reddened index grows
 with mired at every E(B-V), so each row is inverted once onto :data:`LOOKUP_NODES` observed
 values evenly spaced over the row's range (the intrinsic index and mired there, linear in
 mired between the nodes). A star's lookup is then arithmetic: the two rows about its E(B-V),
