@@ -272,6 +272,15 @@ class SpectrumView(pg.PlotWidget):
             self.overlays[key] = items
         self.legend.setVisible(False)
         plot.addItem(self.curve)
+        # the light as it reaches the eye (dust, air), over the emitted curve; the emitted
+        # curve's legend sample is a stand-in line with its pen (the curve is one item)
+        self.arriving_curve = pg.PlotDataItem(antialias=True)
+        self.arriving_curve.setObjectName("arriving-curve")
+        self.arriving_curve.setZValue(15)
+        self.arriving_curve.setVisible(False)
+        plot.addItem(self.arriving_curve)
+        self.emitted_sample = pg.PlotDataItem()
+        self._path_words = ""
         self.peak_line = pg.InfiniteLine(angle=90, movable=False)
         plot.addItem(self.peak_line)
         self.peak_label = pg.TextItem("", anchor=(0.0, 0.0))
@@ -301,6 +310,10 @@ class SpectrumView(pg.PlotWidget):
         for item in self.edge_labels + self.region_labels:
             item.setColor(QtGui.QColor(theme.plot_axis))
         self.peak_line.setPen(_pen(theme.marker, 1, QtCore.Qt.PenStyle.DotLine))
+        self.arriving_curve.setPen(_pen(theme.curve_arriving, 2.0,
+                                        QtCore.Qt.PenStyle.DashLine))
+        self.arriving_curve.setShadowPen(_pen(theme.outline, OUTLINE_WIDTH))
+        self.emitted_sample.setPen(_pen(theme.curve, 2.0))
         self.peak_label.setColor(QtGui.QColor(theme.marker))
         dash = QtCore.Qt.PenStyle
         styles = {"photopic": (theme.overlay_photopic, dash.DashLine),
@@ -337,12 +350,37 @@ class SpectrumView(pg.PlotWidget):
             for item, part in zip(self.overlays[key], parts):
                 wl, values = curves[part]
                 item.setData(wl, values)
+        s = plots.settings
+        words = " and ".join(w for w, on in (("dust", s.dust_ebv > 0.0),
+                                              ("air", s.altitude_deg is not None)) if on)
+        if words != self._path_words:
+            self._path_words = words
+            self._rebuild_legend()
+        self._show_arriving()
+
+    def _show_arriving(self) -> None:
+        """The model's arriving curve (hidden when nothing lies on the light's path)."""
+        a = self.model.arriving
+        if a is None:
+            self.arriving_curve.setVisible(False)
+            self.arriving_curve.setData([], [])
+            return
+        self.arriving_curve.setData(a.wavelength_nm, a.relative_radiance)
+        self.arriving_curve.setVisible(True)
+
+    @property
+    def legend_texts(self) -> list[str]:
+        """The legend's entries as shown (empty when it is hidden)."""
+        if not self.legend.isVisible():
+            return []
+        return [label.text for _sample, label in self.legend.items]
 
     def _show_curve(self) -> None:
         """Redraw the Planck curve and its peak for the model's temperature."""
         c = self.model.spectrum
         y = c.relative_radiance
         self.curve.set_curve(self._wl, y, self._band)
+        self._show_arriving()
         self._peak_nm = c.peak_nm
         lo, hi = SPECTRUM_PLOT_RANGE_NM
         if lo <= c.peak_nm <= hi:
@@ -460,10 +498,14 @@ class SpectrumView(pg.PlotWidget):
         if not hasattr(self, "_overlay_on"):
             return
         self.legend.clear()
+        words = getattr(self, "_path_words", "")
+        if words:
+            self.legend.addItem(self.emitted_sample, "sent by the star")
+            self.legend.addItem(self.arriving_curve, f"at the eye, after {words}")
         for k, items in self.overlays.items():
             if self._overlay_on[k]:
                 self.legend.addItem(items[0], OVERLAYS[k][0])
-        self.legend.setVisible(any(self._overlay_on.values()))
+        self.legend.setVisible(bool(words) or any(self._overlay_on.values()))
 
 
 WHOLE_LABELS_K = (2000.0, 4000.0, 10000.0)

@@ -462,6 +462,10 @@ class MainWindow(QtWidgets.QMainWindow):
         h = change.value
         if h.kind == "push":
             self.undo_stack.push(SettingsCommand(self, h.entry.text))
+        elif h.kind == "merge":  # a slider drag goes on: the newest command says its words
+            top = self.undo_stack.command(self.undo_stack.index() - 1)
+            if top is not None:
+                top.setText(h.entry.text)
         elif h.kind == "clear":
             self.undo_stack.clear()
         elif not self._stack_driving:  # the model was asked directly: move the stack along
