@@ -116,14 +116,14 @@ def _g23_transmission(wavelength_nm, ebv, rv=3.1):
 
 def test_spectrum_plot_shows_emitted_and_arriving_light(window):
     view = window.spectrum
-    assert not view.arriving_curve.isVisible() and view.legend_texts == []
+    assert not view.arriving_shown and view.legend_texts == []
     tab = _tab(window)
     tab.ebv.commit_text("0.6")
     assert window.model.settings.dust_ebv == 0.6
-    assert view.arriving_curve.isVisible()
+    assert view.arriving_shown
     assert view.legend_texts == ["sent by the star", "at the eye, after dust"]
     x_emit, y_emit = view.curve.x, view.curve.y
-    x, y = view.arriving_curve.getData()
+    x, y = view.curve.arriving_x, view.curve.arriving_y
     assert np.array_equal(x, x_emit)  # dust alone: the whole plot (G23 spans 91 nm-32 um)
     # Planck's law by colour-science ([Planck1901]), on the emitted curve's scale (peak 1)
     planck = _planck(x, T_K)
@@ -132,19 +132,19 @@ def test_spectrum_plot_shows_emitted_and_arriving_light(window):
                                rtol=1e-9, atol=1e-15)
     # the curve follows the slider of temperatures
     window.model.set_temperature(4000.0)
-    x, y = view.arriving_curve.getData()
+    x, y = view.curve.arriving_x, view.curve.arriving_y
     planck = _planck(x, 4000.0)
     np.testing.assert_allclose(y, planck / planck.max() * _g23_transmission(x, 0.6),
                                rtol=1e-9, atol=1e-15)
     # with the air as well: drawn where the air model is complete (360-2200 nm)
     tab.air.setChecked(True)
-    x, _ = view.arriving_curve.getData()
+    x = view.curve.arriving_x
     assert x.min() >= 360.0 and x.max() <= 2200.0 and x.size > 100
     assert view.legend_texts[1] == "at the eye, after dust and air"
     # no path: the emitted curve alone
     tab.air.setChecked(False)
     tab.ebv_slider.setValue(0)
-    assert not view.arriving_curve.isVisible() and view.legend_texts == []
+    assert not view.arriving_shown and view.legend_texts == []
 
 
 def test_rv_typed_outside_the_law_is_refused_and_the_state_kept(window):
@@ -203,6 +203,7 @@ def test_path_settings_round_trip_and_undo(window, tmp_path):
     assert tab.ebv.value() == pytest.approx(0.35) and tab.ebv_slider.value() == 35
     assert tab.law.value() == "CCM89" and tab.rv.value() == pytest.approx(4.0)
     assert tab.air.isChecked() and tab.altitude.value() == 42
+    assert window.summary.text().endswith("\u00b7 dust E(B-V) 0.35 \u00b7 air at 42\u00b0")
     # one drag of the slider is one undo step
     window.model.clear_history()
     tab.ebv_slider.setSliderDown(True)
