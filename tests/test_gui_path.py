@@ -15,7 +15,7 @@ from PySide6 import QtWidgets
 from starkiln.engine.pipeline.render import render
 from starkiln.engine.pipeline.settings import Settings, load_settings
 from test_gui_support import (centre_pixel, escaped, pytestmark,  # noqa: F401
-                              rendered_8bit, shared_window, window)
+                              rendered_8bit, shared_window, store, window)
 
 T_K = 5772.0
 #: Second radiation constant c2 = h c / k from the exact SI 2019 constants (colour-science's
@@ -217,3 +217,38 @@ def test_path_settings_round_trip_and_undo(window, tmp_path):
     assert window.model.settings == s and tab.ebv_slider.value() == 35
     window.undo_stack.redo()
     assert window.model.settings.dust_ebv == 0.6
+
+
+def test_demo_sky_follows_the_dust(window, qtbot):
+    from starkiln.engine.plotdata.sky import sky_image
+
+    sky = window.sky
+    _tab(window).ebv_slider.setValue(120)  # 1.2 mag: the cluster reddens and fades
+    s = window.model.settings
+    qtbot.waitUntil(lambda: sky.sky is not None and sky.settings is s, timeout=2000)
+    # the picture is the engine's sky picture for these settings (render path per star)
+    expected = sky_image(s, sky.cluster, sky.width(), sky.height())
+    assert np.array_equal(sky.sky.rgb_8bit, expected.rgb_8bit)
+    clean = sky_image(Settings(), sky.cluster, sky.width(), sky.height())
+    # dust takes light (A_V = 3.1 x 1.2 = 3.7 mag in V, [Cardelli1989] eq. 1): the picture
+    # as a whole is darker than without it
+    assert expected.rgb_8bit.sum() < clean.rgb_8bit.sum()
+
+
+def test_the_session_keeps_the_path(qtbot, store):
+    from starkiln.gui import create_window
+
+    w = create_window(Settings(), T_K, store=store)
+    qtbot.addWidget(w)
+    tab = w.rendering.path
+    tab.ebv.commit_text("0.4")
+    tab.air.setChecked(True)
+    tab.altitude.setValue(15)
+    kept = w.model.settings
+    w.close()  # closeEvent saves the session
+    w2 = create_window(store=store)
+    qtbot.addWidget(w2)
+    assert w2.model.settings == kept
+    tab2 = w2.rendering.path
+    assert tab2.ebv.value() == pytest.approx(0.4) and tab2.air.isChecked()
+    assert tab2.altitude.isEnabled() and tab2.altitude.value() == 15
