@@ -17,7 +17,10 @@ Run: ``QT_QPA_PLATFORM=offscreen python bench/bench_gui.py [--steps 300] [--star
    steps in the dim theme with the demo dome display at its dome level (every painted
    colour converted and dimmed to 15 % in linear light), and the steps with four settings
    pinned in the Compare panel (shown: four more strips; at 1280 x 800 the panel floats
-   over the window, as it does when the window is too short to dock it).
+   over the window, as it does when the window is too short to dock it). And the steps with
+   the path of the light on (dust E(B-V) 0.6 and the air at 30 degrees altitude: every render
+   multiplied by the path's transmission, the arriving curve drawn on the spectrum plot)
+   beside the same steps with it off, as a ratio.
 2. Cold start: a fresh interpreter (``python -c``) imports the window, builds
    it, shows it and reports when the first paint has been processed; timed
    from before the process is spawned to the moment its line arrives. Goal: < 2 s.
@@ -49,6 +52,9 @@ STEP_GOAL_MS = 8.0
 #: Stars of the invented catalogue loaded into the sky panel.
 CATALOGUE_ROWS = 100_000
 START_GOAL_S = 2.0
+#: The path of the light in the path-on steps (invented values: a reddened star at 30 deg).
+PATH_EBV_MAG = 0.6
+PATH_ALTITUDE_DEG = 30.0
 
 
 def _percentile(values, q):
@@ -76,14 +82,17 @@ def invented_catalogue(path: Path, rows: int = CATALOGUE_ROWS, seed: int = 13) -
 
 def bench_steps(steps: int, table: bool = True, display: str = "srgb",
                 dome_level: bool = False, pins: int = 0, catalogue: Path | None = None,
-                drawing: bool = False) -> list[float]:
+                drawing: bool = False, path: bool = False) -> list[float]:
     from PySide6 import QtCore, QtWidgets
 
     from starkiln.engine.pipeline.settings import Settings
     from starkiln.gui import create_window
 
     app = QtWidgets.QApplication.instance() or QtWidgets.QApplication([])
-    window = create_window(Settings(display=display), store=None)
+    start = Settings(display=display)
+    if path:
+        start = start.replace(dust_ebv=PATH_EBV_MAG, altitude_deg=PATH_ALTITUDE_DEG)
+    window = create_window(start, store=None)
     window.resize(1280, 800)
     window.show()
     window.model.use_slider_table(table)
@@ -117,6 +126,8 @@ def bench_steps(steps: int, table: bool = True, display: str = "srgb",
     everything = PaintCounter()
     app.installEventFilter(everything)
     must = []
+    if path and not window.spectrum.arriving_shown:
+        raise RuntimeError("the arriving curve is not shown with the path on")
     for widget in (window.current.swatch, window.spectrum.viewport(),
                    window.chromaticity.viewport()):
         c = PaintCounter()
@@ -233,13 +244,46 @@ def bench_start(starts: int) -> list[float]:
     return out
 
 
+def bench_path_pairs(steps: int, rounds: int = 4) -> tuple[list[float], list[float]]:
+    """Slider steps with the path of the light off and on, in alternating rounds (the order
+    swapped each round) so that a busy machine weighs on both alike; (off, on) in ms."""
+    off, on = [], []
+    per = -(-steps // rounds)
+    for r in range(rounds):
+        for path in ((False, True) if r % 2 == 0 else (True, False)):
+            (on if path else off).extend(bench_steps(per, path=path))
+    return off, on
+
+
+def _print_path(off, med, on, omed, op95, lines: bool = True) -> None:
+    """The path-on steps beside the path-off ones (``lines``: the readable lines too)."""
+    if lines:
+        print(f"slider step -> repaint, {len(off)} steps, 1280 x 800 offscreen")
+        print(f"  path of the light off: median {med:.2f} ms; on (E(B-V) {PATH_EBV_MAG:g}, "
+              f"altitude {PATH_ALTITUDE_DEG:g} deg): median {omed:.2f} ms, p95 {op95:.2f} ms; "
+              f"on / off = {omed / med:.2f}")
+    print(f'RESULT name=gui_step_path goal="slider step with dust and air on (E(B-V) '
+          f'{PATH_EBV_MAG:g}, altitude {PATH_ALTITUDE_DEG:g} deg), median of {len(on)} (p95 '
+          f'{op95:.1f} ms; goal {STEP_GOAL_MS:g} ms)" value={omed:.3g} unit=ms '
+          f'reference={med:.3g} reference_label="path off" ratio={omed / med:.3g} '
+          f'sense="times the step without a path (near 1: the path costs little)"')
+
+
 def main(argv=None) -> int:
     p = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     p.add_argument("--steps", type=int, default=300, help="slider steps (>= 200)")
     p.add_argument("--starts", type=int, default=5, help="cold starts")
+    p.add_argument("--path-only", action="store_true",
+                   help="only the steps with the path of the light off and on")
     a = p.parse_args(argv)
     steps = bench_steps(max(a.steps, 200))
     med, p95 = statistics.median(steps), _percentile(steps, 0.95)
+    off, on = bench_path_pairs(max(a.steps, 200))
+    fmed = statistics.median(off)
+    omed, op95 = statistics.median(on), _percentile(on, 0.95)
+    if a.path_only:
+        _print_path(off, fmed, on, omed, op95)
+        return 0
     direct = bench_steps(max(a.steps, 200), table=False)
     dmed, dp95 = statistics.median(direct), _percentile(direct, 0.95)
     p3 = bench_steps(max(a.steps, 200), display="display-p3")
@@ -284,6 +328,9 @@ def main(argv=None) -> int:
           f"{bmed / STEP_GOAL_MS:.2f}")
     print(f"  settings change -> that plate repainted: median {rmed:.0f} ms "
           f"(min {min(redraw):.0f}, max {max(redraw):.0f}; the last picture stays up meanwhile)")
+    print(f"  dust and air on (E(B-V) {PATH_EBV_MAG:g}, altitude {PATH_ALTITUDE_DEG:g} deg): "
+          f"median {omed:.2f} ms, p95 {op95:.2f} ms; off, in the same rounds: median "
+          f"{fmed:.2f} ms; on / off = {omed / fmed:.2f}")
     print(f"  building the table after a settings change: {build:.1f} ms (idle time)")
     print(f"cold start -> shown window, {len(starts)} runs")
     print(f"  median {smed:7.2f} s    goal {START_GOAL_S:.1f} s    ratio {smed / START_GOAL_S:.2f}"
@@ -310,6 +357,7 @@ def main(argv=None) -> int:
           f'drawn and idle: median {lmed:.2f} ms)" value={bmed:.3g} unit=ms '
           f'reference={STEP_GOAL_MS:g} reference_label="goal" ratio={bmed / STEP_GOAL_MS:.3g} '
           f'sense="of the goal (below 1 meets it)"')
+    _print_path(off, fmed, on, omed, op95, lines=False)
     print(f'RESULT name=gui_plate_redraw goal="settings change to the {CATALOGUE_ROWS:,}-star '
           f'plate repainted (worker thread), median of {len(redraw)}" value={rmed:.3g} unit=ms '
           f'reference={med:.3g} reference_label="a slider step" ratio={rmed / med:.3g} '

@@ -19,6 +19,7 @@ from starkiln.engine.colour.whites import ADAPTATIONS, WHITE_PRESETS
 from starkiln.gui.display_controls import DisplayTab
 from starkiln.gui.fields import INPUT_ERRORS, Choice, ErrorLine, Field, Form, format_number
 from starkiln.gui.fields import parse_number, parse_optional_number
+from starkiln.gui.path_controls import PathTab
 
 WHITE_KINDS = ("daylight", "blackbody", "xy")
 
@@ -285,8 +286,10 @@ class RenderingPanel(QtWidgets.QTabWidget):
         self.display = DisplayTab(model, self)
         self.output = OutputTab(model, self)
         self.night = NightTab(model, self)
+        self.path = PathTab(model, self)
         for tab, title in ((self.white, "White"), (self.display, "Display"),
-                           (self.output, "Gamut"), (self.night, "Night sky")):
+                           (self.output, "Gamut"), (self.night, "Night sky"),
+                           (self.path, "Path")):
             scroll = QtWidgets.QScrollArea(self)
             scroll.setWidget(tab)
             scroll.setWidgetResizable(True)
@@ -296,6 +299,8 @@ class RenderingPanel(QtWidgets.QTabWidget):
             bar = scroll.style().pixelMetric(QtWidgets.QStyle.PixelMetric.PM_ScrollBarExtent)
             scroll.setMinimumWidth(TAB_MINIMUM_WIDTH + bar + 2 * scroll.frameWidth() + 2)
             self.addTab(scroll, title)
+        self.setTabToolTip(self.indexOf(self.path.parentWidget().parentWidget()),
+                           "The path of the light: interstellar dust and the Earth's air")
         for button in self.tabBar().findChildren(QtWidgets.QToolButton):  # narrow windows
             button.setToolTip("More tabs")
         # undo, redo and files replace every field's value: a stale error goes with it
@@ -307,5 +312,5 @@ class RenderingPanel(QtWidgets.QTabWidget):
 
     def refresh(self, force: bool = False) -> None:
         """Show the model's settings in every tab."""
-        for tab in (self.white, self.display, self.output, self.night):
+        for tab in (self.white, self.display, self.output, self.night, self.path):
             tab.refresh(force=force)

@@ -12,7 +12,7 @@ from __future__ import annotations
 import math
 from typing import Callable
 
-from PySide6 import QtCore, QtWidgets
+from PySide6 import QtCore, QtGui, QtWidgets
 
 from starkiln.engine.errors import StarkilnError
 
@@ -269,3 +269,104 @@ class Form(QtWidgets.QWidget):
         lab.setProperty("role", "muted")
         self.form.addRow(lab)
         return lab
+
+
+class CheckedSpin(QtWidgets.QDoubleSpinBox):
+    """A number spin box whose arrows keep inside its range, and whose typed values outside
+    it are refused with a one-line error instead of being silently clamped.
+
+    Parameters
+    ----------
+    name : str
+        objectName (``spin-<name>``); the error line is ``error-<name>``.
+    apply : callable(float) -> None
+        Hands an accepted value to the model (may raise; the error is shown, the spin goes
+        back to its last good value).
+    refused : callable(float) -> str
+        The one-line message for a typed value outside the range (the engine's words where
+        the engine draws the limit).
+    """
+
+    def __init__(self, name: str, apply: Callable, refused: Callable, parent=None):
+        super().__init__(parent)
+        self.setObjectName(f"spin-{name}")
+        self.setKeyboardTracking(False)
+        self._apply, self._refused = apply, refused
+        self._typed: str | None = None
+        self._good = self.value()
+        self.error = ErrorLine(parent)
+        self.error.setObjectName(f"error-{name}")
+        self.valueChanged.connect(self._changed)
+        self.editingFinished.connect(self._finished)
+
+    def set_value(self, value: float) -> None:
+        """Show ``value`` as the good state (no apply; clears the error)."""
+        self._show(value)
+        self.error.clear_error()
+
+    def _show(self, value: float) -> None:
+        self.blockSignals(True)
+        self.setValue(float(value))
+        self.blockSignals(False)
+        self._good = self.value()
+
+    def set_range(self, lo: float, hi: float) -> None:
+        """New limits (without applying the clamped value, if any)."""
+        self.blockSignals(True)
+        self.setRange(lo, hi)
+        self.blockSignals(False)
+
+    def commit_text(self, text: str) -> bool:
+        """Type ``text`` and press Enter, as the user would; returns whether it was taken."""
+        self.lineEdit().setText(text)
+        self.interpretText()
+        self._finished()
+        return not self.has_error
+
+    @property
+    def has_error(self) -> bool:
+        """Whether an error is shown."""
+        return not self.error.isHidden() and bool(self.error.text())
+
+    def validate(self, text, pos):  # noqa: D102 - Qt API: let a number outside be typed
+        try:
+            v = float(self._clean(text))
+        except ValueError:
+            return super().validate(text, pos)
+        if self.minimum() <= v <= self.maximum():
+            return super().validate(text, pos)
+        return (QtGui.QValidator.State.Intermediate, text, pos)
+
+    def fixup(self, text):  # noqa: D102 - Qt API: a number outside is noted, then refused
+        self._typed = text
+        return self.textFromValue(self.value())
+
+    def _clean(self, text: str) -> str:
+        t = str(text).strip().replace("\u2212", "-").replace(",", ".")
+        suffix = self.suffix().strip()
+        return t[:-len(suffix)].strip() if suffix and t.endswith(suffix) else t
+
+    def _changed(self, value: float) -> None:
+        try:
+            self._apply(float(value))
+        except INPUT_ERRORS as exc:
+            self.error.show_error(str(exc))
+            self._show(self._good)  # the last good value stays
+            return
+        self._good = float(value)
+        self.error.clear_error()
+
+    def _finished(self) -> None:
+        typed, self._typed = self._typed, None
+        if typed is None:
+            return
+        try:
+            v = float(self._clean(typed))
+        except ValueError:
+            return
+        if not math.isfinite(v) or not self.minimum() <= v <= self.maximum():
+            self.error.show_error(self._refused(v))
+
+    def take_error(self) -> ErrorLine:
+        """The error line, for the form to place under the row."""
+        return self.error

@@ -72,8 +72,10 @@ from starkiln.engine.colour.quantisation import to_8bit, to_hex
 from starkiln.engine.pipeline.render import Rendered, render
 from starkiln.engine.pipeline.settings import Settings, load_settings, save_settings
 from starkiln.engine.pipeline.settings import settings_to_toml
-from starkiln.engine.plotdata.plots import (BandColours, ChromaticityDiagram, MiredScale,
-                                            PlanckCurve, chromaticity_diagram,
+from starkiln.engine.path.atmosphere import airmass_kasten_young
+from starkiln.engine.plotdata.plots import (ArrivingCurve, BandColours, ChromaticityDiagram,
+                                            MiredScale, PlanckCurve, arriving_curve,
+                                            chromaticity_diagram,
                                             efficiency_overlays, magnitude_ladder, planck_curve,
                                             spectral_band_colours,
                                             spectrum_plot_wavelengths_nm)
@@ -192,6 +194,7 @@ FIELD_WORDS = {
     "aperture_mm": "aperture", "blur_spot_arcmin": "star image size",
     "magnitude_bright": "brightest magnitude", "magnitude_faint": "faintest magnitude",
     "compensate": "dome compensation",
+    "dust_ebv": "dust E(B-V)", "dust_rv": "dust R_V", "altitude_deg": "altitude",
 }
 
 
@@ -219,8 +222,9 @@ class HistoryEntry:
 
 @dataclasses.dataclass(frozen=True)
 class HistoryChange:
-    """What happened to the history: ``kind`` is ``"push"``, ``"undo"``, ``"redo"`` or
-    ``"clear"``; ``entry`` the entry concerned (None for ``"clear"``)."""
+    """What happened to the history: ``kind`` is ``"push"``, ``"merge"`` (the newest entry
+    now ends at a later change: a slider being dragged), ``"undo"``, ``"redo"`` or ``"clear"``;
+    ``entry`` the entry concerned (None for ``"clear"``)."""
 
     kind: str
     entry: HistoryEntry | None
@@ -239,6 +243,7 @@ class SettingsHistory:
         self.limit = int(limit)
         self._undo: list[HistoryEntry] = []
         self._redo: list[HistoryEntry] = []
+        self._open = False  # the newest entry may still take merged changes
 
     @property
     def can_undo(self) -> bool:
@@ -263,30 +268,52 @@ class SettingsHistory:
     def __len__(self) -> int:
         return len(self._undo)
 
-    def push(self, before: Settings, after: Settings) -> HistoryEntry:
-        """Record a change; the redo list is dropped (a new change starts a new branch)."""
+    def push(self, before: Settings, after: Settings, open_merge: bool = False) -> HistoryEntry:
+        """Record a change; the redo list is dropped (a new change starts a new branch).
+
+        ``open_merge``: later changes given to :meth:`merge` join this entry (the steps of one
+        slider drag are one undo step) until :meth:`close_merge` or another push.
+        """
         entry = HistoryEntry(before, after, describe_change(before, after))
         self._undo.append(entry)
         del self._undo[:-self.limit]
         self._redo.clear()
+        self._open = bool(open_merge)
         return entry
+
+    def merge(self, before: Settings, after: Settings) -> HistoryEntry | None:
+        """Extend the newest entry to ``after`` if it is open and ends at ``before``; returns
+        the extended entry, or None (nothing changed: push instead)."""
+        last = self._undo[-1] if self._undo else None
+        if not self._open or last is None or last.after is not before:
+            return None
+        entry = HistoryEntry(last.before, after, describe_change(last.before, after))
+        self._undo[-1] = entry
+        return entry
+
+    def close_merge(self) -> None:
+        """The next change starts an entry of its own (a drag ended)."""
+        self._open = False
 
     def take_undo(self) -> HistoryEntry:
         """Move the newest change to the redo list and return it."""
         entry = self._undo.pop()
         self._redo.append(entry)
+        self._open = False
         return entry
 
     def take_redo(self) -> HistoryEntry:
         """Move the newest undone change back to the undo list and return it."""
         entry = self._redo.pop()
         self._undo.append(entry)
+        self._open = False
         return entry
 
     def clear(self) -> None:
         """Forget every change."""
         self._undo.clear()
         self._redo.clear()
+        self._open = False
 
 
 # -- derived state -----------------------------------------------------------------------------
@@ -555,6 +582,26 @@ class WindowModel:
         return self._spectrum
 
     @property
+    def arriving(self) -> ArrivingCurve | None:
+        """The current star's spectrum after dust and air, on the scale of :attr:`spectrum`
+        (:func:`starkiln.engine.plotdata.plots.arriving_curve`); None with no path."""
+        return self._arriving
+
+    @property
+    def extinction_mag(self) -> float | None:
+        """Magnitudes (V) the path of the light takes from the current star: the render's
+        ``extinction_mag``; None with no path."""
+        e = self._colour.plain.extinction_mag
+        return None if e is None else float(e)
+
+    @property
+    def airmass(self) -> float | None:
+        """Airmass toward the settings' altitude ([KastenYoung1989] eq. 3, through
+        :func:`starkiln.engine.path.atmosphere.airmass_kasten_young`); None without air."""
+        alt = self._settings.altitude_deg
+        return None if alt is None else float(airmass_kasten_young(alt))
+
+    @property
     def slider_position(self) -> int:
         """The slider position of the current temperature (clipped to the slider's ends)."""
         return self._position
@@ -720,8 +767,13 @@ class WindowModel:
         self._schedule_table()
         self.events.magnitude.emit(origin, m)
 
-    def set_settings(self, settings: Settings, origin: str = "") -> None:
-        """Replace the settings object; every view redraws (nothing happens if it is equal)."""
+    def set_settings(self, settings: Settings, origin: str = "", merge: bool = False) -> None:
+        """Replace the settings object; every view redraws (nothing happens if it is equal).
+
+        ``merge``: the change joins the newest history entry while it stays open (the steps
+        of one slider drag, :meth:`SettingsHistory.merge`), else opens a new one that may be
+        joined; :meth:`end_merge` closes it.
+        """
         try:
             if not isinstance(settings, Settings):
                 raise StarkilnError(f"not a settings object: {settings!r}")
@@ -729,19 +781,30 @@ class WindowModel:
                 return
             colour = self._colour_for(settings, self._temperature_K, self._magnitude)
             plots = self._plots_for(settings)
+            arriving = arriving_curve(settings, self._temperature_K,
+                                      self.spectrum_wavelength_nm)
         except StarkilnError as exc:
             self._report(origin, exc)
             raise
         before = self._settings
         self._settings, self._colour, self._plots = settings, colour, plots
+        self._arriving = arriving
         self._schedule_table()
-        entry = None
+        entry, kind = None, "push"
         if origin not in (UNDO_ORIGIN, REDO_ORIGIN):
-            entry = self.history.push(before, settings)
+            entry = self.history.merge(before, settings) if merge else None
+            if entry is None:
+                entry = self.history.push(before, settings, open_merge=merge)
+            else:
+                kind = "merge"
         self.events.settings.emit(origin, settings)
         self.events.plots.emit(origin, plots)
         if entry is not None:
-            self.events.history.emit(origin, HistoryChange("push", entry))
+            self.events.history.emit(origin, HistoryChange(kind, entry))
+
+    def end_merge(self) -> None:
+        """The next settings change is an undo step of its own (a slider drag ended)."""
+        self.history.close_merge()
 
     # -- undo ----------------------------------------------------------------------------------
     def undo(self) -> bool:
@@ -769,14 +832,15 @@ class WindowModel:
         self.history.clear()
         self.events.history.emit("", HistoryChange("clear", None))
 
-    def change(self, origin: str = "", **fields) -> None:
-        """Change some settings fields (validated by :meth:`Settings.replace`)."""
+    def change(self, origin: str = "", merge: bool = False, **fields) -> None:
+        """Change some settings fields (validated by :meth:`Settings.replace`); ``merge`` as
+        in :meth:`set_settings`."""
         try:
             settings = self._settings.replace(**fields)
         except StarkilnError as exc:
             self._report(origin, exc)
             raise
-        self.set_settings(settings, origin)
+        self.set_settings(settings, origin, merge)
 
     def change_display(self, origin: str = "", **fields) -> None:
         """Change some fields of the current display (name, primaries, transfer, peak...)."""
@@ -1107,6 +1171,7 @@ class WindowModel:
     def _place(self, t: float, position: int | None, colour: CurrentColour) -> None:
         """Commit a new temperature: its colour, spectrum and slider position."""
         spectrum = planck_curve(t, self.spectrum_wavelength_nm)
+        self._arriving = arriving_curve(self._settings, t, self.spectrum_wavelength_nm)
         if position is None:
             self._fraction = float(self.slider_scale.fraction_of(t))
             self._position = int(round(self._fraction * self.slider_scale.steps))

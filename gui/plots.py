@@ -160,11 +160,12 @@ def _style_axes(plot: pg.PlotItem, theme: Theme) -> None:
 
 
 class SpectrumCurve(pg.GraphicsObject):
-    """The Planck curve, its faint fill and the visible band's coloured fill, as one item.
+    """The Planck curve, its faint fill and the visible band's coloured fill, as one item;
+    with a path of the light, the arriving curve too (dashed, over the emitted one).
 
     One item with a fixed bounding box (the plot range) repaints at every
-    slider step much faster than three curve items: a new curve only rebuilds
-    three painter paths. The colours are the engine's (see :meth:`set_band_brush`).
+    slider step much faster than several curve items: a new curve only rebuilds
+    its painter paths. The colours are the engine's (see :meth:`set_band_brush`).
     """
 
     def __init__(self, x_range, y_top: float = 1.0):
@@ -177,8 +178,12 @@ class SpectrumCurve(pg.GraphicsObject):
         self._outline = _pen("#000000", 4.0)
         self._dim = QtGui.QBrush(QtGui.QColor(0, 0, 0, 0))
         self._band_brush = QtGui.QBrush(QtGui.QColor(0, 0, 0, 0))
+        self._arriving = QtGui.QPainterPath()
+        self._arriving_pen = _pen("#ffffff", 2.0, QtCore.Qt.PenStyle.DashLine)
         self.x = np.zeros(0)
         self.y = np.zeros(0)
+        self.arriving_x: np.ndarray | None = None
+        self.arriving_y: np.ndarray | None = None
 
     def set_style(self, pen: QtGui.QPen, dim: QtGui.QBrush,
                   outline: QtGui.QPen | None = None) -> None:
@@ -187,6 +192,18 @@ class SpectrumCurve(pg.GraphicsObject):
         self._pen, self._dim = pen, dim
         if outline is not None:
             self._outline = outline
+        self.update()
+
+    def set_arriving_pen(self, pen: QtGui.QPen) -> None:
+        """Stroke of the arriving curve (drawn over the outline pen, as the emitted one)."""
+        self._arriving_pen = pen
+        self.update()
+
+    def set_arriving(self, x: np.ndarray | None, y: np.ndarray | None) -> None:
+        """The arriving curve's points, or None for none."""
+        self.arriving_x, self.arriving_y = x, y
+        self._arriving = (QtGui.QPainterPath() if x is None else
+                          pg.arrayToQPath(x, y, connect="all", finiteCheck=False))
         self.update()
 
     def set_band_brush(self, brush: QtGui.QBrush) -> None:
@@ -219,6 +236,9 @@ class SpectrumCurve(pg.GraphicsObject):
         p.setRenderHint(QtGui.QPainter.RenderHint.Antialiasing, True)
         p.strokePath(self._curve, self._outline)
         p.strokePath(self._curve, self._pen)
+        if not self._arriving.isEmpty():
+            p.strokePath(self._arriving, self._outline)
+            p.strokePath(self._arriving, self._arriving_pen)
 
 
 class SpectrumView(pg.PlotWidget):
@@ -272,6 +292,11 @@ class SpectrumView(pg.PlotWidget):
             self.overlays[key] = items
         self.legend.setVisible(False)
         plot.addItem(self.curve)
+        # the legend's samples of the emitted and the arriving curves: stand-in lines with
+        # their pens (both curves are drawn by the one item above)
+        self.emitted_sample = pg.PlotDataItem()
+        self.arriving_sample = pg.PlotDataItem()
+        self._path_words = ""
         self.peak_line = pg.InfiniteLine(angle=90, movable=False)
         plot.addItem(self.peak_line)
         self.peak_label = pg.TextItem("", anchor=(0.0, 0.0))
@@ -301,6 +326,10 @@ class SpectrumView(pg.PlotWidget):
         for item in self.edge_labels + self.region_labels:
             item.setColor(QtGui.QColor(theme.plot_axis))
         self.peak_line.setPen(_pen(theme.marker, 1, QtCore.Qt.PenStyle.DotLine))
+        arriving = _pen(theme.curve_arriving, 2.0, QtCore.Qt.PenStyle.DashLine)
+        self.curve.set_arriving_pen(arriving)
+        self.arriving_sample.setPen(arriving)
+        self.emitted_sample.setPen(_pen(theme.curve, 2.0))
         self.peak_label.setColor(QtGui.QColor(theme.marker))
         dash = QtCore.Qt.PenStyle
         styles = {"photopic": (theme.overlay_photopic, dash.DashLine),
@@ -337,12 +366,40 @@ class SpectrumView(pg.PlotWidget):
             for item, part in zip(self.overlays[key], parts):
                 wl, values = curves[part]
                 item.setData(wl, values)
+        s = plots.settings
+        words = " and ".join(w for w, on in (("dust", s.dust_ebv > 0.0),
+                                              ("air", s.altitude_deg is not None)) if on)
+        if words != self._path_words:
+            self._path_words = words
+            self._rebuild_legend()
+        self._show_arriving()
+
+    def _show_arriving(self) -> None:
+        """The model's arriving curve (hidden when nothing lies on the light's path)."""
+        a = self.model.arriving
+        if a is None:
+            self.curve.set_arriving(None, None)
+        else:
+            self.curve.set_arriving(a.wavelength_nm, a.relative_radiance)
+
+    @property
+    def arriving_shown(self) -> bool:
+        """Whether the arriving curve is drawn."""
+        return self.curve.arriving_x is not None
+
+    @property
+    def legend_texts(self) -> list[str]:
+        """The legend's entries as shown (empty when it is hidden)."""
+        if not self.legend.isVisible():
+            return []
+        return [label.text for _sample, label in self.legend.items]
 
     def _show_curve(self) -> None:
         """Redraw the Planck curve and its peak for the model's temperature."""
         c = self.model.spectrum
         y = c.relative_radiance
         self.curve.set_curve(self._wl, y, self._band)
+        self._show_arriving()
         self._peak_nm = c.peak_nm
         lo, hi = SPECTRUM_PLOT_RANGE_NM
         if lo <= c.peak_nm <= hi:
@@ -460,10 +517,16 @@ class SpectrumView(pg.PlotWidget):
         if not hasattr(self, "_overlay_on"):
             return
         self.legend.clear()
+        words = getattr(self, "_path_words", "")
+        if words:
+            self.legend.addItem(self.emitted_sample, "sent by the star")
+            self.legend.addItem(self.arriving_sample, f"at the eye, after {words}")
         for k, items in self.overlays.items():
             if self._overlay_on[k]:
                 self.legend.addItem(items[0], OVERLAYS[k][0])
-        self.legend.setVisible(any(self._overlay_on.values()))
+        self.legend.setVisible(bool(words) or any(self._overlay_on.values()))
+        # the legend does not move at a slider step: painted once, not under every new curve
+        cache_static(self.legend, *(part for row in self.legend.items for part in row))
 
 
 WHOLE_LABELS_K = (2000.0, 4000.0, 10000.0)

@@ -58,6 +58,7 @@ class Theme:
     plot_axis: str
     plot_grid: str
     curve: str
+    curve_arriving: str  # the spectrum after dust and air (dashed, over the emitted curve)
     overlay_photopic: str
     overlay_scotopic: str
     overlay_cmf: tuple[str, str, str]
@@ -75,7 +76,7 @@ DIM = Theme(
     text="#ff3a1a", muted="#f02e12", disabled="#bc1e0a", accent="#ff4020", border="#4a0c02",
     error="#ff4424",
     plot_background="#050000", plot_axis="#f8321a", plot_grid="#2a0600",
-    curve="#ff4020", overlay_photopic="#ff3a1a", overlay_scotopic="#f8321a",
+    curve="#ff4020", curve_arriving="#ff4828", overlay_photopic="#ff3a1a", overlay_scotopic="#f8321a",
     overlay_cmf=("#ff3a1a", "#ff3a1a", "#ff3a1a"),
     locus="#f02e12", planckian="#ff3a1a", gamut="#f8361a", marker="#ff4420",
     outline="#000000", dash_overlays=True,
@@ -87,7 +88,7 @@ ORDINARY = Theme(
     text="#f2f0ea", muted="#b4b6b8", disabled="#85878a", accent="#8fc0da", border="#4a4d52",
     error="#ff9a82",
     plot_background="#1e2023", plot_axis="#b4b6b8", plot_grid="#383b3f",
-    curve="#f2efe6", overlay_photopic="#9fd08a", overlay_scotopic="#8fb4ff",
+    curve="#f2efe6", curve_arriving="#f0a060", overlay_photopic="#9fd08a", overlay_scotopic="#8fb4ff",
     overlay_cmf=("#ff8f8f", "#8fe09a", "#9fb0ff"),
     locus="#c9c6bd", planckian="#f0c070", gamut="#8fc0da", marker="#ffffff",
     outline="#000000", dash_overlays=False,
@@ -99,7 +100,7 @@ LIGHT = Theme(
     text="#1b1a17", muted="#4f4c46", disabled="#8a857c", accent="#1d5a85", border="#b9b4aa",
     error="#a3260f",
     plot_background="#ffffff", plot_axis="#3d3a35", plot_grid="#e4e1da",
-    curve="#1b1a17", overlay_photopic="#1d6b2a", overlay_scotopic="#2450a8",
+    curve="#1b1a17", curve_arriving="#8a4e00", overlay_photopic="#1d6b2a", overlay_scotopic="#2450a8",
     overlay_cmf=("#a3260f", "#1d6b2a", "#2450a8"),
     locus="#3d3a35", planckian="#8a4e00", gamut="#1d5a85", marker="#000000",
     outline="#ffffff", dash_overlays=False,

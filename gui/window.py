@@ -443,8 +443,12 @@ class MainWindow(QtWidgets.QMainWindow):
         self._show_monitor()
         s = self.model.settings
         self.chroma_key.setText(self.chromaticity.key_html())
+        path = "".join(((f" \u00b7 dust E(B-V) {s.dust_ebv:g}" if s.dust_ebv > 0 else ""),
+                        (f" \u00b7 air at {s.altitude_deg:g}\u00b0"
+                         if s.altitude_deg is not None else "")))
         self.summary.setText(f"white {s.scene_white} \u2192 {s.display.name} \u00b7 "
-                             f"{s.adaptation} \u00b7 gamut {s.gamut} \u00b7 vision {s.vision}")
+                             f"{s.adaptation} \u00b7 gamut {s.gamut} \u00b7 vision {s.vision}"
+                             f"{path}")
 
     def _show_monitor(self) -> None:
         self.monitor_status.setText(self.model.monitor_status())
@@ -462,6 +466,10 @@ class MainWindow(QtWidgets.QMainWindow):
         h = change.value
         if h.kind == "push":
             self.undo_stack.push(SettingsCommand(self, h.entry.text))
+        elif h.kind == "merge":  # a slider drag goes on: the newest command says its words
+            top = self.undo_stack.command(self.undo_stack.index() - 1)
+            if top is not None:
+                top.setText(h.entry.text)
         elif h.kind == "clear":
             self.undo_stack.clear()
         elif not self._stack_driving:  # the model was asked directly: move the stack along

@@ -260,3 +260,19 @@ def test_saved_session_that_is_broken_is_ignored_not_raised():
                  "display = true"):
         assert settings_from_toml(text) is None
     assert settings_from_toml('scene_white = "D50"').scene_white == "D50"
+
+
+def test_a_drag_is_one_undo_step(model):
+    # The steps of one slider drag merge into one history entry (common practice in editors:
+    # a drag is one action); the next drag starts a new one.
+    start = model.settings
+    for ebv in (0.1, 0.2, 0.3):
+        model.change("path", merge=True, dust_ebv=ebv)
+    model.end_merge()
+    assert len(model.history) == 1 and model.history.undo_text == "dust E(B-V)"
+    after_first = model.settings
+    model.change("path", merge=True, dust_ebv=0.5)
+    assert len(model.history) == 2
+    assert model.undo() and model.settings is after_first
+    assert model.undo() and model.settings is start
+    assert model.redo() and model.settings.dust_ebv == 0.3

@@ -198,3 +198,24 @@ def test_demo_dome_profile_is_valid_and_marked_invented():
     d = load_display_profile(str(path))
     assert d.transfer == "gamma" and d.gamma == 2.4 and d.peak_luminance_cd_m2 == 12.0
     assert "invented" in json.loads(path.read_text())["note"].lower()
+
+
+# -- the light's path on the spectrum plot ---------------------------------------------------
+def test_arriving_curve_none_without_a_path_and_the_airs_own_range():
+    from starkiln.engine.plotdata.plots import arriving_curve
+
+    wl = spectrum_plot_wavelengths_nm()
+    assert arriving_curve(Settings(), 5772.0, wl) is None
+    # Zenith, sea level, no aerosol, no ozone: at 550 nm only Rayleigh scattering remains,
+    # tau_R = 0.0973 ([Bucholtz1995] Table 5 / text, at 550 nm), so the arriving curve
+    # is the emitted one times exp(-0.0973) there (to the 4th digit of tau)
+    s = Settings(altitude_deg=90.0, aerosol_tau550=0.0, ozone_du=0.0)
+    a = arriving_curve(s, 5772.0, wl)
+    emitted = planck_curve(5772.0, wl)
+    i = int(np.flatnonzero(a.wavelength_nm == 550.0)[0])
+    j = int(np.flatnonzero(wl == 550.0)[0])
+    assert a.relative_radiance[i] / emitted.relative_radiance[j] == pytest.approx(
+        np.exp(-0.0973), rel=2e-4)
+    # drawn only where the air model is complete: 360 nm (its ozone table) to 2200 nm
+    # (the end of Bucholtz's fit)
+    assert a.wavelength_nm.min() >= 360.0 and a.wavelength_nm.max() <= 2200.0

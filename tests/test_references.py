@@ -117,6 +117,7 @@ TEST_ONLY = {
     "Colina1996": "the CALSPEC solar spectrum (test extra only, never shipped)",
     "CasagrandeVandenBerg2018": "an independent BP-RP temperature check",
     "vanLeeuwen2007": "the Hipparcos 2 catalogue (test extra only, never shipped)",
+    "Ohno2014": "the Planckian locus and CCT the window's dust test compares with",
 }
 
 

@@ -56,6 +56,10 @@ SEA_LEVEL_HPA = 1013.25
 #: dry land is about -430 m).
 SITE_HEIGHT_RANGE_M = (-500.0, 11000.0)
 ALTITUDE_RANGE_DEG = (0.0, 90.0)
+#: Wavelengths over which the model above is complete, nm: from the ozone table's first bin
+#: (below it the Huggins and Hartley bands, left out here, absorb strongly) to the end of
+#: Bucholtz's fit (module docstring, steps 2 and 4).
+MODEL_RANGE_NM = (360.0, 2200.0)
 #: Defaults for a clear site (common practice, see the module docstring).
 AEROSOL_TAU550_DEFAULT = 0.05
 ANGSTROM_DEFAULT = 1.3

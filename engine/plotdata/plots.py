@@ -12,7 +12,8 @@ through the same chain as :func:`starkiln.engine.pipeline.render.render`:
   settings' gamut mapping.
 - :func:`planckian_locus_xy`, :func:`chromaticity_diagram`: the lines and
   points of the chromaticity diagram ([CIE15] section 7.3).
-- :func:`planck_curve`, :func:`efficiency_overlays`: the spectrum plot.
+- :func:`planck_curve`, :func:`efficiency_overlays`: the spectrum plot;
+  :func:`arriving_curve`: the same star's light as it arrives through dust and air.
 - :func:`magnitude_ladder`: the magnitudes of the brightness strip.
 
 The sky preview (demo cluster and its picture) is :mod:`starkiln.engine.plotdata.sky`.
@@ -364,6 +365,64 @@ def planck_curve(temperature_K: float, wavelength_nm) -> PlanckCurve:
         raise InputRangeError("wavelengths must be positive and finite")
     radiance = planck_radiance(t, wl)
     return PlanckCurve(t, wl, radiance / radiance.max(), float(peak_wavelength_nm(t)))
+
+
+@dataclass(frozen=True)
+class ArrivingCurve:
+    """The Planck curve after the path of the light, on the emitted curve's scale.
+
+    ``relative_radiance`` is divided by the largest *emitted* radiance on the plot's grid, so
+    that the two curves share one axis and the gap between them is what dust and air take.
+    ``wavelength_nm`` is the part of the plot's grid the path model covers
+    (:func:`arriving_curve`).
+    """
+
+    temperature_K: float
+    wavelength_nm: np.ndarray
+    relative_radiance: np.ndarray
+
+
+def arriving_curve(settings: Settings, temperature_K: float,
+                   wavelength_nm) -> ArrivingCurve | None:
+    """The spectrum of a star as it arrives at the eye, scaled like :func:`planck_curve`.
+
+    Parameters
+    ----------
+    settings : Settings
+        The path of the light (dust E(B-V), law and R_V; altitude and air).
+    temperature_K : float
+        500-100 000 K.
+    wavelength_nm : array_like
+        The plot's grid (that of the emitted curve).
+
+    Returns
+    -------
+    ArrivingCurve or None
+        None when the settings put nothing on the way
+        (:func:`starkiln.engine.path.chain.has_path`). Else
+        ``Planck(T) x transmission / max(Planck(T))`` over the grid points the path model
+        covers: every point with dust alone (the laws span 100-3333 nm or more); with the
+        atmosphere, only :data:`starkiln.engine.path.atmosphere.MODEL_RANGE_NM`, where its
+        model is complete (no curve is drawn where the model would show light that ozone in
+        fact absorbs).
+
+    References
+    ----------
+    [Planck1901]; :func:`starkiln.engine.path.chain.arriving_spectrum` ([Cardelli1989] eq. 1,
+    [DustExtinction], [KastenYoung1989], [Bucholtz1995]).
+    """
+    from starkiln.engine.path.atmosphere import MODEL_RANGE_NM
+    from starkiln.engine.path.chain import arriving_spectrum, has_path
+
+    if not has_path(settings):
+        return None
+    t = float(check_temperature(temperature_K))
+    wl = np.asarray(wavelength_nm, dtype=np.float64)
+    peak = float(planck_radiance(t, wl).max())
+    if settings.altitude_deg is not None:
+        lo, hi = MODEL_RANGE_NM
+        wl = wl[(wl >= lo) & (wl <= hi)]
+    return ArrivingCurve(t, wl, arriving_spectrum(settings, t, wl) / peak)
 
 
 def efficiency_overlays(observer: str = "cie1931") -> dict[str, tuple[np.ndarray, np.ndarray]]:
