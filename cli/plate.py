@@ -6,7 +6,7 @@ heavy at module level.
 
 from __future__ import annotations
 
-from starkiln.cli.catalogue import add_engine_options, engine_from_args
+from starkiln.cli.catalogue import add_dust_column_options, add_engine_options, engine_from_args
 from starkiln.cli.options import add_colour_options, add_index_model_option, number, settings_from_args
 from starkiln.engine.errors import StarkilnError
 
@@ -37,6 +37,7 @@ def add_parsers(sub) -> None:
     c.add_argument("--magnitude-column", metavar="NAME", help="apparent magnitudes")
     c.add_argument("--magnitude", type=number, metavar="M", help="one magnitude for every row")
     c.add_argument("--magnitude-band", metavar="V|G", default="V", help="V (default) or G")
+    add_dust_column_options(c)
     g = p.add_argument_group("plate")
     g.add_argument("--projection", default="equirect", metavar="|".join(PROJECTIONS),
                    help="equirect (whole sphere, 2:1; default), fisheye (equidistant dome) or "
@@ -200,6 +201,10 @@ def _apply_old_plate(args):
         setattr(args, source_option, cols.get("source_column"))
     if cols.get("magnitude"):
         args.magnitude_column, args.magnitude = cols["magnitude"], None
+    if cols.get("dust"):
+        args.ebv_column = args.av_column = None
+        setattr(args, "av_column" if cols.get("dust_quantity") == "av" else "ebv_column",
+                cols["dust"])
     args.old_settings = old["settings"]
 
 

@@ -24,11 +24,11 @@ from dataclasses import dataclass
 import numpy as np
 
 from starkiln.engine.catalogue.columns import arrow_values, output_schema, status_array
-from starkiln.engine.catalogue.plan import (BLUER_THAN_BLACKBODY, EXTRAPOLATED, LAST_COLOURED,
-                                            MAGNITUDE_MAX, MAGNITUDE_MIN,
-                                            MAGNITUDE_OUT_OF_RANGE, MISSING_MAGNITUDE,
-                                            MISSING_TEMPERATURE, NOT_A_NUMBER, OUT_OF_RANGE,
-                                            STATUSES, CataloguePlan)
+from starkiln.engine.catalogue.plan import (BLUER_THAN_BLACKBODY, DUST_OUT_OF_RANGE,
+                                            EXTRAPOLATED, LAST_COLOURED, MAGNITUDE_MAX,
+                                            MAGNITUDE_MIN, MAGNITUDE_OUT_OF_RANGE,
+                                            MISSING_DUST, MISSING_MAGNITUDE, MISSING_TEMPERATURE,
+                                            NOT_A_NUMBER, OUT_OF_RANGE, STATUSES, CataloguePlan)
 
 
 @dataclass
@@ -110,9 +110,10 @@ def colour_values(plan: CataloguePlan, columns: dict) -> Coloured:
     if not plan.exact:  # build (or load) the grid once, before the threads need it
         from starkiln.engine.catalogue.grid_cache import colour_grid
 
-        colour_grid(plan.settings, plan.with_magnitude)
+        dust = plan.dust_column is not None
+        colour_grid(plan.settings, plan.with_magnitude, dust)
         for ws in plan.linear_settings:
-            colour_grid(ws, plan.with_magnitude)
+            colour_grid(ws, plan.with_magnitude, dust)
     bounds = np.linspace(0, n, parts + 1).astype(int)
     out = [np.empty(n, dtype=np.float32) for _ in range(4 + len(plan.linear_names))]
     codes = np.empty(n, dtype=np.uint8)
@@ -152,7 +153,8 @@ def colour_values_serial(plan: CataloguePlan, columns: dict) -> Coloured:
     -----
     The first reason found wins, in this order: temperature source missing,
     not a number, out of range; then magnitude missing, not a number, out of
-    range. Accepted ranges: 500-100 000 K; with the synthetic index model (default) B-V
+    range; then the dust column missing, not a number, out of range (E(B-V), or A_V / R_V,
+    0-10 mag: [Cardelli1989] section I, E(B-V) >= 0). Accepted ranges: 500-100 000 K; with the synthetic index model (default) B-V
     -0.40 to 10.66 and BP-RP -0.60 to 14.82, colours bluer than the 100 000 K blackbody
     coloured at 100 000 K with status ``bluer-than-blackbody``
     (:func:`starkiln.engine.stars.temperature.index_range`); with the relation model B-V
@@ -209,6 +211,17 @@ def colour_values_serial(plan: CataloguePlan, columns: dict) -> Coloured:
                   MAGNITUDE_OUT_OF_RANGE)
         v_mag = mag
 
+    ebv = None
+    if plan.dust_column is not None:
+        from starkiln.engine.path.dust import EBV_RANGE
+
+        dust_in, dust_missing = columns[plan.dust_column]
+        _flag(codes, dust_missing, MISSING_DUST)
+        _flag(codes, ~np.isfinite(dust_in), NOT_A_NUMBER)
+        ebv = dust_in / plan.settings.dust_rv if plan.dust_quantity == "av" else dust_in
+        with np.errstate(invalid="ignore"):
+            _flag(codes, ~((ebv >= EBV_RANGE[0]) & (ebv <= EBV_RANGE[1])), DUST_OUT_OF_RANGE)
+
     coloured = codes <= LAST_COLOURED
     all_coloured = bool(coloured.all())
     blank = None if all_coloured else ~coloured
@@ -229,8 +242,10 @@ def colour_values_serial(plan: CataloguePlan, columns: dict) -> Coloured:
                                                   extrapolate=True)
     if v_mag is not None and not all_coloured:
         v_mag = np.where(coloured, v_mag, 0.0)
+    if ebv is not None and not all_coloured:
+        ebv = np.where(coloured, ebv, 0.0)
 
-    (r, g, b, intensity), linear = _colours(plan, temperature_K, v_mag)
+    (r, g, b, intensity), linear = _colours(plan, temperature_K, v_mag, ebv)
     if blank is not None:
         for a in (r, g, b, intensity) + linear:
             a[blank] = np.nan
@@ -249,9 +264,10 @@ def _channels(rgb) -> tuple:
     return tuple(np.ascontiguousarray(rgb[:, k]) for k in range(3))
 
 
-def _colours(plan: CataloguePlan, temperature_K, v_mag):
+def _colours(plan: CataloguePlan, temperature_K, v_mag, ebv=None):
     """(r, g, b, intensity) and the linear working-space channels (float32), from the colour
-    grids or, with ``exact``, from one render per chunk.
+    grids or, with ``exact``, from one render per chunk (``ebv``: per-star E(B-V) of a dust
+    column, to the render path as ``dust_ebv``; the grid then has an E(B-V) axis).
 
     Exact: the chunk is rendered once, and each working space's colours come from the same
     render (:func:`starkiln.engine.pipeline.render.same_stars_in`: its tristimulus values and
@@ -261,17 +277,19 @@ def _colours(plan: CataloguePlan, temperature_K, v_mag):
     if plan.exact:
         from starkiln.engine.pipeline.render import render, same_stars_in
 
-        rendered = render(plan.settings, temperature_K, v_mag)
+        rendered = render(plan.settings, temperature_K, v_mag, dust_ebv=ebv)
         inten = np.broadcast_to(rendered.intensity, temperature_K.shape).astype(np.float32)
         linear = tuple(a for ws in plan.linear_settings
                        for a in _channels(same_stars_in(ws, rendered)))
         return _channels(rendered.rgb_encoded) + (inten,), linear
     from starkiln.engine.catalogue.grid_cache import colour_grid
 
-    grid = colour_grid(plan.settings, v_mag is not None)
+    dust = ebv is not None
+    grid = colour_grid(plan.settings, v_mag is not None, dust)
     linear = tuple(a for ws in plan.linear_settings
-                   for a in colour_grid(ws, v_mag is not None).lookup(temperature_K, v_mag)[:3])
-    return tuple(grid.lookup(temperature_K, v_mag)), linear
+                   for a in colour_grid(ws, v_mag is not None, dust).lookup(temperature_K, v_mag,
+                                                                            ebv)[:3])
+    return tuple(grid.lookup(temperature_K, v_mag, ebv)), linear
 
 
 # --- pyarrow and pandas wrappers ---------------------------------------------------------

@@ -217,7 +217,9 @@ def make_plate(input_path, output_path, plan, spec, *, ra_column=None, dec_colum
                           values=values, counts=counts,
                           columns={"ra": ra_col, "dec": dec_col, "source": plan.source,
                                    "source_column": plan.source_column,
-                                   "magnitude": plan.magnitude_column},
+                                   "magnitude": plan.magnitude_column,
+                                   "dust": plan.dust_column,
+                                   "dust_quantity": plan.dust_quantity},
                           output_type=output_type,
                           layout=plate_files.CROSS_LAYOUT if cube else None)
     if cube:
