@@ -101,7 +101,7 @@ def test_a_constant_column_is_the_same_run_as_a_fixed_ebv(tmp_path):
 def test_dust_grid_is_within_its_documented_delta_e_of_render(colour):
     # The temperature x E(B-V) grid (large runs without magnitudes) against render(dust_ebv=)
     # on random stars, CIEDE2000 by colour-science ([CIE15] section 8.3) on the decoded sRGB
-    # colours: at most 0.05 (docs/performance.md; measured 0.018 at the grid's 0.05 step).
+    # colours: at most 0.1 (docs/performance.md; measured 0.046), within the 0.2 every grid keeps.
     rng = np.random.default_rng(14)
     n = 80_000
     t = np.exp(rng.uniform(np.log(500.0), np.log(100_000.0), n))
@@ -118,7 +118,7 @@ def test_dust_grid_is_within_its_documented_delta_e_of_render(colour):
 
     grid_rgb = np.column_stack([res.r, res.g, res.b]).astype(np.float64)
     de = colour.delta_E(lab(grid_rgb), lab(exact.rgb_encoded), method="CIE 2000")
-    assert float(de.max()) <= 0.05, float(de.max())
+    assert float(de.max()) <= 0.1, float(de.max())
 
 
 def test_reddened_star_matches_g23_through_bessell_filters_and_colour_science(colour):

@@ -30,9 +30,12 @@ kept by :mod:`starkiln.engine.catalogue.grid_cache`):
   temperatures (mired) x E(B-V) from 0 to ``EBV_GRID_MAX`` in steps of ``EBV_STEP``, filled
   by ``render(settings, T[None, :], dust_ebv=ebv[:, None])`` and interpolated bilinearly
   (the extinction curve is linear in E(B-V), [Cardelli1989] eq. 1, and the colour smooth
-  along it). Its error against ``render(dust_ebv=...)`` is measured in
-  ``tests/test_path_outputs.py`` (CIEDE2000, colour-science as the referee) and reported in
-  docs/performance.md.
+  along it). Its cells where interpolation misses render (found as for the other grids,
+  1.3 % of them with the default settings) are not rendered per row but refined: each holds
+  a ``DUST_FINE`` x ``DUST_FINE`` sub-grid rendered when the grid is built (about 9 s once,
+  then read from disk), so a lookup never calls ``render``. Its error against
+  ``render(dust_ebv=...)`` is measured in ``tests/test_path_outputs.py`` (CIEDE2000 at most
+  0.1, measured 0.046; colour-science as the referee) and reported in docs/performance.md.
 - **Cells rendered exactly**: where the render path is not smooth (the CIE 191
   mesopic step, kinks, dark channels at the gamut edge) a few per cent of the
   cells are marked when the grid is built; rows that fall into them are
@@ -74,6 +77,8 @@ MAGNITUDE_STEP = 0.1
 DUST_GRID_NODES = 2048
 EBV_STEP = 0.05
 EBV_GRID_MAX = 10.0
+#: Sub-grid steps per side of a dust grid's refined cells.
+DUST_FINE = 8
 CHANNELS = ("r", "g", "b", "intensity")  # the four columns of a grid, in order
 
 
@@ -95,6 +100,10 @@ class ColourGrid:
         rendered exactly (see the module docstring), or None when there is none.
     ebv_nodes : (M,) node E(B-V) values of a dust grid (rows of E(B-V) instead of
         magnitudes), or None.
+    fine_cells : int32 array over cells (index ``j * N + i``): for a dust grid, the block of
+        ``fine_values`` that refines the cell, -1 where none does; or None.
+    fine_values : (B, FINE + 1, FINE + 1, 4) float32: render's outputs on a FINE x FINE
+        sub-grid of each refined cell (E(B-V) rows, temperature columns), or None.
     """
 
     settings: Settings
@@ -104,6 +113,8 @@ class ColourGrid:
     slopes: np.ndarray | None
     exact_cells: np.ndarray | None = None
     ebv_nodes: np.ndarray | None = None
+    fine_cells: np.ndarray | None = None
+    fine_values: np.ndarray | None = None
 
     @property
     def with_dust(self) -> bool:
@@ -123,12 +134,17 @@ class ColourGrid:
     @property
     def nbytes(self) -> int:
         """Memory held by the grid's arrays."""
-        arrays = (self.values, self.slopes, self.exact_cells)
+        arrays = (self.values, self.slopes, self.exact_cells, self.fine_cells,
+                  self.fine_values)
         return int(sum(a.nbytes for a in arrays if a is not None))
 
     @property
     def exact_fraction(self) -> float:
-        """Fraction of the grid's cells that are rendered exactly."""
+        """Fraction of the grid's cells that are rendered exactly (for a dust grid: refined
+        by its sub-grid)."""
+        if self.fine_cells is not None:
+            n_cells = (self.mired_nodes.size - 1) * (self._rows.size - 1)
+            return float(np.count_nonzero(self.fine_cells >= 0)) / n_cells
         if self.exact_cells is None:
             return 0.0
         n_cells = (self.mired_nodes.size - 1) * (
@@ -206,7 +222,34 @@ class ColourGrid:
         high -= low
         high *= m[:, None]
         low += high
+        if self.fine_cells is not None:
+            k -= n_t
+            return self._fine_rows(low, k, x, m)
         return self._exact_rows(low, k, t, magnitude, n_t, x, dust_ebv)
+
+    def _fine_rows(self, out, cell, frac_t, frac_second):
+        """Channels of ``out`` (n, 4) as four arrays, the rows in refined cells interpolated
+        bilinearly on their cell's sub-grid instead (render's values at its nodes)."""
+        channels = tuple(np.ascontiguousarray(out[:, c]) for c in range(4))
+        block = self.fine_cells.take(cell)
+        rows = np.flatnonzero(block >= 0)
+        if rows.size == 0:
+            return channels
+        k = self.fine_values.shape[1] - 1
+        b = block[rows]
+        u = frac_t[rows].astype(np.float64) * k
+        v = frac_second[rows].astype(np.float64) * k
+        iu = np.minimum(u.astype(np.intp), k - 1)
+        iv = np.minimum(v.astype(np.intp), k - 1)
+        u = (u - iu)[:, None]
+        v = (v - iv)[:, None]
+        f = self.fine_values
+        low = f[b, iv, iu] * (1 - u) + f[b, iv, iu + 1] * u
+        high = f[b, iv + 1, iu] * (1 - u) + f[b, iv + 1, iu + 1] * u
+        vals = low * (1 - v) + high * v
+        for c in range(4):
+            channels[c][rows] = vals[:, c]
+        return channels
 
     def _exact_rows(self, out, cell, temperature_K, magnitude, shift=0, frac=None,
                     dust_ebv=None):

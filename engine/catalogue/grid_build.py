@@ -24,7 +24,8 @@ from __future__ import annotations
 
 import numpy as np
 
-from starkiln.engine.catalogue.colour_grid import (DUST_GRID_NODES, EBV_GRID_MAX, EBV_STEP,
+from starkiln.engine.catalogue.colour_grid import (DUST_FINE, DUST_GRID_NODES, EBV_GRID_MAX,
+                                                   EBV_STEP,
                                                    GRID_NODES, MAGNITUDE_MAX, MAGNITUDE_MIN,
                                                    MAGNITUDE_STEP, VISION_GRID_NODES, ColourGrid,
                                                    grid_mired_nodes, node_temperatures)
@@ -323,8 +324,9 @@ def build_dust_grid(settings: Settings) -> ColourGrid:
     -------
     ColourGrid
         ``ebv_nodes`` from 0 to :data:`EBV_GRID_MAX` in steps of :data:`EBV_STEP`; rows of
-        :data:`DUST_GRID_NODES` temperatures; cells rendered exactly marked as for the other
-        grids (:func:`_exact_cells`).
+        :data:`DUST_GRID_NODES` temperatures; the cells the other grids would render exactly
+        (:func:`_exact_cells`) refined by a :data:`DUST_FINE` x :data:`DUST_FINE` sub-grid
+        of render's values instead.
 
     References
     ----------
@@ -350,12 +352,29 @@ def build_dust_grid(settings: Settings) -> ColourGrid:
         centre_interp[j0:j1] = 0.25 * (c[:-1, :-1] + c[:-1, 1:] + c[1:, :-1] + c[1:, 1:])
     cells = _exact_cells(settings, out, centre_exact, centre_interp, mired, ebv,
                          at_rows=_at_dust)
-    flags = None
+    fine_cells = np.full((n_e, n_t), -1, dtype=np.int32)
+    fine_values = np.zeros((0, DUST_FINE + 1, DUST_FINE + 1, 4), dtype=np.float32)
     if cells is not None:
-        flags = np.zeros((n_e, n_t), dtype=bool)
-        flags[:-1, :-1] = cells
-        flags = flags.reshape(-1)
+        j, i = np.nonzero(cells)
+        fine_cells[j, i] = np.arange(j.size, dtype=np.int32)
+        fine_values = _fine_blocks(settings, mired, ebv, j, i)
     slopes = np.zeros_like(out)
     slopes[:, :-1] = out[:, 1:] - out[:, :-1]
-    return ColourGrid(settings, mired, None, out.reshape(-1, 4), slopes.reshape(-1, 4), flags,
-                      ebv_nodes=ebv)
+    return ColourGrid(settings, mired, None, out.reshape(-1, 4), slopes.reshape(-1, 4), None,
+                      ebv_nodes=ebv, fine_cells=fine_cells.reshape(-1),
+                      fine_values=fine_values)
+
+
+def _fine_blocks(settings, mired, ebv, j, i, per_call: int = 256) -> np.ndarray:
+    """render's outputs on the DUST_FINE x DUST_FINE sub-grid of cells ``(j, i)``:
+    (cells, DUST_FINE + 1, DUST_FINE + 1, 4), E(B-V) rows, temperature columns."""
+    f = np.linspace(0.0, 1.0, DUST_FINE + 1)
+    h_t, h_e = mired[1] - mired[0], ebv[1] - ebv[0]
+    out = np.empty((j.size, DUST_FINE + 1, DUST_FINE + 1, 4), dtype=np.float32)
+    for s0 in range(0, j.size, per_call):
+        jj, ii = j[s0:s0 + per_call], i[s0:s0 + per_call]
+        t = node_temperatures(mired[ii][:, None, None] + f[None, None, :] * h_t)
+        e = ebv[jj][:, None, None] + f[None, :, None] * h_e
+        t, e = np.broadcast_arrays(t, e)
+        out[s0:s0 + per_call] = _at_dust(settings, t, e)
+    return out

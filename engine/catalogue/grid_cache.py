@@ -18,7 +18,8 @@ from pathlib import Path
 
 import numpy as np
 
-from starkiln.engine.catalogue.colour_grid import (DUST_GRID_NODES, EBV_GRID_MAX, EBV_STEP,
+from starkiln.engine.catalogue.colour_grid import (DUST_FINE, DUST_GRID_NODES, EBV_GRID_MAX,
+                                                   EBV_STEP,
                                                    GRID_NODES, MAGNITUDE_MAX, MAGNITUDE_MIN,
                                                    MAGNITUDE_STEP, VISION_GRID_NODES, ColourGrid)
 from starkiln.engine.catalogue.grid_build import (BEND_TOLERANCE_DE, BEND_TOLERANCE_INTENSITY,
@@ -50,7 +51,7 @@ def _cache_key(settings: Settings, with_magnitude: bool, with_dust: bool = False
                    CELL_TOLERANCE_INTENSITY, BEND_TOLERANCE_DE,
                    BEND_TOLERANCE_INTENSITY, GRID_CACHE_FORMAT)).encode())
     if with_dust:
-        h.update(repr(("dust", DUST_GRID_NODES, EBV_STEP, EBV_GRID_MAX)).encode())
+        h.update(repr(("dust", DUST_GRID_NODES, EBV_STEP, EBV_GRID_MAX, DUST_FINE)).encode())
     for path in sorted(ENGINE_SOURCE_DIR.rglob("*.py")):
         h.update(path.relative_to(ENGINE_SOURCE_DIR).as_posix().encode())
         h.update(path.read_bytes())
@@ -98,9 +99,10 @@ def _load_cached(settings: Settings, path: Path) -> ColourGrid | None:
             mags = data["magnitude_nodes"] if "magnitude_nodes" in data else None
             slopes = data["slopes"] if "slopes" in data else None
             cells = data["exact_cells"] if "exact_cells" in data else None
-            ebv = data["ebv_nodes"] if "ebv_nodes" in data else None
+            extra = {name: data[name] for name in ("ebv_nodes", "fine_cells", "fine_values")
+                     if name in data}
             grid = ColourGrid(settings, data["mired_nodes"], mags, data["values"], slopes,
-                              cells, ebv)
+                              cells, **extra)
         if not (np.all(np.isfinite(grid.values)) and np.all(np.isfinite(grid.mired_nodes))):
             raise ValueError("values that are not finite")
         return grid
@@ -115,7 +117,8 @@ def _save_cached(grid: ColourGrid, path: Path) -> None:
     from starkiln.engine.atomic import write_npz_atomic
 
     arrays = {"mired_nodes": grid.mired_nodes, "values": grid.values}
-    for name in ("magnitude_nodes", "slopes", "exact_cells", "ebv_nodes"):
+    for name in ("magnitude_nodes", "slopes", "exact_cells", "ebv_nodes", "fine_cells",
+                 "fine_values"):
         if getattr(grid, name) is not None:
             arrays[name] = getattr(grid, name)
     try:
