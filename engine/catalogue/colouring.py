@@ -110,7 +110,7 @@ def colour_values(plan: CataloguePlan, columns: dict, altitude_deg=None) -> Colo
     n = next(iter(columns.values()))[0].shape[0]
     threads = plan.threads or min(4, os.cpu_count() or 1)
     parts = min(threads, n // _MIN_ROWS_PER_THREAD)
-    if parts < 2:
+    if parts < 2 or altitude_deg is not None:  # per-star air: render's own threads suffice
         return colour_values_serial(plan, columns, altitude_deg)
     if not plan.exact and altitude_deg is None:  # build (or load) the grid once, before the threads need it
         from starkiln.engine.catalogue.grid_cache import colour_grid

@@ -117,8 +117,15 @@ def draw_chunk(image, plan, columns, ra_column, dec_column, spec, *, psf_sigma_p
     with np.errstate(invalid="ignore"):
         above = lat >= 0.0
     altitude = np.where(above, np.minimum(lat, 90.0), np.nan)
-    rgb, coloured = chunk_colours(plan, columns, values, altitude_deg=altitude)
-    counts[NO_AIR] = counts.get(NO_AIR, 0) + int((keep & ~above & coloured).sum())
+    # Only the stars the plate keeps are coloured (each is rendered with its own air); the
+    # others count as below the horizon whatever their other cells hold.
+    drawn = ok & keep
+    part = {k: (v[drawn], None if m is None else m[drawn]) for k, (v, m) in columns.items()}
+    rgb = np.zeros((n, 3))
+    coloured = np.ones(n, dtype=bool)
+    rgb[drawn], coloured[drawn] = chunk_colours(plan, part, values,
+                                                altitude_deg=altitude[drawn])
+    counts[NO_AIR] = counts.get(NO_AIR, 0) + int((drawn & ~above & coloured).sum())
     return place_chunk(image, columns, ra_column, dec_column, rgb, coloured, spec,
                        psf_sigma_px=psf_sigma_px, frame=frame, counts=counts,
                        placed=(lon, lat, keep, ok))
