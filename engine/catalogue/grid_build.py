@@ -235,6 +235,27 @@ def _rendered(settings, temperature_K, magnitude=None, cone_weight=None,
     return out
 
 
+def _nodes_and_centres(render_at, temps, temps_mid, rows, rows_mid):
+    """A 2-D grid's render outputs at its nodes (M, N, 4), at its cell centres and the centres'
+    bilinear interpolation from the nodes (M - 1, N - 1, 4), float32, rendered
+    :data:`_BUILD_ROWS` rows a call (bounded memory). ``render_at(temps, second, node_rows)``
+    renders temperatures against the second axis (magnitudes or E(B-V)); ``node_rows`` is the
+    slice of node rows being rendered, or None for cell centres."""
+    n_m, n_t = rows.size, temps.shape[-1]
+    out = np.empty((n_m, n_t, 4), dtype=np.float32)
+    for j0 in range(0, n_m, _BUILD_ROWS):
+        j1 = min(j0 + _BUILD_ROWS, n_m)
+        out[j0:j1] = render_at(temps, rows[j0:j1, None], slice(j0, j1))
+    centre_exact = np.empty((n_m - 1, n_t - 1, 4), dtype=np.float32)
+    centre_interp = np.empty_like(centre_exact)
+    for j0 in range(0, n_m - 1, _BUILD_ROWS):
+        j1 = min(j0 + _BUILD_ROWS, n_m - 1)
+        centre_exact[j0:j1] = render_at(temps_mid, rows_mid[j0:j1, None], None)
+        c = out[j0:j1 + 1]
+        centre_interp[j0:j1] = 0.25 * (c[:-1, :-1] + c[:-1, 1:] + c[1:, :-1] + c[1:, 1:])
+    return out, centre_exact, centre_interp
+
+
 def build_colour_grid(settings: Settings, with_magnitude: bool = False) -> ColourGrid:
     """Build the colour grid of the render path for ``settings`` (no caching).
 
@@ -284,18 +305,10 @@ def build_colour_grid(settings: Settings, with_magnitude: bool = False) -> Colou
     temps_mid = node_temperatures(0.5 * (mired[:-1] + mired[1:]))[None, :]
     mags_mid = np.clip(0.5 * (mags[:-1] + mags[1:]), MAGNITUDE_MIN, MAGNITUDE_MAX)
     render_mags = np.clip(mags, MAGNITUDE_MIN, MAGNITUDE_MAX)
-    out = np.empty((n_m, n_t, 4), dtype=np.float32)
     cone = np.empty((n_m, n_t))
-    for j0 in range(0, n_m, _BUILD_ROWS):
-        j1 = min(j0 + _BUILD_ROWS, n_m)
-        out[j0:j1] = _rendered(settings, temps, render_mags[j0:j1, None], cone[j0:j1])
-    miss = np.zeros((n_m - 1, n_t - 1, 4), dtype=np.float32)
-    centre_exact = np.empty_like(miss)
-    for j0 in range(0, n_m - 1, _BUILD_ROWS):
-        j1 = min(j0 + _BUILD_ROWS, n_m - 1)
-        centre_exact[j0:j1] = _rendered(settings, temps_mid, mags_mid[j0:j1, None])
-        c = out[j0:j1 + 1]
-        miss[j0:j1] = 0.25 * (c[:-1, :-1] + c[:-1, 1:] + c[1:, :-1] + c[1:, 1:])
+    out, centre_exact, miss = _nodes_and_centres(
+        lambda t, m, rows: _rendered(settings, t, m, None if rows is None else cone[rows]),
+        temps, temps_mid, render_mags, mags_mid)
     # The mesopic fixed point drops to m = 0 (a step): cells whose corners have m = 0
     # and m > 0 hold the step.
     zero = cone <= 0.0
@@ -339,17 +352,8 @@ def build_dust_grid(settings: Settings) -> ColourGrid:
     temps = node_temperatures(mired)[None, :]
     temps_mid = node_temperatures(0.5 * (mired[:-1] + mired[1:]))[None, :]
     ebv_mid = 0.5 * (ebv[:-1] + ebv[1:])
-    out = np.empty((n_e, n_t, 4), dtype=np.float32)
-    for j0 in range(0, n_e, _BUILD_ROWS):
-        j1 = min(j0 + _BUILD_ROWS, n_e)
-        out[j0:j1] = _at_dust(settings, temps, ebv[j0:j1, None])
-    centre_exact = np.empty((n_e - 1, n_t - 1, 4), dtype=np.float32)
-    centre_interp = np.empty_like(centre_exact)
-    for j0 in range(0, n_e - 1, _BUILD_ROWS):
-        j1 = min(j0 + _BUILD_ROWS, n_e - 1)
-        centre_exact[j0:j1] = _at_dust(settings, temps_mid, ebv_mid[j0:j1, None])
-        c = out[j0:j1 + 1]
-        centre_interp[j0:j1] = 0.25 * (c[:-1, :-1] + c[:-1, 1:] + c[1:, :-1] + c[1:, 1:])
+    out, centre_exact, centre_interp = _nodes_and_centres(
+        lambda t, e, rows: _at_dust(settings, t, e), temps, temps_mid, ebv, ebv_mid)
     cells = _exact_cells(settings, out, centre_exact, centre_interp, mired, ebv,
                          at_rows=_at_dust)
     fine_cells = np.full((n_e, n_t), -1, dtype=np.int32)

@@ -125,10 +125,9 @@ def draw_chunk(image, plan, columns, ra_column, dec_column, spec, *, psf_sigma_p
     coloured = np.ones(n, dtype=bool)
     rgb[drawn], coloured[drawn] = chunk_colours(plan, part, values,
                                                 altitude_deg=altitude[drawn])
-    counts[NO_AIR] = counts.get(NO_AIR, 0) + int((drawn & ~above & coloured).sum())
     return place_chunk(image, columns, ra_column, dec_column, rgb, coloured, spec,
                        psf_sigma_px=psf_sigma_px, frame=frame, counts=counts,
-                       placed=(lon, lat, keep, ok))
+                       placed=(lon, lat, keep, ok, drawn & ~above))
 
 
 #: The count of stars kept below the horizon (``below_horizon="keep"``) with ``through_air``:
@@ -210,9 +209,10 @@ def place_chunk(image, columns, ra_column, dec_column, rgb, coloured, spec, *,
     coloured : ndarray (N,) bool
         False for the rows the render path flagged (counted, not drawn).
     placed : tuple, optional
-        ``(lon, lat, keep, ok)`` for every row, already computed (``through_air``): the
-        frame's coordinates, the rows kept, the rows with a valid position (their RA/Dec
-        reasons already counted).
+        ``(lon, lat, keep, ok, no_air)`` for every row, already computed (``through_air``):
+        the frame's coordinates, the rows kept, the rows with a valid position (their RA/Dec
+        reasons already counted), the rows coloured without air (those drawn are counted
+        under :data:`NO_AIR`).
 
     Returns
     -------
@@ -238,6 +238,7 @@ def place_chunk(image, columns, ra_column, dec_column, rgb, coloured, spec, *,
         lon, lat, keep = plate_coordinates(ra[ok], dec[ok], **(frame or {}))
     else:
         lon, lat, keep = (a[ok] for a in placed[:3])
+        no_air = placed[4][ok][keep]
     counts["below horizon"] = counts.get("below horizon", 0) + int((~keep).sum())
     lon, lat, rgb = lon[keep], lat[keep], rgb[ok][keep]
     if (frame or {}).get("site") is not None:
@@ -246,6 +247,8 @@ def place_chunk(image, columns, ra_column, dec_column, rgb, coloured, spec, *,
         lon = -lon
     x, y, face, inside = project(lon, lat, spec)
     counts["outside the plate"] = counts.get("outside the plate", 0) + int((~inside).sum())
+    if placed is not None:
+        counts[NO_AIR] = counts.get(NO_AIR, 0) + int((no_air & inside).sum())
     if inside.any():
         cube = spec.projection == "cube"
         valid = fisheye_valid_pixels(spec) if spec.projection == "fisheye" else None
