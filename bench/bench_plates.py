@@ -19,13 +19,16 @@ Prints measured figures beside the goals, with ratios, in one run:
   path) on this machine against ``--engine dask`` (the same stars as 8 Parquet files, each a
   partition drawn on a worker, the plates summed by the tree reduction on the cluster) on a
   local cluster of 2 worker processes: once with the cluster's start-up, once on a cluster
-  already running (``--scheduler``).
+  already running (``--scheduler``);
+- ``starkiln plate`` over a site at a moment with ``--through-air`` (each star's own altitude
+  into the render path) against the same plate without it: goal at most 1.5x the time.
 
 The stars are invented (uniform on the sphere, random colours), not catalogue rows.
 
 Usage::
 
     python bench/bench_plates.py [--big-stars 10000000] [--sample 3000] [--dask-stars 1000000]
+    python bench/bench_plates.py --only-air [--air-stars 120000]
 """
 
 from __future__ import annotations
@@ -44,6 +47,7 @@ GOAL_FISHEYE_S = 1.0
 GOAL_BIG_S = 20.0
 GOAL_RSS_MB = 2048.0
 GOAL_LOOP_RATIO = 50.0
+GOAL_AIR_RATIO = 1.5
 SIGMA_PX = 0.7
 CHUNK = 1_000_000
 
@@ -196,6 +200,53 @@ def local_vs_dask(n_stars, width, parts=8, workers=2, seed=4):
     return t_local, t_dask_cold, t_dask
 
 
+def through_air_vs_not(n_stars, width, seed=6, repeat=3):
+    """Median seconds of ``starkiln plate`` over a site (a 180-degree dome, horizon frame)
+    without and with ``--through-air``, run in turn (the same stars, magnitudes given)."""
+    import os
+    import tempfile
+
+    import pyarrow as pa
+    import pyarrow.parquet as pq
+
+    from starkiln.cli.main import main
+
+    rng = np.random.default_rng(seed)
+    lon, lat, _ = _stars(rng, n_stars)
+    with tempfile.TemporaryDirectory() as tmp:
+        src = os.path.join(tmp, "stars.parquet")
+        pq.write_table(pa.table({"ra": lon, "dec": lat,
+                                 "teff": rng.uniform(2500.0, 30000.0, n_stars),
+                                 "mag": rng.uniform(-1.0, 8.0, n_stars)}), src)
+        args = ["plate", src, os.path.join(tmp, "dome.exr"), "--temperature-column", "teff",
+                "--magnitude-column", "mag", "--projection", "fisheye", "--size", str(width),
+                "--site", "52.1,5.1,30", "--time", "2026-03-20T21:00:00", "--force"]
+        cases = {"plain": [], "air": ["--through-air"]}
+        times = {k: [] for k in cases}
+        for k in cases:                                      # warm imports and grids
+            assert main(args + cases[k]) == 0
+        for i in range(repeat):
+            for k in (list(cases) if i % 2 == 0 else list(cases)[::-1]):
+                t0 = time.perf_counter()
+                assert main(args + cases[k]) == 0
+                times[k].append(time.perf_counter() - t0)
+    return {k: float(np.median(v)) for k, v in times.items()}
+
+
+def report_air(air, n_stars, width):
+    """The through-air figures and their RESULT line."""
+    label = f"{n_stars:,} stars, {width}^2 dome over a site"
+    ratio = air["air"] / air["plain"]
+    print(f"{'starkiln plate, %s, s' % label:<52}{air['plain']:>12.3f}")
+    print(f"{'  --through-air (own altitude per star), s':<52}{air['air']:>12.3f}"
+          f"{GOAL_AIR_RATIO:>9.2g}x{ratio:>7.2f}x")
+    print(f'RESULT name=plate_through_air goal="starkiln plate --through-air, {label}, within '
+          f'{GOAL_AIR_RATIO:g}x of the same plate without" value={air["air"]:.4g} unit=s '
+          f'reference={air["plain"]:.4g} reference_label="the same plate without air" '
+          f'ratio={ratio:.4g} sense="x the time without (at most {GOAL_AIR_RATIO:g} meets '
+          f'it)"')
+
+
 def _child(n_stars):
     before = resource.getrusage(resource.RUSAGE_SELF)
     timings = {}
@@ -212,10 +263,20 @@ def main():
     ap.add_argument("--big-stars", type=int, default=10_000_000)
     ap.add_argument("--sample", type=int, default=3000)
     ap.add_argument("--dask-stars", type=int, default=1_000_000)
+    ap.add_argument("--air-stars", type=int, default=120_000)
+    ap.add_argument("--only-air", action="store_true", help="only the --through-air rows")
     ap.add_argument("--child", type=int, default=0, help=argparse.SUPPRESS)
     args = ap.parse_args()
     if args.child:
         _child(args.child)
+        return
+    import contextlib
+    import io
+
+    with contextlib.redirect_stdout(io.StringIO()), contextlib.redirect_stderr(io.StringIO()):
+        air = through_air_vs_not(args.air_stars, 2048)
+    if args.only_air:
+        report_air(air, args.air_stars, 2048)
         return
     load_start = os.getloadavg()[0]
     draw_fisheye(1000, 256)                                 # warm imports
@@ -234,9 +295,6 @@ def main():
     slope_pixels = (t_1m - t_1m_small) / ((pixels_big - pixels_small) / 1e6)
     per_star = per_star_loop(args.sample, 4096)
     t_loop_1m = per_star * 1_000_000
-    import contextlib
-    import io
-
     with contextlib.redirect_stdout(io.StringIO()), contextlib.redirect_stderr(io.StringIO()):
         t_local, t_dask_cold, t_dask = local_vs_dask(args.dask_stars, 4096)
     dask_label = f"{args.dask_stars / 1e6:g} M stars, 4096x2048 plate"
@@ -266,6 +324,7 @@ def main():
           f"{'':>10}{t_local / t_dask_cold:>8.2f}x")
     print(f"{'  --engine dask, cluster already running, s':<52}{t_dask:>12.3f}"
           f"{'':>10}{t_local / t_dask:>8.2f}x")
+    report_air(air, args.air_stars, 2048)
     for name, goal, value, unit, ref, ref_label, ratio, sense in (
             ("plate_fisheye_120k", "120 000 stars into a 4096 x 4096 fisheye", t_fish, "s",
              GOAL_FISHEYE_S, "goal", GOAL_FISHEYE_S / t_fish, "x under the goal"),

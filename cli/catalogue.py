@@ -45,6 +45,7 @@ def add_parsers(sub) -> None:
     c.add_argument("--magnitude-band", metavar="V|G", default="V",
                    help="V (Johnson, default) or G (Gaia G -> V by Riello et al. 2021, "
                         "needs --bp-rp-column)")
+    add_dust_column_options(c)
     o = p.add_argument_group("output and engine")
     o.add_argument("--force", action="store_true", help="overwrite OUT if it exists (never an input; with --engine dask only "
                         "a folder an earlier run wrote, marked by .starkiln-parts.json)")
@@ -62,6 +63,31 @@ def add_parsers(sub) -> None:
     o.add_argument("--no-progress", action="store_true", help="no progress bar on stderr")
     add_engine_options(o, "dask (Parquet in, folder of Parquet parts out)")
     add_colour_options(p)
+
+
+def add_dust_column_options(group) -> None:
+    """``--ebv-column`` / ``--av-column``: each star's own dust (catalogue and plate)."""
+    dust = group.add_mutually_exclusive_group()
+    dust.add_argument("--ebv-column", metavar="NAME",
+                      help="each star's E(B-V), mag, 0-10 (instead of one --ebv); law and R_V "
+                           "from --dust-law / --rv")
+    dust.add_argument("--av-column", metavar="NAME",
+                      help="each star's A_V, mag (E(B-V) = A_V / R_V; instead of one --av)")
+
+
+def dust_column_from_args(args):
+    """``(column, quantity)`` from ``--ebv-column`` / ``--av-column``, or ``(None, "ebv")``;
+    a fixed ``--ebv`` / ``--av`` beside a column is refused in one line."""
+    ebv_col, av_col = getattr(args, "ebv_column", None), getattr(args, "av_column", None)
+    if ebv_col is None and av_col is None:
+        return None, "ebv"
+    option = "--ebv-column" if ebv_col is not None else "--av-column"
+    fixed = [o for o, d in (("--ebv", "dust_ebv"), ("--av", "dust_av"))
+             if getattr(args, d, None) is not None]
+    if fixed:
+        raise StarkilnError(f"{option} and {fixed[0]} do not go together; accepted: each "
+                            f"star's dust from the column, or one {fixed[0]} for every star")
+    return (ebv_col, "ebv") if ebv_col is not None else (av_col, "av")
 
 
 def add_engine_options(group, dask_help: str) -> None:
@@ -128,13 +154,14 @@ def plan_from_args(args, settings):
             raise StarkilnError("--deredden applies only to an observed --bv-column or "
                                 "--bp-rp-column, not to --temperature-column")
         deredden_ebv, settings = deredden_dust(args, settings)
+    dust_column, dust_quantity = dust_column_from_args(args)
     return CataloguePlan(
         settings=settings, source=source, source_column=column,
         magnitude_column=args.magnitude_column, magnitude_band=band,
         bp_rp_column=args.bp_rp_column, magnitude=magnitude,
         extrapolate_bp_rp=args.extrapolate_bp_rp, exact=args.exact, prefix=args.prefix,
         linear_columns=args.linear_columns or (), index_model=args.index_model,
-        deredden_ebv=deredden_ebv)
+        deredden_ebv=deredden_ebv, dust_column=dust_column, dust_quantity=dust_quantity)
 
 
 def cmd_catalogue(args, out) -> int:
@@ -149,6 +176,8 @@ def cmd_catalogue(args, out) -> int:
         raise StarkilnError(f"the catalogue command needs the package {exc.name!r}; install "
                             "it (pip install 'starkiln[cluster]' brings the Dask engine's "
                             "packages)") from None
+    if plan.dust_line:
+        summary.notes.append(plan.dust_line)
     for line in summary.lines():
         out.write(line + "\n")
     if plan.deredden_ebv is not None:

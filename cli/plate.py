@@ -6,7 +6,7 @@ heavy at module level.
 
 from __future__ import annotations
 
-from starkiln.cli.catalogue import add_engine_options, engine_from_args
+from starkiln.cli.catalogue import add_dust_column_options, add_engine_options, engine_from_args
 from starkiln.cli.options import add_colour_options, add_index_model_option, number, settings_from_args
 from starkiln.engine.errors import StarkilnError
 
@@ -37,6 +37,7 @@ def add_parsers(sub) -> None:
     c.add_argument("--magnitude-column", metavar="NAME", help="apparent magnitudes")
     c.add_argument("--magnitude", type=number, metavar="M", help="one magnitude for every row")
     c.add_argument("--magnitude-band", metavar="V|G", default="V", help="V (default) or G")
+    add_dust_column_options(c)
     g = p.add_argument_group("plate")
     g.add_argument("--projection", default="equirect", metavar="|".join(PROJECTIONS),
                    help="equirect (whole sphere, 2:1; default), fisheye (equidistant dome) or "
@@ -57,6 +58,10 @@ def add_parsers(sub) -> None:
     g.add_argument("--time", metavar="ISO-8601", help="the moment (UTC unless an offset)")
     g.add_argument("--refraction", action="store_true", help="apply atmospheric refraction")
     g.add_argument("--below-horizon", default="drop", metavar="drop|keep")
+    g.add_argument("--through-air", action="store_true",
+                   help="with --site and --time: each star through the atmosphere at its own "
+                        "altitude (the site's height; --aerosol-tau, --angstrom, --ozone); "
+                        "stars kept below the horizon are drawn without air")
     g.add_argument("--psf-px", type=number, default=0.7, metavar="SIGMA",
                    help="Gaussian sigma, pixels (default 0.7)")
     g.add_argument("--values", default="display", metavar="display|flux")
@@ -161,7 +166,7 @@ def cmd_plate(args, out) -> int:
                         site=site, moment=moment, refraction=bool(args.refraction),
                         below_horizon=below, overwrite=args.force,
                         exr_type=args.exr_type, engine=engine, scheduler=args.scheduler,
-                        n_workers=args.workers,
+                        n_workers=args.workers, through_air=bool(args.through_air),
                         log=lambda line: sys.stderr.write(f"starkiln: {line}\n"))
     for line in result.lines(args.output, spec, values):
         out.write(line + "\n")
@@ -186,6 +191,7 @@ def _apply_old_plate(args):
     args.site, args.time = frame.get("site"), frame.get("time")
     args.refraction = bool(frame.get("refraction", False))
     args.below_horizon = frame.get("below_horizon", "drop")
+    args.through_air = bool(frame.get("through_air", False))
     args.psf_px, args.values = old["psf_sigma_px"], old["values"]
     if args.exr_type is None and str(args.output).lower().endswith(".exr") \
             and old["output"] in ("exr-half", "exr-float"):
@@ -200,6 +206,10 @@ def _apply_old_plate(args):
         setattr(args, source_option, cols.get("source_column"))
     if cols.get("magnitude"):
         args.magnitude_column, args.magnitude = cols["magnitude"], None
+    if cols.get("dust"):
+        args.ebv_column = args.av_column = None
+        setattr(args, "av_column" if cols.get("dust_quantity") == "av" else "ebv_column",
+                cols["dust"])
     args.old_settings = old["settings"]
 
 

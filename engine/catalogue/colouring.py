@@ -24,11 +24,12 @@ from dataclasses import dataclass
 import numpy as np
 
 from starkiln.engine.catalogue.columns import arrow_values, output_schema, status_array
-from starkiln.engine.catalogue.plan import (BLUER_THAN_BLACKBODY, EXTRAPOLATED, LAST_COLOURED,
-                                            MAGNITUDE_MAX, MAGNITUDE_MIN,
-                                            MAGNITUDE_OUT_OF_RANGE, MISSING_MAGNITUDE,
-                                            MISSING_TEMPERATURE, NOT_A_NUMBER, OUT_OF_RANGE,
-                                            STATUSES, TOO_BLUE_FOR_DUST, CataloguePlan)
+from starkiln.engine.catalogue.plan import (BLUER_THAN_BLACKBODY, DUST_OUT_OF_RANGE,
+                                            EXTRAPOLATED, LAST_COLOURED, MAGNITUDE_MAX,
+                                            MAGNITUDE_MIN, MAGNITUDE_OUT_OF_RANGE,
+                                            MISSING_DUST, MISSING_MAGNITUDE, MISSING_TEMPERATURE,
+                                            NOT_A_NUMBER, OUT_OF_RANGE, STATUSES,
+                                            TOO_BLUE_FOR_DUST, CataloguePlan)
 
 
 @dataclass
@@ -42,6 +43,8 @@ class Coloured:
     blank : bool array, True where the row is not coloured; None when every row is.
     linear : float32 arrays r, g, b of each linear working space of the plan, in order
         (``plan.linear_names``); NaN where the row is not coloured.
+    extinction_mag : float32 magnitudes the path of the light adds (the render path's
+        ``extinction_mag``) where a per-star altitude was given; None otherwise.
     """
 
     r: np.ndarray
@@ -51,6 +54,7 @@ class Coloured:
     codes: np.ndarray
     blank: np.ndarray | None
     linear: tuple = ()
+    extinction_mag: np.ndarray | None = None
 
     def counts(self) -> np.ndarray:
         """Rows per status (aligned with :data:`STATUSES`)."""
@@ -80,7 +84,7 @@ def _pool(threads: int):
     return _POOL
 
 
-def colour_values(plan: CataloguePlan, columns: dict) -> Coloured:
+def colour_values(plan: CataloguePlan, columns: dict, altitude_deg=None) -> Coloured:
     """Colour one chunk of rows, split over ``plan.threads`` threads for large chunks.
 
     Parameters
@@ -90,6 +94,8 @@ def colour_values(plan: CataloguePlan, columns: dict) -> Coloured:
         to 4. Chunks below 2 x 32 768 rows are coloured by one thread.
     columns : dict
         ``name -> (values, missing)`` as for :func:`colour_values_serial`.
+    altitude_deg : numpy.ndarray, optional
+        Per-row apparent altitudes, as for :func:`colour_values_serial`.
 
     Returns
     -------
@@ -105,8 +111,8 @@ def colour_values(plan: CataloguePlan, columns: dict) -> Coloured:
     n = next(iter(columns.values()))[0].shape[0]
     threads = plan.threads or min(4, os.cpu_count() or 1)
     parts = min(threads, n // _MIN_ROWS_PER_THREAD)
-    if parts < 2:
-        return colour_values_serial(plan, columns)
+    if parts < 2 or altitude_deg is not None:  # per-star air: render's own threads suffice
+        return colour_values_serial(plan, columns, altitude_deg)
     if plan.deredden_ebv is not None:  # build the dereddening table before the threads
         from starkiln.engine.path.deredden import reddened_range
 
@@ -115,28 +121,34 @@ def colour_values(plan: CataloguePlan, columns: dict) -> Coloured:
     if not plan.exact:  # build (or load) the grid once, before the threads need it
         from starkiln.engine.catalogue.grid_cache import colour_grid
 
-        colour_grid(plan.settings, plan.with_magnitude)
+        dust = plan.dust_column is not None
+        colour_grid(plan.settings, plan.with_magnitude, dust)
         for ws in plan.linear_settings:
-            colour_grid(ws, plan.with_magnitude)
+            colour_grid(ws, plan.with_magnitude, dust)
     bounds = np.linspace(0, n, parts + 1).astype(int)
     out = [np.empty(n, dtype=np.float32) for _ in range(4 + len(plan.linear_names))]
     codes = np.empty(n, dtype=np.uint8)
+    extinction = None if altitude_deg is None else np.empty(n, dtype=np.float32)
 
     def work(p):
         a, b = bounds[p], bounds[p + 1]
         sub = {k: (v[a:b], None if m is None else m[a:b]) for k, (v, m) in columns.items()}
-        res = colour_values_serial(plan, sub)
+        res = colour_values_serial(plan, sub,
+                                   None if altitude_deg is None else altitude_deg[a:b])
         for dst, src in zip(out, (res.r, res.g, res.b, res.intensity) + tuple(res.linear)):
             dst[a:b] = src
         codes[a:b] = res.codes
+        if extinction is not None:
+            extinction[a:b] = res.extinction_mag
 
     for f in [_pool(threads).submit(work, p) for p in range(parts)]:
         f.result()
     blank = codes > LAST_COLOURED
-    return Coloured(*out[:4], codes, blank if blank.any() else None, tuple(out[4:]))
+    return Coloured(*out[:4], codes, blank if blank.any() else None, tuple(out[4:]),
+                    extinction)
 
 
-def colour_values_serial(plan: CataloguePlan, columns: dict) -> Coloured:
+def colour_values_serial(plan: CataloguePlan, columns: dict, altitude_deg=None) -> Coloured:
     """Colour one chunk of rows: status per row, then colours from the render path.
 
     Parameters
@@ -147,6 +159,11 @@ def colour_values_serial(plan: CataloguePlan, columns: dict) -> Coloured:
         ``name -> (values, missing)`` for every name in ``plan.input_columns``:
         ``values`` a float64 array (NaN for text that is not a number),
         ``missing`` a bool array of empty cells, or None when there are none.
+    altitude_deg : numpy.ndarray, optional
+        Per-row apparent altitudes, degrees (a plate over a site, ``through_air``): each row
+        is rendered exactly with its own altitude (``render(altitude_deg=...)``, the settings'
+        air); NaN for a row without air (below the horizon), rendered without the atmosphere.
+        The result's ``extinction_mag`` then holds what the path adds.
 
     Returns
     -------
@@ -157,7 +174,8 @@ def colour_values_serial(plan: CataloguePlan, columns: dict) -> Coloured:
     -----
     The first reason found wins, in this order: temperature source missing,
     not a number, out of range; then magnitude missing, not a number, out of
-    range. Accepted ranges: 500-100 000 K; with the synthetic index model (default) B-V
+    range; then the dust column missing, not a number, out of range (E(B-V), or A_V / R_V,
+    0-10 mag: [Cardelli1989] section I, E(B-V) >= 0). Accepted ranges: 500-100 000 K; with the synthetic index model (default) B-V
     -0.40 to 10.66 and BP-RP -0.60 to 14.82, colours bluer than the 100 000 K blackbody
     coloured at 100 000 K with status ``bluer-than-blackbody``
     (:func:`starkiln.engine.stars.temperature.index_range`); with the relation model B-V
@@ -216,13 +234,25 @@ def colour_values_serial(plan: CataloguePlan, columns: dict) -> Coloured:
                   MAGNITUDE_OUT_OF_RANGE)
         v_mag = mag
 
+    ebv = None
+    if plan.dust_column is not None:
+        from starkiln.engine.path.dust import EBV_RANGE
+
+        dust_in, dust_missing = columns[plan.dust_column]
+        _flag(codes, dust_missing, MISSING_DUST)
+        _flag(codes, ~np.isfinite(dust_in), NOT_A_NUMBER)
+        ebv = dust_in / plan.settings.dust_rv if plan.dust_quantity == "av" else dust_in
+        with np.errstate(invalid="ignore"):
+            _flag(codes, ~((ebv >= EBV_RANGE[0]) & (ebv <= EBV_RANGE[1])), DUST_OUT_OF_RANGE)
+
     coloured = codes <= LAST_COLOURED
     all_coloured = bool(coloured.all())
     blank = None if all_coloured else ~coloured
     if not coloured.any():
         nan = np.full(n, np.nan, dtype=np.float32)
         return Coloured(nan, nan.copy(), nan.copy(), nan.copy(), codes, blank,
-                        tuple(nan.copy() for _ in plan.linear_names))
+                        tuple(nan.copy() for _ in plan.linear_names),
+                        None if altitude_deg is None else nan.copy())
 
     safe = src if all_coloured else np.where(coloured, src, _SAFE[plan.source])
     if plan.source == "temperature":
@@ -236,12 +266,19 @@ def colour_values_serial(plan: CataloguePlan, columns: dict) -> Coloured:
                                                   extrapolate=True)
     if v_mag is not None and not all_coloured:
         v_mag = np.where(coloured, v_mag, 0.0)
+    if ebv is not None and not all_coloured:
+        ebv = np.where(coloured, ebv, 0.0)
 
-    (r, g, b, intensity), linear = _colours(plan, temperature_K, v_mag)
+    extinction = None
+    if altitude_deg is None:
+        (r, g, b, intensity), linear = _colours(plan, temperature_K, v_mag, ebv)
+    else:
+        (r, g, b, intensity), linear, extinction = _colours_in_air(
+            plan, temperature_K, v_mag, ebv, np.asarray(altitude_deg, dtype=np.float64))
     if blank is not None:
-        for a in (r, g, b, intensity) + linear:
+        for a in (r, g, b, intensity) + linear + (() if extinction is None else (extinction,)):
             a[blank] = np.nan
-    return Coloured(r, g, b, intensity, codes, blank, linear)
+    return Coloured(r, g, b, intensity, codes, blank, linear, extinction)
 
 
 def _dereddened(plan: CataloguePlan, observed, codes) -> np.ndarray:
@@ -273,9 +310,10 @@ def _channels(rgb) -> tuple:
     return tuple(np.ascontiguousarray(rgb[:, k]) for k in range(3))
 
 
-def _colours(plan: CataloguePlan, temperature_K, v_mag):
+def _colours(plan: CataloguePlan, temperature_K, v_mag, ebv=None):
     """(r, g, b, intensity) and the linear working-space channels (float32), from the colour
-    grids or, with ``exact``, from one render per chunk.
+    grids or, with ``exact``, from one render per chunk (``ebv``: per-star E(B-V) of a dust
+    column, to the render path as ``dust_ebv``; the grid then has an E(B-V) axis).
 
     Exact: the chunk is rendered once, and each working space's colours come from the same
     render (:func:`starkiln.engine.pipeline.render.same_stars_in`: its tristimulus values and
@@ -283,19 +321,49 @@ def _colours(plan: CataloguePlan, temperature_K, v_mag):
     colour grid, built by the render path like the display's.
     """
     if plan.exact:
-        from starkiln.engine.pipeline.render import render, same_stars_in
-
-        rendered = render(plan.settings, temperature_K, v_mag)
-        inten = np.broadcast_to(rendered.intensity, temperature_K.shape).astype(np.float32)
-        linear = tuple(a for ws in plan.linear_settings
-                       for a in _channels(same_stars_in(ws, rendered)))
-        return _channels(rendered.rgb_encoded) + (inten,), linear
+        return _exact(plan, temperature_K, v_mag, ebv)[:2]
     from starkiln.engine.catalogue.grid_cache import colour_grid
 
-    grid = colour_grid(plan.settings, v_mag is not None)
+    dust = ebv is not None
+    grid = colour_grid(plan.settings, v_mag is not None, dust)
     linear = tuple(a for ws in plan.linear_settings
-                   for a in colour_grid(ws, v_mag is not None).lookup(temperature_K, v_mag)[:3])
-    return tuple(grid.lookup(temperature_K, v_mag)), linear
+                   for a in colour_grid(ws, v_mag is not None, dust).lookup(temperature_K, v_mag,
+                                                                            ebv)[:3])
+    return tuple(grid.lookup(temperature_K, v_mag, ebv)), linear
+
+
+def _exact(plan: CataloguePlan, temperature_K, v_mag, ebv=None, altitude_deg=None):
+    """One render of a chunk: ((r, g, b, intensity), linear channels, extinction or None)."""
+    from starkiln.engine.pipeline.render import render, same_stars_in
+
+    rendered = render(plan.settings, temperature_K, v_mag, dust_ebv=ebv,
+                      altitude_deg=altitude_deg)
+    inten = np.broadcast_to(rendered.intensity, temperature_K.shape).astype(np.float32)
+    linear = tuple(a for ws in plan.linear_settings
+                   for a in _channels(same_stars_in(ws, rendered)))
+    ext = rendered.extinction_mag
+    if ext is not None:
+        ext = np.broadcast_to(ext, temperature_K.shape).astype(np.float32)
+    return _channels(rendered.rgb_encoded) + (inten,), linear, ext
+
+
+def _colours_in_air(plan: CataloguePlan, temperature_K, v_mag, ebv, altitude_deg):
+    """:func:`_exact` with each row's own altitude; rows with a NaN altitude (below the
+    horizon) are rendered without air. Returns the channels, the linear channels and the
+    extinction (0 where nothing lies on the path)."""
+    air = np.isfinite(altitude_deg)
+    n = temperature_K.shape[0]
+    groups = [(air, np.clip(altitude_deg, 0.0, 90.0)), (~air, None)]
+    channels = [np.zeros(n, dtype=np.float32) for _ in range(4 + len(plan.linear_names) + 1)]
+    for rows, alt in groups:
+        if not rows.any():
+            continue
+        pick = (lambda a: None if a is None else a[rows])
+        main, linear, ext = _exact(plan, temperature_K[rows], pick(v_mag), pick(ebv),
+                                   pick(alt))
+        for dst, src in zip(channels, main + linear + ((ext,) if ext is not None else ())):
+            dst[rows] = src
+    return tuple(channels[:4]), tuple(channels[4:-1]), channels[-1]
 
 
 # --- pyarrow and pandas wrappers ---------------------------------------------------------

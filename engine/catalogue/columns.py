@@ -172,7 +172,8 @@ def output_schema(schema, plan: CataloguePlan, where: str = "input"):
     -------
     pyarrow.Schema
         The input fields, then r, g, b, intensity (float32) and status (string); the
-        input's metadata without pandas' entry.
+        input's metadata without pandas' entry, and with a dust column the key
+        ``starkiln_dust`` (``plan.dust_line``).
 
     Raises
     ------
@@ -187,8 +188,10 @@ def output_schema(schema, plan: CataloguePlan, where: str = "input"):
     fields = list(schema) + [pa.field(n, pa.float32()) for n in plan.output_columns[:4]]
     fields.append(pa.field(plan.output_columns[4], pa.string()))
     fields += [pa.field(n, pa.float32()) for n in plan.linear_names]
-    meta = {k: v for k, v in (schema.metadata or {}).items() if k != b"pandas"} or None
-    return pa.schema(fields, metadata=meta)
+    meta = {k: v for k, v in (schema.metadata or {}).items() if k != b"pandas"}
+    if plan.dust_line:
+        meta[b"starkiln_dust"] = plan.dust_line.encode()
+    return pa.schema(fields, metadata=meta or None)
 
 
 def check_columns(names: list[str], plan: CataloguePlan, where: str = "input") -> None:

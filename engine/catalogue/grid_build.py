@@ -24,7 +24,9 @@ from __future__ import annotations
 
 import numpy as np
 
-from starkiln.engine.catalogue.colour_grid import (GRID_NODES, MAGNITUDE_MAX, MAGNITUDE_MIN,
+from starkiln.engine.catalogue.colour_grid import (DUST_FINE, DUST_GRID_NODES, EBV_GRID_MAX,
+                                                   EBV_STEP,
+                                                   GRID_NODES, MAGNITUDE_MAX, MAGNITUDE_MIN,
                                                    MAGNITUDE_STEP, VISION_GRID_NODES, ColourGrid,
                                                    grid_mired_nodes, node_temperatures)
 from starkiln.engine.colour.cielab import XYZ_to_CIELAB, delta_E_CIE1976
@@ -94,8 +96,20 @@ def _misses(settings, exact: np.ndarray, interp: np.ndarray) -> np.ndarray:
         (np.abs(exact[..., 3] - interp[..., 3]) > CELL_TOLERANCE_INTENSITY)
 
 
-def _confirm(settings, suspects: np.ndarray, nodes: np.ndarray, mired, mags) -> np.ndarray:
-    """Suspect cells where interpolation misses render at one of 4 (or 4 x 4) inner points."""
+def _at_magnitudes(settings, temperature_K, magnitude):
+    """(..., 4) render outputs at temperatures and magnitudes (the magnitude grid's rows)."""
+    return _rendered(settings, temperature_K, np.clip(magnitude, MAGNITUDE_MIN, MAGNITUDE_MAX))
+
+
+def _at_dust(settings, temperature_K, dust_ebv):
+    """(..., 4) render outputs at temperatures and per-star E(B-V) (the dust grid's rows)."""
+    return _rendered(settings, temperature_K, dust_ebv=np.clip(dust_ebv, 0.0, EBV_GRID_MAX))
+
+
+def _confirm(settings, suspects: np.ndarray, nodes: np.ndarray, mired, mags,
+             at_rows=_at_magnitudes) -> np.ndarray:
+    """Suspect cells where interpolation misses render at one of 4 (or 4 x 4) inner points
+    (``at_rows`` renders the 2-D grid's inner points: magnitudes or E(B-V))."""
     idx = np.nonzero(suspects)
     out = np.zeros_like(suspects)
     if idx[0].size == 0:
@@ -113,8 +127,7 @@ def _confirm(settings, suspects: np.ndarray, nodes: np.ndarray, mired, mags) -> 
     bad = np.zeros(idx[0].size, dtype=bool)
     for s0 in range(0, idx[0].size, 2048):
         j, i = idx[0][s0:s0 + 2048, None], idx[1][s0:s0 + 2048, None]
-        exact = _rendered(settings, node_temperatures(mired[i] + fx * h_t),
-                          np.clip(mags[j] + fy * h_m, MAGNITUDE_MIN, MAGNITUDE_MAX))
+        exact = at_rows(settings, node_temperatures(mired[i] + fx * h_t), mags[j] + fy * h_m)
         x, y = fx[None, :, None], fy[None, :, None]
         interp = ((nodes[j, i] * (1 - x) + nodes[j, i + 1] * x) * (1 - y)
                   + (nodes[j + 1, i] * (1 - x) + nodes[j + 1, i + 1] * x) * y)
@@ -123,7 +136,8 @@ def _confirm(settings, suspects: np.ndarray, nodes: np.ndarray, mired, mags) -> 
     return out
 
 
-def _exact_cells(settings, nodes, centre_exact, centre_interp, mired, mags=None, known=None):
+def _exact_cells(settings, nodes, centre_exact, centre_interp, mired, mags=None, known=None,
+                 at_rows=_at_magnitudes):
     """Cells to render exactly, or None: (N - 1,) or (M - 1, N - 1) booleans.
 
     1. Cells whose centre misses render (:func:`_misses`) are marked, and so are the
@@ -143,7 +157,7 @@ def _exact_cells(settings, nodes, centre_exact, centre_interp, mired, mags=None,
         bend |= _bend_cells(lab, axis, BEND_TOLERANCE_DE)
         bend |= _bend_cells(nodes[..., 3:], axis, BEND_TOLERANCE_INTENSITY)
     suspects = _grow(bad | bend)
-    marked = bad | _confirm(settings, suspects & ~bad, nodes, mired, mags)
+    marked = bad | _confirm(settings, suspects & ~bad, nodes, mired, mags, at_rows)
     marked |= _grow(marked) & suspects
     return marked if marked.any() else None
 
@@ -206,18 +220,40 @@ def _photopic_limit_magnitude(settings) -> float:
     return lo
 
 
-def _rendered(settings, temperature_K, magnitude=None, cone_weight=None) -> np.ndarray:
+def _rendered(settings, temperature_K, magnitude=None, cone_weight=None,
+              dust_ebv=None) -> np.ndarray:
     """(..., 4) encoded r, g, b and intensity from the render path (and, into
     ``cone_weight`` when given, render's cone weight)."""
     from starkiln.engine.pipeline.render import render
 
-    r = render(settings, temperature_K, magnitude)
+    r = render(settings, temperature_K, magnitude, dust_ebv=dust_ebv)
     out = np.empty(r.rgb_encoded.shape[:-1] + (4,))
     out[..., :3] = r.rgb_encoded
     out[..., 3] = r.intensity
     if cone_weight is not None:
         cone_weight[...] = r.cone_weight
     return out
+
+
+def _nodes_and_centres(render_at, temps, temps_mid, rows, rows_mid):
+    """A 2-D grid's render outputs at its nodes (M, N, 4), at its cell centres and the centres'
+    bilinear interpolation from the nodes (M - 1, N - 1, 4), float32, rendered
+    :data:`_BUILD_ROWS` rows a call (bounded memory). ``render_at(temps, second, node_rows)``
+    renders temperatures against the second axis (magnitudes or E(B-V)); ``node_rows`` is the
+    slice of node rows being rendered, or None for cell centres."""
+    n_m, n_t = rows.size, temps.shape[-1]
+    out = np.empty((n_m, n_t, 4), dtype=np.float32)
+    for j0 in range(0, n_m, _BUILD_ROWS):
+        j1 = min(j0 + _BUILD_ROWS, n_m)
+        out[j0:j1] = render_at(temps, rows[j0:j1, None], slice(j0, j1))
+    centre_exact = np.empty((n_m - 1, n_t - 1, 4), dtype=np.float32)
+    centre_interp = np.empty_like(centre_exact)
+    for j0 in range(0, n_m - 1, _BUILD_ROWS):
+        j1 = min(j0 + _BUILD_ROWS, n_m - 1)
+        centre_exact[j0:j1] = render_at(temps_mid, rows_mid[j0:j1, None], None)
+        c = out[j0:j1 + 1]
+        centre_interp[j0:j1] = 0.25 * (c[:-1, :-1] + c[:-1, 1:] + c[1:, :-1] + c[1:, 1:])
+    return out, centre_exact, centre_interp
 
 
 def build_colour_grid(settings: Settings, with_magnitude: bool = False) -> ColourGrid:
@@ -269,18 +305,10 @@ def build_colour_grid(settings: Settings, with_magnitude: bool = False) -> Colou
     temps_mid = node_temperatures(0.5 * (mired[:-1] + mired[1:]))[None, :]
     mags_mid = np.clip(0.5 * (mags[:-1] + mags[1:]), MAGNITUDE_MIN, MAGNITUDE_MAX)
     render_mags = np.clip(mags, MAGNITUDE_MIN, MAGNITUDE_MAX)
-    out = np.empty((n_m, n_t, 4), dtype=np.float32)
     cone = np.empty((n_m, n_t))
-    for j0 in range(0, n_m, _BUILD_ROWS):
-        j1 = min(j0 + _BUILD_ROWS, n_m)
-        out[j0:j1] = _rendered(settings, temps, render_mags[j0:j1, None], cone[j0:j1])
-    miss = np.zeros((n_m - 1, n_t - 1, 4), dtype=np.float32)
-    centre_exact = np.empty_like(miss)
-    for j0 in range(0, n_m - 1, _BUILD_ROWS):
-        j1 = min(j0 + _BUILD_ROWS, n_m - 1)
-        centre_exact[j0:j1] = _rendered(settings, temps_mid, mags_mid[j0:j1, None])
-        c = out[j0:j1 + 1]
-        miss[j0:j1] = 0.25 * (c[:-1, :-1] + c[:-1, 1:] + c[1:, :-1] + c[1:, 1:])
+    out, centre_exact, miss = _nodes_and_centres(
+        lambda t, m, rows: _rendered(settings, t, m, None if rows is None else cone[rows]),
+        temps, temps_mid, render_mags, mags_mid)
     # The mesopic fixed point drops to m = 0 (a step): cells whose corners have m = 0
     # and m > 0 hold the step.
     zero = cone <= 0.0
@@ -295,3 +323,62 @@ def build_colour_grid(settings: Settings, with_magnitude: bool = False) -> Colou
     slopes = np.zeros_like(out)
     slopes[:, :-1] = out[:, 1:] - out[:, :-1]
     return ColourGrid(settings, mired, mags, out.reshape(-1, 4), slopes.reshape(-1, 4), flags)
+
+
+def build_dust_grid(settings: Settings) -> ColourGrid:
+    """Build the temperature x E(B-V) colour grid of the render path (no magnitudes).
+
+    Parameters
+    ----------
+    settings : Settings
+        Settings to render the grid with (their own E(B-V) is replaced by each row's).
+
+    Returns
+    -------
+    ColourGrid
+        ``ebv_nodes`` from 0 to :data:`EBV_GRID_MAX` in steps of :data:`EBV_STEP`; rows of
+        :data:`DUST_GRID_NODES` temperatures; the cells the other grids would render exactly
+        (:func:`_exact_cells`) refined by a :data:`DUST_FINE` x :data:`DUST_FINE` sub-grid
+        of render's values instead.
+
+    References
+    ----------
+    Built by :func:`starkiln.engine.pipeline.render.render` only, with per-star
+    ``dust_ebv`` (the module docstring of :mod:`starkiln.engine.catalogue.colour_grid`).
+    """
+    mired = grid_mired_nodes(DUST_GRID_NODES)
+    ebv = np.linspace(0.0, EBV_GRID_MAX, int(round(EBV_GRID_MAX / EBV_STEP)) + 1)
+    n_e, n_t = ebv.size, mired.size
+    temps = node_temperatures(mired)[None, :]
+    temps_mid = node_temperatures(0.5 * (mired[:-1] + mired[1:]))[None, :]
+    ebv_mid = 0.5 * (ebv[:-1] + ebv[1:])
+    out, centre_exact, centre_interp = _nodes_and_centres(
+        lambda t, e, rows: _at_dust(settings, t, e), temps, temps_mid, ebv, ebv_mid)
+    cells = _exact_cells(settings, out, centre_exact, centre_interp, mired, ebv,
+                         at_rows=_at_dust)
+    fine_cells = np.full((n_e, n_t), -1, dtype=np.int32)
+    fine_values = np.zeros((0, DUST_FINE + 1, DUST_FINE + 1, 4), dtype=np.float32)
+    if cells is not None:
+        j, i = np.nonzero(cells)
+        fine_cells[j, i] = np.arange(j.size, dtype=np.int32)
+        fine_values = _fine_blocks(settings, mired, ebv, j, i)
+    slopes = np.zeros_like(out)
+    slopes[:, :-1] = out[:, 1:] - out[:, :-1]
+    return ColourGrid(settings, mired, None, out.reshape(-1, 4), slopes.reshape(-1, 4), None,
+                      ebv_nodes=ebv, fine_cells=fine_cells.reshape(-1),
+                      fine_values=fine_values)
+
+
+def _fine_blocks(settings, mired, ebv, j, i, per_call: int = 256) -> np.ndarray:
+    """render's outputs on the DUST_FINE x DUST_FINE sub-grid of cells ``(j, i)``:
+    (cells, DUST_FINE + 1, DUST_FINE + 1, 4), E(B-V) rows, temperature columns."""
+    f = np.linspace(0.0, 1.0, DUST_FINE + 1)
+    h_t, h_e = mired[1] - mired[0], ebv[1] - ebv[0]
+    out = np.empty((j.size, DUST_FINE + 1, DUST_FINE + 1, 4), dtype=np.float32)
+    for s0 in range(0, j.size, per_call):
+        jj, ii = j[s0:s0 + per_call], i[s0:s0 + per_call]
+        t = node_temperatures(mired[ii][:, None, None] + f[None, None, :] * h_t)
+        e = ebv[jj][:, None, None] + f[None, :, None] * h_e
+        t, e = np.broadcast_arrays(t, e)
+        out[s0:s0 + per_call] = _at_dust(settings, t, e)
+    return out

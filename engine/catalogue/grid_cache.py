@@ -18,11 +18,13 @@ from pathlib import Path
 
 import numpy as np
 
-from starkiln.engine.catalogue.colour_grid import (GRID_NODES, MAGNITUDE_MAX, MAGNITUDE_MIN,
+from starkiln.engine.catalogue.colour_grid import (DUST_FINE, DUST_GRID_NODES, EBV_GRID_MAX,
+                                                   EBV_STEP,
+                                                   GRID_NODES, MAGNITUDE_MAX, MAGNITUDE_MIN,
                                                    MAGNITUDE_STEP, VISION_GRID_NODES, ColourGrid)
 from starkiln.engine.catalogue.grid_build import (BEND_TOLERANCE_DE, BEND_TOLERANCE_INTENSITY,
                                                   CELL_TOLERANCE_DE, CELL_TOLERANCE_INTENSITY,
-                                                  build_colour_grid)
+                                                  build_colour_grid, build_dust_grid)
 from starkiln.engine.pipeline.settings import Settings
 
 #: Version of the on-disk grid format (part of the cache key).
@@ -34,7 +36,7 @@ CACHE_KEEP = 16
 ENGINE_SOURCE_DIR = Path(__file__).resolve().parent.parent
 
 
-def _cache_key(settings: Settings, with_magnitude: bool) -> str:
+def _cache_key(settings: Settings, with_magnitude: bool, with_dust: bool = False) -> str:
     """Hash of everything a grid depends on: settings, grid constants, the engine's code
     (every ``.py`` file under ``engine/``) and the versions of numpy and colour-science
     (CIE tables)."""
@@ -48,6 +50,8 @@ def _cache_key(settings: Settings, with_magnitude: bool) -> str:
                    MAGNITUDE_MAX, MAGNITUDE_STEP, CELL_TOLERANCE_DE,
                    CELL_TOLERANCE_INTENSITY, BEND_TOLERANCE_DE,
                    BEND_TOLERANCE_INTENSITY, GRID_CACHE_FORMAT)).encode())
+    if with_dust:
+        h.update(repr(("dust", DUST_GRID_NODES, EBV_STEP, EBV_GRID_MAX, DUST_FINE)).encode())
     for path in sorted(ENGINE_SOURCE_DIR.rglob("*.py")):
         h.update(path.relative_to(ENGINE_SOURCE_DIR).as_posix().encode())
         h.update(path.read_bytes())
@@ -59,7 +63,8 @@ def _cache_key(settings: Settings, with_magnitude: bool) -> str:
     return h.hexdigest()[:32]
 
 
-def cache_file(settings: Settings, with_magnitude: bool = False) -> Path:
+def cache_file(settings: Settings, with_magnitude: bool = False,
+               with_dust: bool = False) -> Path:
     """The file a colour grid for ``settings`` is kept in (whether or not it exists yet).
 
     Parameters
@@ -67,6 +72,8 @@ def cache_file(settings: Settings, with_magnitude: bool = False) -> Path:
     settings : Settings
     with_magnitude : bool
         The 2-D (temperature x magnitude) grid rather than the 1-D one.
+    with_dust : bool
+        The 2-D (temperature x E(B-V)) grid of a dust column (without magnitudes).
 
     Returns
     -------
@@ -75,7 +82,7 @@ def cache_file(settings: Settings, with_magnitude: bool = False) -> Path:
     """
     from starkiln.engine.colour.cie_data import cache_dir
 
-    return cache_dir() / f"colour-grid-{_cache_key(settings, with_magnitude)}.npz"
+    return cache_dir() / f"colour-grid-{_cache_key(settings, with_magnitude, with_dust)}.npz"
 
 
 def _load_cached(settings: Settings, path: Path) -> ColourGrid | None:
@@ -92,8 +99,10 @@ def _load_cached(settings: Settings, path: Path) -> ColourGrid | None:
             mags = data["magnitude_nodes"] if "magnitude_nodes" in data else None
             slopes = data["slopes"] if "slopes" in data else None
             cells = data["exact_cells"] if "exact_cells" in data else None
+            extra = {name: data[name] for name in ("ebv_nodes", "fine_cells", "fine_values")
+                     if name in data}
             grid = ColourGrid(settings, data["mired_nodes"], mags, data["values"], slopes,
-                              cells)
+                              cells, **extra)
         if not (np.all(np.isfinite(grid.values)) and np.all(np.isfinite(grid.mired_nodes))):
             raise ValueError("values that are not finite")
         return grid
@@ -108,7 +117,8 @@ def _save_cached(grid: ColourGrid, path: Path) -> None:
     from starkiln.engine.atomic import write_npz_atomic
 
     arrays = {"mired_nodes": grid.mired_nodes, "values": grid.values}
-    for name in ("magnitude_nodes", "slopes", "exact_cells"):
+    for name in ("magnitude_nodes", "slopes", "exact_cells", "ebv_nodes", "fine_cells",
+                 "fine_values"):
         if getattr(grid, name) is not None:
             arrays[name] = getattr(grid, name)
     try:
@@ -122,7 +132,8 @@ def _save_cached(grid: ColourGrid, path: Path) -> None:
 
 
 @lru_cache(maxsize=8)
-def colour_grid(settings: Settings, with_magnitude: bool = False) -> ColourGrid:
+def colour_grid(settings: Settings, with_magnitude: bool = False,
+                with_dust: bool = False) -> ColourGrid:
     """The (cached) colour grid of the render path for ``settings``.
 
     Grids are kept in memory per process and on disk in the engine's cache folder
@@ -136,6 +147,9 @@ def colour_grid(settings: Settings, with_magnitude: bool = False) -> ColourGrid:
     with_magnitude : bool
         True for the night-vision grid over temperature and magnitude, False (default)
         for the grid over temperature alone.
+    with_dust : bool
+        True (without magnitudes) for the grid over temperature and E(B-V) of a dust column
+        (:func:`starkiln.engine.catalogue.grid_build.build_dust_grid`).
 
     Returns
     -------
@@ -146,9 +160,12 @@ def colour_grid(settings: Settings, with_magnitude: bool = False) -> ColourGrid:
     ----------
     :func:`starkiln.engine.catalogue.grid_build.build_colour_grid` (render path only).
     """
-    path = cache_file(settings, with_magnitude)
+    if with_dust and with_magnitude:
+        raise ValueError("a dust grid takes no magnitudes (those rows are rendered exactly)")
+    path = cache_file(settings, with_magnitude, with_dust)
     grid = _load_cached(settings, path)
     if grid is None:
-        grid = build_colour_grid(settings, with_magnitude)
+        grid = build_dust_grid(settings) if with_dust else \
+            build_colour_grid(settings, with_magnitude)
         _save_cached(grid, path)
     return grid

@@ -63,13 +63,20 @@ def _fixed(settings, wl_key: bytes) -> np.ndarray:
 
 def _transmission(settings, wl, ebv, alt) -> np.ndarray:
     """Dust x air on grid ``wl`` for E(B-V) ``ebv`` and altitude ``alt`` (None: no air)."""
-    tau = dust.dust_optical_depth(wl, np.asarray(ebv, dtype=np.float64), settings.dust_law,
-                                  settings.dust_rv)
-    if alt is not None:
-        tau = tau + atm.slant_optical_depth(wl, alt, settings.site_height_m,
-                                            settings.aerosol_tau550,
-                                            settings.angstrom_exponent, settings.ozone_du)
-    return np.exp(-tau, out=tau) if tau.flags.writeable and tau.ndim else np.exp(-tau)
+    ebv = np.asarray(ebv, dtype=np.float64)
+    air = None if alt is None else atm.slant_optical_depth(
+        wl, alt, settings.site_height_m, settings.aerosol_tau550, settings.angstrom_exponent,
+        settings.ozone_du)
+    if air is not None and air.shape[:-1] == ebv.shape and not np.any(ebv):
+        tau = air  # no dust on any line of sight (per-star air alone): nothing to add
+    else:
+        tau = dust.dust_optical_depth(wl, ebv, settings.dust_law, settings.dust_rv)
+        if air is not None:
+            tau = tau + air
+    if tau.flags.writeable and tau.ndim:
+        np.negative(tau, out=tau)
+        return np.exp(tau, out=tau)
+    return np.exp(-tau)
 
 
 def path_transmission(settings, wavelength_nm, dust_ebv=None, altitude_deg=None) -> np.ndarray:

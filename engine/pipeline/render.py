@@ -421,6 +421,20 @@ class _Distinct:
     extinction_mag: np.ndarray | None = None  # what the path adds (None: no path)
 
 
+def _unique_rows(cols):
+    """The distinct rows of the columns ``cols`` (sorted as ``numpy.unique(..., axis=0)``
+    sorts them) and each row's index among them; by ``numpy.lexsort``, several times faster
+    than ``unique`` on rows (which sorts a structured view)."""
+    rows = np.stack(cols, axis=1)
+    order = np.lexsort(tuple(cols[::-1]))
+    ordered = rows[order]
+    new = np.ones(rows.shape[0], dtype=bool)
+    new[1:] = np.any(ordered[1:] != ordered[:-1], axis=1)
+    inverse = np.empty(rows.shape[0], dtype=np.intp)
+    inverse[order] = np.cumsum(new) - 1
+    return ordered[new], inverse
+
+
 def _per_temperature(settings: Settings, t_flat: np.ndarray, with_sp: bool,
                      stars: "_StarPath | None" = None, band: str = "V") -> _Distinct:
     """Steps 1-5 once per distinct temperature (and path): a :class:`_Distinct`.
@@ -431,8 +445,7 @@ def _per_temperature(settings: Settings, t_flat: np.ndarray, with_sp: bool,
     ebv_u = alt_u = None
     if stars is not None and stars.ebv is not None:
         cols = [t_flat, stars.ebv] + ([stars.alt] if stars.alt is not None else [])
-        keys, inverse = np.unique(np.stack(cols, axis=1), axis=0, return_inverse=True)
-        inverse = inverse.reshape(-1)
+        keys, inverse = _unique_rows(cols)
         unique, ebv_u = keys[:, 0].copy(), keys[:, 1].copy()
         alt_u = keys[:, 2].copy() if stars.alt is not None else None
     else:

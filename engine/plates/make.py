@@ -47,8 +47,12 @@ class PlateResult:
             if spec.projection == "cube" else f"{w} x {h}"
         out = [f"{self.counts.get('drawn', 0):,} stars -> {path} ({size}, "
                f"{spec.projection}, {values})"]
+        from starkiln.engine.plates.run import NO_AIR
+
         out += [f"  skipped, {k}: {v:,}" for k, v in sorted(self.counts.items())
-                if k != "drawn" and v]
+                if k not in ("drawn", NO_AIR) and v]
+        if self.counts.get(NO_AIR):
+            out.append(f"  {NO_AIR}: {self.counts[NO_AIR]:,}")
         return out
 
 
@@ -103,11 +107,41 @@ def plate_plan(plan, values: str):
     return plan
 
 
+def through_air_plan(plan, site):
+    """The plan of a plate drawn through the air over ``site``: the site's height as the
+    settings' ``site_height_m``.
+
+    Raises
+    ------
+    StarkilnError
+        No site, a fixed altitude in the settings, or a ``site_height_m`` other than the
+        site's height.
+
+    References
+    ----------
+    [Bucholtz1995] (the Rayleigh depth scales with the pressure at the site's height, through
+    :mod:`starkiln.engine.path.atmosphere`).
+    """
+    if site is None:
+        raise StarkilnError("--through-air needs --site LAT,LON[,HEIGHT_M] and --time (each "
+                            "star's altitude over the site)")
+    settings = plan.settings
+    if settings.altitude_deg is not None:
+        raise StarkilnError(f"--through-air and a fixed altitude ({settings.altitude_deg:g} "
+                            "deg, from --altitude or the settings) do not go together; "
+                            "accepted: one of them")
+    if settings.site_height_m not in (0.0, site.height_m):
+        raise StarkilnError(f"--site-height {settings.site_height_m:g} m and the --site height "
+                            f"{site.height_m:g} m differ; accepted: the height in --site "
+                            "LAT,LON,HEIGHT_M")
+    return replace(plan, settings=settings.replace(site_height_m=float(site.height_m)))
+
+
 def make_plate(input_path, output_path, plan, spec, *, ra_column=None, dec_column=None,
                psf_sigma_px: float = 0.7, values: str = "display", site=None, moment=None,
                refraction: bool = False, below_horizon: str = "drop", overwrite: bool = False,
                exr_type=None, engine: str = "local", scheduler=None, n_workers=None,
-               log=None) -> PlateResult:
+               log=None, through_air: bool = False) -> PlateResult:
     """Draw every star of a catalogue file into a plate and write it atomically.
 
     Parameters
@@ -145,6 +179,12 @@ def make_plate(input_path, output_path, plan, spec, *, ra_column=None, dec_colum
         With ``dask`` and no scheduler: the local cluster's worker processes.
     log : callable, optional
         Called with the column-choice line (and, with dask, the partition count).
+    through_air : bool
+        With ``site`` and ``moment``: each star's light through the atmosphere at its own
+        apparent altitude over the site (``render(altitude_deg=...)``, every row rendered
+        exactly; the settings' aerosol and ozone, the site's height as ``site_height_m``).
+        Stars kept below the horizon (``below_horizon="keep"``) are drawn without air and
+        counted apart. Refused beside a fixed altitude in the settings.
 
     Returns
     -------
@@ -172,6 +212,8 @@ def make_plate(input_path, output_path, plan, spec, *, ra_column=None, dec_colum
     plan = plate_plan(plan, values)
     if (site is None) != (moment is None):
         raise StarkilnError("--site and --time go together (the sky over a place at a moment)")
+    if through_air:
+        plan = through_air_plan(plan, site)
     cube = spec.projection == "cube"
     if cube:
         check_plate_memory(spec.width_px, spec.height_px, faces=6,
@@ -192,6 +234,8 @@ def make_plate(input_path, output_path, plan, spec, *, ra_column=None, dec_colum
         log(line)
     frame_kw = {} if site is None else dict(site=site, time=moment, refraction=refraction,
                                             below_horizon=below_horizon)
+    if through_air:
+        frame_kw["through_air"] = True
     image = np.zeros(((6,) if cube else ()) + (spec.height_px, spec.width_px, 3),
                      dtype=np.float32)
     counts: dict = {}
@@ -212,12 +256,14 @@ def make_plate(input_path, output_path, plan, spec, *, ra_column=None, dec_colum
     frame = {"frame": "equatorial" if site is None else "horizon"}
     if site is not None:
         frame.update(site=site.text(), time=moment.isot, refraction=bool(refraction),
-                     below_horizon=below_horizon)
+                     below_horizon=below_horizon, through_air=bool(through_air))
     meta = plate_metadata(plan.settings, spec, frame=frame, psf_sigma_px=psf_sigma_px,
                           values=values, counts=counts,
                           columns={"ra": ra_col, "dec": dec_col, "source": plan.source,
                                    "source_column": plan.source_column,
-                                   "magnitude": plan.magnitude_column},
+                                   "magnitude": plan.magnitude_column,
+                                   "dust": plan.dust_column,
+                                   "dust_quantity": plan.dust_quantity},
                           output_type=output_type,
                           layout=plate_files.CROSS_LAYOUT if cube else None)
     if cube:

@@ -102,12 +102,56 @@ def draw_chunk(image, plan, columns, ra_column, dec_column, spec, *, psf_sigma_p
     :func:`starkiln.engine.catalogue.colouring.colour_values`; Pogson (1856) magnitudes.
     """
     counts = {} if counts is None else counts
-    rgb, ok = chunk_colours(plan, columns, values)
-    return place_chunk(image, columns, ra_column, dec_column, rgb, ok, spec,
-                       psf_sigma_px=psf_sigma_px, frame=frame, counts=counts)
+    frame = dict(frame or {})
+    if not frame.pop("through_air", False):
+        rgb, ok = chunk_colours(plan, columns, values)
+        return place_chunk(image, columns, ra_column, dec_column, rgb, ok, spec,
+                           psf_sigma_px=psf_sigma_px, frame=frame, counts=counts)
+    # Through the air: each star's altitude over the site first, then its colour with it.
+    ra, dec, ok = _checked_radec(columns, ra_column, dec_column, counts)
+    n = ra.shape[0]
+    lon = np.full(n, np.nan)
+    lat = np.full(n, np.nan)
+    keep = np.zeros(n, dtype=bool)
+    lon[ok], lat[ok], keep[ok] = plate_coordinates(ra[ok], dec[ok], **frame)
+    with np.errstate(invalid="ignore"):
+        above = lat >= 0.0
+    altitude = np.where(above, np.minimum(lat, 90.0), np.nan)
+    # Only the stars the plate keeps are coloured (each is rendered with its own air); the
+    # others count as below the horizon whatever their other cells hold.
+    drawn = ok & keep
+    part = {k: (v[drawn], None if m is None else m[drawn]) for k, (v, m) in columns.items()}
+    rgb = np.zeros((n, 3))
+    coloured = np.ones(n, dtype=bool)
+    rgb[drawn], coloured[drawn] = chunk_colours(plan, part, values,
+                                                altitude_deg=altitude[drawn])
+    return place_chunk(image, columns, ra_column, dec_column, rgb, coloured, spec,
+                       psf_sigma_px=psf_sigma_px, frame=frame, counts=counts,
+                       placed=(lon, lat, keep, ok, drawn & ~above))
 
 
-def chunk_colours(plan, columns, values="display"):
+#: The count of stars kept below the horizon (``below_horizon="keep"``) with ``through_air``:
+#: drawn, without air (the atmosphere's model ends at the horizon).
+NO_AIR = "drawn without air (below the horizon)"
+
+
+def _checked_radec(columns, ra_column, dec_column, counts):
+    """RA and Dec as float arrays (missing cells NaN) and the rows whose position is valid;
+    the reasons of the others added to ``counts``."""
+    ra, ra_miss = columns[ra_column]
+    dec, dec_miss = columns[dec_column]
+    ra = np.array(ra, dtype=float)
+    dec = np.array(dec, dtype=float)
+    for v, m in ((ra, ra_miss), (dec, dec_miss)):
+        if m is not None:
+            v[m] = np.nan
+    ok, reasons = check_radec(ra, dec)
+    for k, n in reasons.items():
+        counts[k] = counts.get(k, 0) + n
+    return ra, dec, ok
+
+
+def chunk_colours(plan, columns, values="display", altitude_deg=None):
     """The colour each star of a chunk deposits, and which rows the render path coloured.
 
     The first half of :func:`draw_chunk`: the render path's colour through the catalogue's
@@ -117,6 +161,10 @@ def chunk_colours(plan, columns, values="display"):
     ----------
     plan, columns, values
         As :func:`draw_chunk`.
+    altitude_deg : numpy.ndarray, optional
+        Each row's apparent altitude (NaN: no air), for the render path
+        (:func:`starkiln.engine.catalogue.colouring.colour_values`); flux values are then
+        dimmed by the extinction the path adds.
 
     Returns
     -------
@@ -130,13 +178,15 @@ def chunk_colours(plan, columns, values="display"):
     from starkiln.engine.catalogue.colouring import colour_values
 
     colour_cols = {k: columns[k] for k in plan.input_columns}
-    res = colour_values(plan, colour_cols)
+    res = colour_values(plan, colour_cols, altitude_deg)
     n = len(res.r)
     flagged = res.blank if res.blank is not None else np.zeros(n, bool)
     if values == "flux":
         if not res.linear or plan.magnitude_column is None:
             raise StarkilnError("--values flux needs a magnitude column and a linear space")
         mag = columns[plan.magnitude_column][0]
+        if res.extinction_mag is not None:  # the magnitude at the eye
+            mag = mag + res.extinction_mag
         weight = 10.0 ** (-0.4 * mag)
         rgb = np.stack(res.linear[:3], axis=-1) * weight[:, None]
     else:
@@ -145,7 +195,7 @@ def chunk_colours(plan, columns, values="display"):
 
 
 def place_chunk(image, columns, ra_column, dec_column, rgb, coloured, spec, *,
-                psf_sigma_px=0.7, frame=None, counts=None):
+                psf_sigma_px=0.7, frame=None, counts=None, placed=None):
     """Place and deposit stars already coloured (:func:`chunk_colours`) into ``image``.
 
     The second half of :func:`draw_chunk`: RA / Dec checked (reasons counted), turned into the
@@ -158,6 +208,11 @@ def place_chunk(image, columns, ra_column, dec_column, rgb, coloured, spec, *,
     rgb : ndarray (N, 3)
     coloured : ndarray (N,) bool
         False for the rows the render path flagged (counted, not drawn).
+    placed : tuple, optional
+        ``(lon, lat, keep, ok, no_air)`` for every row, already computed (``through_air``):
+        the frame's coordinates, the rows kept, the rows with a valid position (their RA/Dec
+        reasons already counted), the rows coloured without air (those drawn are counted
+        under :data:`NO_AIR`).
 
     Returns
     -------
@@ -172,20 +227,18 @@ def place_chunk(image, columns, ra_column, dec_column, rgb, coloured, spec, *,
     from starkiln.engine.plates.projection import fisheye_valid_pixels, project
 
     counts = {} if counts is None else counts
-    ra, ra_miss = columns[ra_column]
-    dec, dec_miss = columns[dec_column]
-    ra = np.array(ra, dtype=float)
-    dec = np.array(dec, dtype=float)
-    for v, m in ((ra, ra_miss), (dec, dec_miss)):
-        if m is not None:
-            v[m] = np.nan
-    ok, reasons = check_radec(ra, dec)
-    for k, n in reasons.items():
-        counts[k] = counts.get(k, 0) + n
+    if placed is None:
+        ra, dec, ok = _checked_radec(columns, ra_column, dec_column, counts)
+    else:
+        ok = placed[3].copy()
     flagged = ok & ~coloured
     counts["render-flagged"] = counts.get("render-flagged", 0) + int(flagged.sum())
     ok &= ~flagged
-    lon, lat, keep = plate_coordinates(ra[ok], dec[ok], **(frame or {}))
+    if placed is None:
+        lon, lat, keep = plate_coordinates(ra[ok], dec[ok], **(frame or {}))
+    else:
+        lon, lat, keep = (a[ok] for a in placed[:3])
+        no_air = placed[4][ok][keep]
     counts["below horizon"] = counts.get("below horizon", 0) + int((~keep).sum())
     lon, lat, rgb = lon[keep], lat[keep], rgb[ok][keep]
     if (frame or {}).get("site") is not None:
@@ -194,6 +247,8 @@ def place_chunk(image, columns, ra_column, dec_column, rgb, coloured, spec, *,
         lon = -lon
     x, y, face, inside = project(lon, lat, spec)
     counts["outside the plate"] = counts.get("outside the plate", 0) + int((~inside).sum())
+    if placed is not None:
+        counts[NO_AIR] = counts.get(NO_AIR, 0) + int((no_air & inside).sum())
     if inside.any():
         cube = spec.projection == "cube"
         valid = fisheye_valid_pixels(spec) if spec.projection == "fisheye" else None
