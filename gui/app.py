@@ -165,7 +165,38 @@ def run(args) -> int:
     previous = sys.excepthook
     sys.excepthook = _excepthook
     window.show()
+    ticker = close_on_signals(window)
     try:
         return int(app.exec())
     finally:
+        ticker.stop()
         sys.excepthook = previous
+
+
+def close_on_signals(window) -> "QtCore.QTimer":
+    """Close ``window`` (saving its session, as the close button does) on SIGINT or SIGTERM.
+
+    Python runs signal handlers only when the interpreter has control, which Qt's event loop
+    does not give it by itself; a timer that fires four times a second hands control back,
+    so Ctrl-C in the terminal, ``kill`` or a show controller's stop closes the window within
+    about 0.25 s instead of being ignored (common practice for PySide applications; the
+    ``signal`` module's documentation on handlers running between bytecodes).
+
+    Returns
+    -------
+    QtCore.QTimer
+        The running timer (stop it when the event loop ends).
+    """
+    import signal
+
+    from PySide6 import QtCore
+
+    def handler(signum, frame):  # runs in the main thread, between Qt events
+        QtCore.QTimer.singleShot(0, window.close)
+
+    for sig in (signal.SIGINT, signal.SIGTERM):
+        signal.signal(sig, handler)
+    ticker = QtCore.QTimer(window)
+    ticker.timeout.connect(lambda: None)
+    ticker.start(250)
+    return ticker

@@ -174,3 +174,35 @@ def test_unwritable_destinations_give_a_message_box(window, tmp_path):
     assert "does not exist" in window.last_message.text()
     assert not window.look.display.save_profile(tmp_path / "nowhere" / "d.json")
     assert "does not exist" in window.last_message.text()
+
+
+@pytest.mark.parametrize("signame", ["SIGTERM", "SIGINT"])
+def test_stop_signals_close_the_window_and_keep_its_session(qtbot, tmp_path, signame):
+    """A stop signal (Ctrl-C, kill, a show controller) closes the window the way its close
+    button does, saving the session; Qt's event loop alone would leave it ignored
+    (Python's ``signal`` documentation: handlers run only when the interpreter has control)."""
+    import os
+    import signal
+
+    from PySide6 import QtCore
+
+    from starkiln.engine.pipeline.settings import Settings
+    from starkiln.gui import create_window
+    from starkiln.gui.app import close_on_signals
+
+    store = QtCore.QSettings(str(tmp_path / "state.ini"), QtCore.QSettings.Format.IniFormat)
+    w = create_window(Settings(), 4321.0, store=store)
+    w.show()
+    qtbot.waitExposed(w)
+    before = {s: signal.getsignal(s) for s in (signal.SIGINT, signal.SIGTERM)}
+    ticker = close_on_signals(w)
+    try:
+        os.kill(os.getpid(), getattr(signal, signame))
+        qtbot.waitUntil(lambda: not w.isVisible(), timeout=3000)
+    finally:
+        ticker.stop()
+        for s, h in before.items():
+            signal.signal(s, h)
+    store.sync()
+    assert store.allKeys(), "the close saved no session"
+    w.deleteLater()
