@@ -23,6 +23,7 @@ import argparse
 import datetime
 import os
 import platform
+import re
 import shlex
 import subprocess
 import sys
@@ -118,8 +119,17 @@ def merge_rows(doc: str, scripts: list[str], results: list[tuple[str, dict]], no
         current = doc.split(BEGIN, 1)[1].split(END, 1)[0].strip().splitlines()
     except IndexError:
         raise SystemExit(f"report.py: error: {DOC} lacks the markers {BEGIN} ... {END}")
-    header = [line for line in current if line and not line.startswith("|")
-              and not line.startswith("Rows of ")]
+    header = []
+    for line in current:
+        if not line or line.startswith("|"):
+            continue
+        m = re.match(r"Rows of (.*?) measured (.*)$", line)
+        if m:  # keep what other scripts' rows say of when they were measured
+            names = [n for n in re.findall(r"`([^`]+)`", m.group(1)) if n not in scripts]
+            if not names:
+                continue
+            line = f"Rows of {', '.join(f'`{n}`' for n in names)} measured {m.group(2)}"
+        header.append(line)
     rows = [line for line in current if line.startswith("|")][2:]
     new = table(results).splitlines()[2:]
     ours = [any(line.rstrip().endswith(f"| `{s}` |") for s in scripts) for line in rows]
