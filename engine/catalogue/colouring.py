@@ -128,24 +128,19 @@ def colour_values(plan: CataloguePlan, columns: dict, altitude_deg=None) -> Colo
     bounds = np.linspace(0, n, parts + 1).astype(int)
     out = [np.empty(n, dtype=np.float32) for _ in range(4 + len(plan.linear_names))]
     codes = np.empty(n, dtype=np.uint8)
-    extinction = None if altitude_deg is None else np.empty(n, dtype=np.float32)
 
     def work(p):
         a, b = bounds[p], bounds[p + 1]
         sub = {k: (v[a:b], None if m is None else m[a:b]) for k, (v, m) in columns.items()}
-        res = colour_values_serial(plan, sub,
-                                   None if altitude_deg is None else altitude_deg[a:b])
+        res = colour_values_serial(plan, sub)
         for dst, src in zip(out, (res.r, res.g, res.b, res.intensity) + tuple(res.linear)):
             dst[a:b] = src
         codes[a:b] = res.codes
-        if extinction is not None:
-            extinction[a:b] = res.extinction_mag
 
     for f in [_pool(threads).submit(work, p) for p in range(parts)]:
         f.result()
     blank = codes > LAST_COLOURED
-    return Coloured(*out[:4], codes, blank if blank.any() else None, tuple(out[4:]),
-                    extinction)
+    return Coloured(*out[:4], codes, blank if blank.any() else None, tuple(out[4:]))
 
 
 def colour_values_serial(plan: CataloguePlan, columns: dict, altitude_deg=None) -> Coloured:
