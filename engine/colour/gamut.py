@@ -191,6 +191,32 @@ def in_gamut(rgb, upper: bool) -> np.ndarray:
     return ok
 
 
+def _bisect_chroma(base, step, lms_to_rgb, upper, block=16384):
+    """The largest chroma factor in [0, 1] (to 2^-_BISECTION_STEPS) whose colour is inside the
+    cube, by bisection: ``(n,)`` for LMS' ``base + s * step`` given as ``(3, n)`` rows.
+
+    Every row's interval halves at each step, so the lower end alone is kept (``lo +
+    2^-(k+1)`` is the midpoint); rows go in cache-sized blocks.
+    """
+    n = base.shape[1]
+    lo = np.zeros(n)
+    for a in range(0, n, block):
+        b0, s0 = base[:, a:a + block], step[:, a:a + block]
+        low = lo[a:a + block]
+        half = 0.5
+        for _ in range(_BISECTION_STEPS):
+            mid = low + half
+            lms = b0 + mid * s0
+            lms *= lms * lms
+            rgb = lms_to_rgb @ lms
+            ok = np.minimum(np.minimum(rgb[0], rgb[1]), rgb[2]) >= -GAMUT_TOLERANCE
+            if upper:
+                ok &= np.maximum(np.maximum(rgb[0], rgb[1]), rgb[2]) <= 1.0 + GAMUT_TOLERANCE
+            np.copyto(low, mid, where=ok)
+            half *= 0.5
+    return lo
+
+
 def map_to_gamut(rgb, method: str, rgb_to_XYZ_D65: np.ndarray, luminance_row: np.ndarray,
                  upper: bool, neutral_ab=None) -> np.ndarray:
     """Bring display-linear RGB inside the cube by the named method.
@@ -242,14 +268,14 @@ def map_to_gamut(rgb, method: str, rgb_to_XYZ_D65: np.ndarray, luminance_row: np
     XYZ_D65_to_rgb = np.linalg.inv(rgb_to_XYZ_D65)
     lab = XYZ_to_Oklab(rgb @ rgb_to_XYZ_D65.T)
     inside_now = in_gamut(rgb, upper)
-    lo = np.zeros(rgb.shape[:-1])
-    hi = np.ones(rgb.shape[:-1])
-    for _ in range(_BISECTION_STEPS):
-        mid = 0.5 * (lo + hi)
-        trial = Oklab_to_XYZ(scale_chroma(lab, mid, neutral_ab))
-        ok = in_gamut(trial @ XYZ_D65_to_rgb.T, upper)
-        lo = np.where(ok, mid, lo)
-        hi = np.where(ok, hi, mid)
+    # scale_chroma is affine in the factor and Oklab -> LMS' linear, so each trial's LMS' is
+    # base + s * step; cubed, one matrix takes LMS to display RGB (Oklab_to_XYZ, then XYZ ->
+    # RGB, folded together).
+    grey = scale_chroma(lab, np.zeros(lab.shape[:-1]), neutral_ab)
+    base = (grey @ OKLAB_M2_INV.T).reshape(-1, 3).T.copy()            # (3, n)
+    step = ((lab - grey) @ OKLAB_M2_INV.T).reshape(-1, 3).T.copy()
+    lo = _bisect_chroma(base, step, XYZ_D65_to_rgb @ OKLAB_M1_INV, upper)
+    lo = lo.reshape(rgb.shape[:-1])
     s = np.where(inside_now, 1.0, lo)
     out = Oklab_to_XYZ(scale_chroma(lab, s, neutral_ab)) @ XYZ_D65_to_rgb.T
     out = np.where(inside_now[..., None], rgb, out)
