@@ -69,6 +69,28 @@ def test_law_and_transmission_are_dust_extinctions(law, rv):
     assert at_v == pytest.approx(1.0, abs=5e-3 if law != "F99" else 3e-2)
 
 
+def test_law_values_kept_on_disk_are_dust_extinctions(tmp_path, monkeypatch):
+    # Reference: dust-extinction's own evaluation of F99 at R_V 3.3 ([DustExtinction]). The
+    # values come back from the cache folder (a second process need not import it), and a
+    # damaged file is evaluated again, never read as values.
+    import astropy.units as u
+
+    monkeypatch.setenv("STARKILN_CACHE_DIR", str(tmp_path))
+    wl = np.arange(400.0, 700.0, 10.0)
+    ref = np.asarray(_law("F99", 3.3)(wl * u.nm))
+    dust._a_over_av_cached.cache_clear()
+    try:
+        assert np.allclose(dust.dust_a_over_av(wl, "F99", 3.3), ref, rtol=1e-12)
+        (kept,) = tmp_path.glob("dust-law-*.npz")
+        dust._a_over_av_cached.cache_clear()
+        assert np.allclose(dust.dust_a_over_av(wl, "F99", 3.3), ref, rtol=1e-12)
+        kept.write_bytes(b"not a zip")
+        dust._a_over_av_cached.cache_clear()
+        assert np.allclose(dust.dust_a_over_av(wl, "F99", 3.3), ref, rtol=1e-12)
+    finally:
+        dust._a_over_av_cached.cache_clear()
+
+
 def test_wavelengths_outside_a_law_are_refused_with_its_range():
     with pytest.raises(InputRangeError, match="outside the range of dust law F99: accepted 100-3333 nm"):
         dust.dust_a_over_av([50.0], "F99", 3.1)

@@ -128,11 +128,57 @@ def check_ebv(ebv, what: str = "dust_ebv", error=SettingsError) -> np.ndarray:
                                                   f"range {lo:g} <= E(B-V) <= {hi:g} mag", error)
 
 
+#: Version of the on-disk A(lambda)/A_V files (part of their name's hash).
+LAW_CACHE_FORMAT = 1
+
+
+def _law_cache_file(law: str, rv: float, wl_key: bytes):
+    """Where the law's A(lambda)/A_V on this grid is kept: a hash of the law, R_V, the grid and
+    dust-extinction's version, in the engine's cache folder."""
+    import hashlib
+    from importlib import metadata
+
+    from starkiln.engine.colour.cie_data import cache_dir
+
+    try:
+        version = metadata.version("dust-extinction")
+    except metadata.PackageNotFoundError:  # pragma: no cover - a required dependency
+        version = "?"
+    h = hashlib.sha256(repr((law, float(rv), version, LAW_CACHE_FORMAT)).encode() + wl_key)
+    return cache_dir() / f"dust-law-{h.hexdigest()[:24]}.npz"
+
+
 @lru_cache(maxsize=64)
 def _a_over_av_cached(law: str, rv: float, wl_key: bytes) -> np.ndarray:
-    import astropy.units as u
+    """A(lambda)/A_V on a grid: from this process's memory, else the cache folder (a few KB:
+    later runs need not import dust-extinction and astropy, about 0.6 s), else evaluated by
+    dust-extinction and saved."""
+    from starkiln.engine.atomic import write_npz_atomic
+    from starkiln.engine.colour.cie_data import NPZ_READ_ERRORS
 
     wl_nm = np.frombuffer(wl_key, dtype=np.float64)
+    path = _law_cache_file(law, rv, wl_key)
+    try:
+        with np.load(path) as data:
+            out = np.array(data["a_over_av"], dtype=np.float64)
+        if out.shape == wl_nm.shape and np.all(np.isfinite(out)):
+            out.setflags(write=False)
+            return out
+    except (*NPZ_READ_ERRORS, KeyError):
+        pass  # none yet, or unreadable: evaluated again below
+    out = _evaluate_law(law, rv, wl_nm)
+    try:
+        write_npz_atomic(path, {"a_over_av": out})
+    except OSError:
+        pass  # read-only cache folder: kept in this process only
+    out.setflags(write=False)
+    return out
+
+
+def _evaluate_law(law: str, rv: float, wl_nm: np.ndarray) -> np.ndarray:
+    """dust-extinction's A(lambda)/A_V of the law on ``wl_nm`` (range checked)."""
+    import astropy.units as u
+
     from starkiln.engine.catalogue.formats import astropy_guard
 
     model = _law_class(law)(Rv=rv)
@@ -144,9 +190,7 @@ def _a_over_av_cached(law: str, rv: float, wl_key: bytes) -> np.ndarray:
         raise InputRangeError(f"wavelength {w:g} nm is outside the range of dust law {law}: "
                               f"accepted {1e3 / hi:.0f}-{1e3 / lo:.0f} nm")
     with astropy_guard():
-        out = np.asarray(model(wl_nm * u.nm), dtype=np.float64)
-    out.setflags(write=False)
-    return out
+        return np.array(model(wl_nm * u.nm), dtype=np.float64)
 
 
 def dust_a_over_av(wavelength_nm, law: str = "G23", rv: float = 3.1) -> np.ndarray:
