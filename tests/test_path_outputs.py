@@ -319,6 +319,52 @@ def test_lower_stars_are_fainter_by_the_atmospheres_extinction(tmp_path):
     assert sums[1] / sums[0] == pytest.approx(10.0 ** (-0.4 * (ext[1] - ext[0])), rel=1e-4)
 
 
+def _outside_av(temperature_K, ebv):
+    """A_V of a blackbody behind G23 dust: astropy's blackbody x dust-extinction's G23
+    (R_V 3.1), through speclite's Bessell (1990) V response used as an energy response
+    ([BessellMurphy2012] section 2)."""
+    import astropy.units as u
+    import speclite.filters
+    from astropy.modeling.physical_models import BlackBody
+
+    from starkiln.engine.catalogue.formats import astropy_guard
+
+    wl = np.arange(470.0, 700.0, 0.25)
+    response = speclite.filters.load_filter("bessell-V")(wl * u.nm)
+    with astropy_guard():
+        from dust_extinction.parameter_averages import G23
+
+        bare = BlackBody(temperature_K * u.K, scale=1.0 * u.erg / (u.s * u.cm ** 2 * u.AA
+                                                                   * u.sr))(wl * u.nm).value
+        dimmed = bare * G23(Rv=3.1).extinguish(wl * u.nm, Ebv=ebv)
+    return -2.5 * np.log10(np.trapezoid(dimmed * response, wl)
+                           / np.trapezoid(bare * response, wl))
+
+
+@pytest.mark.parametrize("how", ["fixed", "column"])
+def test_flux_plates_are_dimmed_by_the_dust(tmp_path, how):
+    # flux = linear colour (largest channel 1) x 10^(-0.4 (V + A_V)) (Pogson's ratio, common
+    # practice), the star's Gaussian summing to its value; A_V from outside Starkiln
+    # (_outside_av: astropy, dust-extinction, speclite) within 2e-3 mag. (One star: the run
+    # is rendered exactly; the grid and lattice routes of big runs are checked in
+    # tests/test_path_table.py.)
+    import OpenEXR
+
+    temperature, vmag, ebv = 7400.0, 3.3, 0.77
+    src = _write_csv(tmp_path / "one.csv", [(0, 40.0, 10.0, temperature, vmag, ebv, 0.0)])
+    out = tmp_path / "dust.exr"
+    extra = {"fixed": ["--ebv", str(ebv)], "column": ["--ebv-column", "ebv"]}[how]
+    assert main(["plate", str(src), str(out), "--temperature-column", "teff",
+                 "--magnitude-column", "vmag", "--values", "flux", "--size", "360",
+                 *extra]) == 0
+    with OpenEXR.File(str(out)) as f:
+        image = np.asarray(f.channels()["RGB"].pixels, dtype=np.float64)
+    a_v = _outside_av(temperature, ebv)
+    assert a_v == pytest.approx(3.1 * ebv, abs=0.15)  # A_V near R_V E(B-V) ([Cardelli1989])
+    drawn = image.max(axis=2).sum()
+    assert -2.5 * np.log10(drawn) == pytest.approx(vmag + a_v, abs=2e-3)
+
+
 def test_below_horizon_stars_kept_are_drawn_without_air(tmp_path, capsys):
     # A star below the horizon (altitude -10 by astropy) kept with --below-horizon keep gets
     # render's colour without air (reference: render(T, V) with no path), not the horizon's

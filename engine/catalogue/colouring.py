@@ -23,6 +23,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from starkiln.engine.path.chain import has_path
 from starkiln.engine.catalogue.columns import arrow_values, output_schema, status_array
 from starkiln.engine.catalogue.plan import (BLUER_THAN_BLACKBODY, DUST_OUT_OF_RANGE,
                                             EXTRAPOLATED, LAST_COLOURED, MAGNITUDE_MAX,
@@ -84,7 +85,8 @@ def _pool(threads: int):
     return _POOL
 
 
-def colour_values(plan: CataloguePlan, columns: dict, altitude_deg=None) -> Coloured:
+def colour_values(plan: CataloguePlan, columns: dict, altitude_deg=None,
+                  extinction: bool = False) -> Coloured:
     """Colour one chunk of rows, split over ``plan.threads`` threads for large chunks.
 
     Parameters
@@ -96,6 +98,9 @@ def colour_values(plan: CataloguePlan, columns: dict, altitude_deg=None) -> Colo
         ``name -> (values, missing)`` as for :func:`colour_values_serial`.
     altitude_deg : numpy.ndarray, optional
         Per-row apparent altitudes, as for :func:`colour_values_serial`.
+    extinction : bool
+        Also return what the path adds to each row's magnitude, as for
+        :func:`colour_values_serial`.
 
     Returns
     -------
@@ -112,38 +117,46 @@ def colour_values(plan: CataloguePlan, columns: dict, altitude_deg=None) -> Colo
     threads = plan.threads or min(4, os.cpu_count() or 1)
     parts = min(threads, n // _MIN_ROWS_PER_THREAD)
     if parts < 2 or altitude_deg is not None:  # per-star air: render's own threads suffice
-        return colour_values_serial(plan, columns, altitude_deg)
+        return colour_values_serial(plan, columns, altitude_deg, extinction)
     if plan.deredden_ebv is not None:  # build the dereddening table before the threads
         from starkiln.engine.path.deredden import reddened_range
 
         reddened_range(_INDEX[plan.source], plan.deredden_ebv, law=plan.settings.dust_law,
                        rv=plan.settings.dust_rv)
-    if not plan.exact:  # build (or load) the grid once, before the threads need it
+    dust = plan.dust_column is not None
+    if not plan.exact and not (dust and plan.with_magnitude):
+        # build (or load) the grid once, before the threads need it (a dust column with
+        # magnitudes takes the render path's lattice instead, built on first use)
         from starkiln.engine.catalogue.grid_cache import colour_grid
 
-        dust = plan.dust_column is not None
         colour_grid(plan.settings, plan.with_magnitude, dust)
         for ws in plan.linear_settings:
             colour_grid(ws, plan.with_magnitude, dust)
     bounds = np.linspace(0, n, parts + 1).astype(int)
     out = [np.empty(n, dtype=np.float32) for _ in range(4 + len(plan.linear_names))]
     codes = np.empty(n, dtype=np.uint8)
+    ext = np.empty(n, dtype=np.float32) if extinction else None
 
     def work(p):
         a, b = bounds[p], bounds[p + 1]
         sub = {k: (v[a:b], None if m is None else m[a:b]) for k, (v, m) in columns.items()}
-        res = colour_values_serial(plan, sub)
+        res = colour_values_serial(plan, sub, extinction=extinction)
         for dst, src in zip(out, (res.r, res.g, res.b, res.intensity) + tuple(res.linear)):
             dst[a:b] = src
         codes[a:b] = res.codes
+        if ext is not None:
+            ext[a:b] = np.nan if res.extinction_mag is None else res.extinction_mag
 
     for f in [_pool(threads).submit(work, p) for p in range(parts)]:
         f.result()
     blank = codes > LAST_COLOURED
-    return Coloured(*out[:4], codes, blank if blank.any() else None, tuple(out[4:]))
+    if ext is not None and np.isnan(ext).all():
+        ext = None  # no path of the light: nothing added
+    return Coloured(*out[:4], codes, blank if blank.any() else None, tuple(out[4:]), ext)
 
 
-def colour_values_serial(plan: CataloguePlan, columns: dict, altitude_deg=None) -> Coloured:
+def colour_values_serial(plan: CataloguePlan, columns: dict, altitude_deg=None,
+                         extinction: bool = False) -> Coloured:
     """Colour one chunk of rows: status per row, then colours from the render path.
 
     Parameters
@@ -159,6 +172,11 @@ def colour_values_serial(plan: CataloguePlan, columns: dict, altitude_deg=None) 
         is rendered exactly with its own altitude (``render(altitude_deg=...)``, the settings'
         air); NaN for a row without air (below the horizon), rendered without the atmosphere.
         The result's ``extinction_mag`` then holds what the path adds.
+    extinction : bool
+        Also give ``extinction_mag`` for every route (the fixed path of the settings, a dust
+        column): from the render of the rows where they are rendered, else from the render
+        path's lattice (:func:`starkiln.engine.pipeline.path_table.path_extinction_mag`).
+        None when nothing lies on the path.
 
     Returns
     -------
@@ -247,7 +265,7 @@ def colour_values_serial(plan: CataloguePlan, columns: dict, altitude_deg=None) 
         nan = np.full(n, np.nan, dtype=np.float32)
         return Coloured(nan, nan.copy(), nan.copy(), nan.copy(), codes, blank,
                         tuple(nan.copy() for _ in plan.linear_names),
-                        None if altitude_deg is None else nan.copy())
+                        None if altitude_deg is None and not extinction else nan.copy())
 
     safe = src if all_coloured else np.where(coloured, src, _SAFE[plan.source])
     if plan.source == "temperature":
@@ -264,9 +282,16 @@ def colour_values_serial(plan: CataloguePlan, columns: dict, altitude_deg=None) 
     if ebv is not None and not all_coloured:
         ebv = np.where(coloured, ebv, 0.0)
 
-    extinction = None
+    want_extinction, extinction = extinction, None
     if altitude_deg is None:
-        (r, g, b, intensity), linear = _colours(plan, temperature_K, v_mag, ebv)
+        (r, g, b, intensity), linear, extinction = _colours(plan, temperature_K, v_mag, ebv)
+        if not want_extinction:
+            extinction = None
+        elif extinction is None and has_path(plan.settings, ebv):
+            from starkiln.engine.pipeline.path_table import path_extinction_mag
+
+            extinction = path_extinction_mag(plan.settings, temperature_K,
+                                             dust_ebv=ebv).astype(np.float32)
     else:
         (r, g, b, intensity), linear, extinction = _colours_in_air(
             plan, temperature_K, v_mag, ebv, np.asarray(altitude_deg, dtype=np.float64))
@@ -306,9 +331,12 @@ def _channels(rgb) -> tuple:
 
 
 def _colours(plan: CataloguePlan, temperature_K, v_mag, ebv=None):
-    """(r, g, b, intensity) and the linear working-space channels (float32), from the colour
-    grids or, with ``exact``, from one render per chunk (``ebv``: per-star E(B-V) of a dust
-    column, to the render path as ``dust_ebv``; the grid then has an E(B-V) axis).
+    """(r, g, b, intensity), the linear working-space channels (float32) and the extinction
+    (None where the colour grid gave the colours), from the colour grids or, with ``exact``,
+    from one render per chunk (``ebv``: per-star E(B-V) of a dust column, to the render path
+    as ``dust_ebv``; without magnitudes the grid then has an E(B-V) axis, with magnitudes the
+    chunk is rendered with the render path's lattice of the arriving light,
+    ``path_sums="table"``).
 
     Exact: the chunk is rendered once, and each working space's colours come from the same
     render (:func:`starkiln.engine.pipeline.render.same_stars_in`: its tristimulus values and
@@ -316,7 +344,9 @@ def _colours(plan: CataloguePlan, temperature_K, v_mag, ebv=None):
     colour grid, built by the render path like the display's.
     """
     if plan.exact:
-        return _exact(plan, temperature_K, v_mag, ebv)[:2]
+        return _exact(plan, temperature_K, v_mag, ebv)
+    if ebv is not None and v_mag is not None:  # a dust column with magnitudes: the lattice
+        return _exact(plan, temperature_K, v_mag, ebv, path_sums="table")
     from starkiln.engine.catalogue.grid_cache import colour_grid
 
     dust = ebv is not None
@@ -324,15 +354,17 @@ def _colours(plan: CataloguePlan, temperature_K, v_mag, ebv=None):
     linear = tuple(a for ws in plan.linear_settings
                    for a in colour_grid(ws, v_mag is not None, dust).lookup(temperature_K, v_mag,
                                                                             ebv)[:3])
-    return tuple(grid.lookup(temperature_K, v_mag, ebv)), linear
+    return tuple(grid.lookup(temperature_K, v_mag, ebv)), linear, None
 
 
-def _exact(plan: CataloguePlan, temperature_K, v_mag, ebv=None, altitude_deg=None):
-    """One render of a chunk: ((r, g, b, intensity), linear channels, extinction or None)."""
+def _exact(plan: CataloguePlan, temperature_K, v_mag, ebv=None, altitude_deg=None,
+           path_sums="exact"):
+    """One render of a chunk: ((r, g, b, intensity), linear channels, extinction or None);
+    ``path_sums`` as :func:`starkiln.engine.pipeline.render.render` takes it."""
     from starkiln.engine.pipeline.render import render, same_stars_in
 
     rendered = render(plan.settings, temperature_K, v_mag, dust_ebv=ebv,
-                      altitude_deg=altitude_deg)
+                      altitude_deg=altitude_deg, path_sums=path_sums)
     inten = np.broadcast_to(rendered.intensity, temperature_K.shape).astype(np.float32)
     linear = tuple(a for ws in plan.linear_settings
                    for a in _channels(same_stars_in(ws, rendered)))
@@ -355,7 +387,7 @@ def _colours_in_air(plan: CataloguePlan, temperature_K, v_mag, ebv, altitude_deg
             continue
         pick = (lambda a: None if a is None else a[rows])
         main, linear, ext = _exact(plan, temperature_K[rows], pick(v_mag), pick(ebv),
-                                   pick(alt))
+                                   pick(alt), "exact" if plan.exact else "table")
         for dst, src in zip(channels, main + linear + ((ext,) if ext is not None else ())):
             dst[rows] = src
     return tuple(channels[:4]), tuple(channels[4:-1]), channels[-1]

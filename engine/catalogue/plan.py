@@ -34,8 +34,10 @@ Dust per star: ``dust_column`` names a column of E(B-V) (``dust_quantity="ebv"``
 (``"av"``, E(B-V) = A_V / R_V with the settings' R_V, [Cardelli1989] eq. 1); each row's value
 goes to the render path as ``dust_ebv`` (the settings' law and R_V; the settings may hold no
 fixed E(B-V) then). Without magnitudes the colours come from a colour grid with an E(B-V)
-axis (:mod:`starkiln.engine.catalogue.colour_grid`); with magnitudes every row is rendered
-exactly (a temperature x magnitude x E(B-V) grid would cost more to build than it saves).
+axis (:mod:`starkiln.engine.catalogue.colour_grid`); with magnitudes each chunk goes through
+the render path with the arriving light's sums from its lattice over temperature and E(B-V)
+(``render(..., path_sums="table")``, :mod:`starkiln.engine.pipeline.path_table`), and with
+``exact`` every row is rendered exactly.
 """
 
 from __future__ import annotations
@@ -203,8 +205,8 @@ class CataloguePlan:
                                     "relation (Riello et al. 2021) uses BP-RP")
 
     def _check_dust(self) -> None:
-        """The dust column's rules (module docstring): a known quantity, no fixed E(B-V) in
-        the settings beside it, every row rendered exactly when magnitudes are given."""
+        """The dust column's rules (module docstring): a known quantity, and no fixed E(B-V)
+        in the settings or dereddening beside it."""
         if self.dust_quantity not in DUST_QUANTITIES:
             raise StarkilnError(f"dust quantity {self.dust_quantity!r} unknown; accepted: "
                                 "ebv, av")
@@ -216,8 +218,6 @@ class CataloguePlan:
             raise StarkilnError(f"a dust column ({self.dust_column!r}) and a fixed E(B-V) "
                                 f"({self.settings.dust_ebv:g}, from --ebv, --av or the "
                                 "settings) do not go together; accepted: one of them")
-        if self.with_magnitude:
-            object.__setattr__(self, "exact", True)
 
     @property
     def dust_line(self) -> str | None:

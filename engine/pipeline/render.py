@@ -221,7 +221,7 @@ def _chain(settings: Settings) -> _Chain:
 
 
 def render(settings: Settings, temperature_K, magnitude=None, *, dust_ebv=None,
-           altitude_deg=None, magnitude_band: str = "V") -> Rendered:
+           altitude_deg=None, magnitude_band: str = "V", path_sums: str = "exact") -> Rendered:
     """Display colours of stars: the single render path of Starkiln.
 
     Parameters
@@ -245,6 +245,12 @@ def render(settings: Settings, temperature_K, magnitude=None, *, dust_ebv=None,
     magnitude_band : ``V`` (default) or ``G``
         The band of ``magnitude``: Johnson V, or Gaia G (the brightness is then normalised
         through the G band, :mod:`starkiln.engine.eye.brightness`).
+    path_sums : ``exact`` (default) or ``table``
+        With per-star ``dust_ebv`` or ``altitude_deg``: one spectral pass per distinct star
+        (``exact``), or the arriving light's sums interpolated on a lattice over temperature,
+        E(B-V) and airmass (``table``, :mod:`starkiln.engine.pipeline.path_table`: within
+        1.5e-4 of the exact sums, for catalogues and plates of many stars). The rest of the
+        chain is the same. Without per-star values it changes nothing.
 
     Returns
     -------
@@ -275,9 +281,11 @@ def render(settings: Settings, temperature_K, magnitude=None, *, dust_ebv=None,
     t = check_temperature(temperature_K)
     mag = None if magnitude is None else nv.check_magnitude(magnitude)
     band = check_magnitude_band(magnitude_band)
+    if path_sums not in ("exact", "table"):
+        raise InputRangeError(f"path_sums {path_sums!r} is not accepted; exact or table")
     stars = None
     if has_path(settings, dust_ebv, altitude_deg):
-        stars = _StarPath.of(settings, t, dust_ebv, altitude_deg, band)
+        stars = _StarPath.of(settings, t, dust_ebv, altitude_deg, band, path_sums == "table")
         t = stars.temperature_K
     size = t.size if mag is None else int(np.prod(np.broadcast_shapes(t.shape, mag.shape)))
     if size < _BLAS_SINGLE_FROM:
@@ -298,15 +306,21 @@ class _StarPath:
 
     ``temperature_K`` is broadcast against the per-star arrays; ``ebv`` and ``alt`` are None
     for the settings' fixed path, else flat arrays of that shape (``alt`` None: no air).
+    ``per_star_dust`` / ``per_star_air``: which of them came per star (the others are the
+    settings' one value); ``tabulated``: their spectral sums may come from the lattice of
+    :mod:`starkiln.engine.pipeline.path_table`.
     """
 
     temperature_K: np.ndarray
     ebv: np.ndarray | None
     alt: np.ndarray | None
     band: str
+    per_star_dust: bool = False
+    per_star_air: bool = False
+    tabulated: bool = False
 
     @classmethod
-    def of(cls, settings, t, dust_ebv, altitude_deg, band):
+    def of(cls, settings, t, dust_ebv, altitude_deg, band, tabulated=False):
         from starkiln.engine.path import atmosphere as atm
         from starkiln.engine.path import dust
 
@@ -322,7 +336,8 @@ class _StarPath:
         shape = np.broadcast_shapes(*(a.shape for a in arrays))
         flat = [np.ascontiguousarray(np.broadcast_to(a, shape), dtype=np.float64).reshape(-1)
                 for a in arrays]
-        return cls(flat[0].reshape(shape), flat[1], flat[2] if alt is not None else None, band)
+        return cls(flat[0].reshape(shape), flat[1], flat[2] if alt is not None else None, band,
+                   dust_ebv is not None, altitude_deg is not None, tabulated)
 
 
 _PATH_ROWS = 8192  # distinct (T, E(B-V), altitude) per block of per-star transmissions
@@ -407,6 +422,47 @@ def _spectral_sums(settings: Settings, t_u: np.ndarray, weights: np.ndarray, ban
     return sums[:, :k], emitted, arriving
 
 
+def _lattice_sums(settings: Settings, t_nodes: np.ndarray, weights: np.ndarray, band: str,
+                  ebv_nodes: np.ndarray, alt_nodes: np.ndarray | None):
+    """What :func:`_spectral_sums` gives per star, on a lattice: every temperature node
+    against every path node (E(B-V), altitude pairs; ``alt_nodes`` None: the settings' air).
+
+    Returns (sums (T, P, K), emitted (T,), arriving (T, P)). The transmissions are computed
+    once per path node and folded into the weighting functions, so the lattice costs one
+    Planck pass per temperature node (:func:`planck_weighted_sums` with ``P x K`` columns)
+    instead of one per (temperature, path) pair. Used by :mod:`starkiln.engine.pipeline.path_table`.
+    """
+    from starkiln.engine.colour import photometry as ph
+    from starkiln.engine.colour.cie_data import wavelengths_nm
+    from starkiln.engine.eye.brightness import band_support
+    from starkiln.engine.path.chain import path_transmission
+
+    n_t, k = t_nodes.size, weights.shape[1]
+    on_colour = _band_columns(band)
+    wl_b, w_b, sl_b = band_support(band)
+    colour_wl = wavelengths_nm()
+    if on_colour is None:
+        grid = ph.PHOTOMETRY_GRID_NM
+        lo = int(np.searchsorted(grid, colour_wl[0]))
+        sl_c = slice(lo, lo + weights.shape[0])
+        cols = weights
+    else:  # V: the colour grid suffices, the band is one more column
+        grid, sl_c = colour_wl, slice(0, colour_wl.size)
+        cols = np.column_stack([weights, on_colour])
+    tr = np.atleast_2d(path_transmission(settings, grid, ebv_nodes, alt_nodes))  # (P, N)
+    p = tr.shape[0]
+    folded = cols[:, None, :] * tr[:, sl_c].T[:, :, None]               # (N, P, K [+1])
+    sums = planck_weighted_sums(t_nodes, folded.reshape(cols.shape[0], -1))
+    sums = sums.reshape(n_t, p, cols.shape[1])
+    if on_colour is None:
+        emitted = planck_weighted_sums(t_nodes, w_b[:, None], wl_b)[:, 0]
+        arriving = planck_weighted_sums(t_nodes, w_b[:, None] * tr[:, sl_b].T, wl_b)
+    else:
+        emitted = planck_weighted_sums(t_nodes, on_colour[:, None])[:, 0]
+        arriving = sums[:, :, k]
+    return sums[:, :, :k], emitted, arriving
+
+
 @dataclass(frozen=True)
 class _Distinct:
     """Steps 1-5 once per distinct star (temperature, or (T, E(B-V), altitude) triple)."""
@@ -443,7 +499,22 @@ def _per_temperature(settings: Settings, t_flat: np.ndarray, with_sp: bool,
     brightness. With a path, the sums are those of the arriving spectrum.
     """
     ebv_u = alt_u = None
-    if stars is not None and stars.ebv is not None:
+    per_star = stars is not None and stars.ebv is not None
+    weights = None
+    if stars is not None or with_sp:
+        weights = cmfs(settings.observer)
+        if with_sp:
+            weights = np.concatenate([weights, v_photopic()[:, None], v_scotopic()[:, None]],
+                                     axis=1)
+    got = None
+    if per_star and stars.tabulated:
+        from starkiln.engine.pipeline.path_table import tabulated_sums
+
+        got = tabulated_sums(settings, weights, (settings.observer, with_sp), band, t_flat,
+                             stars)
+    if got is not None:  # every star its own row: no de-duplication (the lattice is cheap)
+        unique, inverse = t_flat, np.arange(t_flat.size)
+    elif per_star:
         cols = [t_flat, stars.ebv] + ([stars.alt] if stars.alt is not None else [])
         keys, inverse = _unique_rows(cols)
         unique, ebv_u = keys[:, 0].copy(), keys[:, 1].copy()
@@ -451,15 +522,11 @@ def _per_temperature(settings: Settings, t_flat: np.ndarray, with_sp: bool,
     else:
         unique, inverse = np.unique(t_flat, return_inverse=True)
     sp_u = e0_u = ext_u = None
-    if stars is None and not with_sp:
+    if weights is None:
         XYZ_u = blackbody_XYZ(unique, settings.observer)
     else:
-        weights = cmfs(settings.observer)
-        if with_sp:
-            weights = np.concatenate([weights, v_photopic()[:, None], v_scotopic()[:, None]],
-                                     axis=1)
-        sums, emitted, arriving = _spectral_sums(settings, unique, weights, band, stars,
-                                                 ebv_u, alt_u)
+        sums, emitted, arriving = got if got is not None else _spectral_sums(
+            settings, unique, weights, band, stars, ebv_u, alt_u)
         if arriving is not None:
             with np.errstate(divide="ignore"):
                 ext_u = -2.5 * np.log10(arriving / emitted)

@@ -163,8 +163,9 @@ def chunk_colours(plan, columns, values="display", altitude_deg=None):
         As :func:`draw_chunk`.
     altitude_deg : numpy.ndarray, optional
         Each row's apparent altitude (NaN: no air), for the render path
-        (:func:`starkiln.engine.catalogue.colouring.colour_values`); flux values are then
-        dimmed by the extinction the path adds.
+        (:func:`starkiln.engine.catalogue.colouring.colour_values`). Flux values are dimmed
+        by the extinction the path adds, whatever its source (these altitudes, the settings'
+        fixed dust and altitude, a dust column).
 
     Returns
     -------
@@ -178,7 +179,7 @@ def chunk_colours(plan, columns, values="display", altitude_deg=None):
     from starkiln.engine.catalogue.colouring import colour_values
 
     colour_cols = {k: columns[k] for k in plan.input_columns}
-    res = colour_values(plan, colour_cols, altitude_deg)
+    res = colour_values(plan, colour_cols, altitude_deg, extinction=values == "flux")
     n = len(res.r)
     flagged = res.blank if res.blank is not None else np.zeros(n, bool)
     if values == "flux":

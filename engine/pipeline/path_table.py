@@ -1,0 +1,373 @@
+"""Tabulated light paths: the arriving light's spectral sums on a lattice, for many stars.
+
+With per-star E(B-V) or altitudes the exact render path (:func:`starkiln.engine.pipeline.render.render`)
+makes one spectral pass per distinct (temperature, E(B-V), altitude) star: about 4 us a star,
+the cost of a catalogue with a dust column or a plate through the air. Everything after the
+spectral pass (adaptation, display matrix, gamut, night vision) is cheap per star. This module
+replaces only that pass, when asked (``render(..., path_sums="table")``): the sums the chain
+needs (the colour-matching functions, V, V' and the magnitude band, of the arriving spectrum,
+and the band integral of the emitted one) are computed on a lattice of nodes and interpolated,
+and the rest of the chain runs on them unchanged.
+
+The lattice
+-----------
+- **Temperature**: :data:`TEMPERATURE_NODES` nodes even in ``u = ln(mired + 30)`` over
+  500-100 000 K. A log sum is close to linear in mired where Wien's law holds (cool stars)
+  and in ``ln T`` where the Rayleigh-Jeans tail does (hot stars); ``ln(mired + 30)`` is both
+  at once (mired = 1e6 / T; [WyszeckiStiles1982] 3.11).
+- **E(B-V)** (a per-star dust column): nodes every :data:`EBV_STEP_MAG` from 0 up to the
+  largest value asked for so far (the lattice grows on demand, up to 10 mag). Each
+  wavelength's transmission is exponential in E(B-V), so the log sums are nearly linear.
+- **Air** (per-star altitudes): nodes every :data:`AIRMASS_STEP` in the Kasten & Young (1989)
+  airmass X from the zenith's 0.9997 to the horizon's 37.92; the slant optical depth is close to linear in X.
+- A path quantity that is the same for every star (the settings' fixed E(B-V) or altitude,
+  or one value for a whole chunk) is a single node, computed exactly.
+
+The logarithms of the sums are interpolated multi-linearly. Measured against the exact pass
+over 20 000 random stars (500-100 000 K; E(B-V) 0-10 mag, or altitudes 0-90 degrees): the sums
+within 8.3e-5 relative (below 1e-4 mag in brightness), the chromaticity xy within 6.5e-6, the
+extinction within 2.3e-5 mag; on the display that is CIEDE2000 below 0.007
+(tests/test_path_table.py holds the bounds). The lattice is built once per process and path
+(:func:`planck_weighted_sums` with one column per path node: one Planck pass per temperature
+node), about 0.05 s for 80 dust nodes, and kept in memory (:data:`TABLE_BYTES_MAX` bounds it:
+a per-star dust column *and* per-star altitudes would need a three-axis lattice of several
+hundred MB, so that case returns None and the caller renders exactly).
+
+References
+----------
+[KastenYoung1989] (airmass); [CIE15] section 7.1 (summation); module
+:mod:`starkiln.engine.pipeline.render` for the chain.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import threading
+from dataclasses import dataclass
+
+import numpy as np
+
+#: Temperature nodes (even in ln(mired + MIRED_OFFSET)).
+TEMPERATURE_NODES = 1024
+#: The offset of the temperature axis, mired.
+MIRED_OFFSET = 30.0
+#: Spacing of the E(B-V) nodes, mag.
+EBV_STEP_MAG = 0.025
+#: Spacing of the airmass nodes.
+AIRMASS_STEP = 0.25
+#: The largest lattice kept, bytes (beyond it the caller renders exactly).
+TABLE_BYTES_MAX = 96 * 2 ** 20
+#: The E(B-V) lattice grows in steps of this many nodes (so a catalogue's chunks share it).
+EBV_GROW_NODES = 40
+
+#: Nodes from 0 to the largest E(B-V) accepted (10 mag).
+_EBV_NODES_MAX = int(round(10.0 / EBV_STEP_MAG)) + 1
+_U_MIN = np.log(1e6 / 100_000.0 + MIRED_OFFSET)
+_U_MAX = np.log(1e6 / 500.0 + MIRED_OFFSET)
+
+
+def _u(temperature_K) -> np.ndarray:
+    return np.log(1e6 / temperature_K + MIRED_OFFSET)
+
+
+def temperature_nodes_K() -> np.ndarray:
+    """The lattice's temperature nodes, kelvin (hot to cool).
+
+    Returns
+    -------
+    numpy.ndarray
+        (:data:`TEMPERATURE_NODES`,) temperatures even in ``ln(mired + 30)``, clipped to
+        500-100 000 K.
+
+    References
+    ----------
+    Module docstring; [WyszeckiStiles1982] 3.11 (mired).
+    """
+    u = np.linspace(_U_MIN, _U_MAX, TEMPERATURE_NODES)
+    return np.clip(1e6 / (np.exp(u) - MIRED_OFFSET), 500.0, 100_000.0)
+
+
+def airmass_nodes() -> np.ndarray:
+    """The lattice's airmass nodes: even from the zenith's Kasten & Young airmass (0.9997) to
+    the horizon's (37.92).
+
+    Returns
+    -------
+    numpy.ndarray
+        (n,) airmasses, spacing at most :data:`AIRMASS_STEP`.
+
+    References
+    ----------
+    [KastenYoung1989] eq. 3 (37.92 at altitude 0).
+    """
+    from starkiln.engine.path.atmosphere import airmass_kasten_young
+
+    zenith, horizon = (float(x) for x in airmass_kasten_young(np.array([90.0, 0.0])))
+    return np.linspace(zenith, horizon, int(np.ceil((horizon - zenith) / AIRMASS_STEP)) + 1)
+
+
+def altitude_at_airmass_deg(airmass) -> np.ndarray:
+    """The apparent altitude whose Kasten & Young (1989) airmass is ``airmass`` (1 to 37.92).
+
+    The formula is inverted numerically (it is monotonic): linear interpolation in a table
+    of the airmass every 0.001 degree, whose airmass is the asked one within 1e-6 relative.
+
+    Parameters
+    ----------
+    airmass : array_like
+        Relative optical airmass, 1 to the horizon's 37.92.
+
+    Returns
+    -------
+    numpy.ndarray
+        Degrees, 0-90.
+
+    References
+    ----------
+    [KastenYoung1989] eq. 3.
+    """
+    from starkiln.engine.path.atmosphere import airmass_kasten_young
+
+    h = np.linspace(0.0, 90.0, 90_001)
+    x = airmass_kasten_young(h)
+    return np.interp(np.asarray(airmass, dtype=np.float64), x[::-1], h[::-1])
+
+
+@dataclass(frozen=True)
+class PathTable:
+    """The log spectral sums of arriving light on a lattice (module docstring).
+
+    ``log_sums`` is (temperature nodes, E(B-V) nodes, air nodes, K + 1): the K weighting
+    functions' sums, then the band integral of the arriving spectrum; ``log_emitted`` the band
+    integral of the emitted one per temperature node. An axis of one node is fixed (no
+    interpolation along it).
+    """
+
+    log_sums: np.ndarray
+    log_emitted: np.ndarray
+    ebv_step: float          # spacing of the E(B-V) nodes from 0 (one node: unused)
+    airmass: np.ndarray | None  # the air nodes' airmasses (None: one node or no air)
+
+    @property
+    def ebv_nodes(self) -> int:
+        """How many E(B-V) nodes the lattice has."""
+        return self.log_sums.shape[1]
+
+    def sums(self, temperature_K, ebv=None, altitude_deg=None):
+        """Interpolated sums for stars: (sums (n, K), emitted (n,), arriving (n,)).
+
+        Parameters
+        ----------
+        temperature_K : numpy.ndarray
+            (n,) kelvin, 500-100 000 (checked by the caller).
+        ebv : numpy.ndarray, optional
+            (n,) E(B-V), mag, inside the lattice's range (per-star dust axis only).
+        altitude_deg : numpy.ndarray, optional
+            (n,) apparent altitudes, degrees (per-star air axis only).
+
+        Returns
+        -------
+        tuple of numpy.ndarray
+            As :func:`starkiln.engine.pipeline.render._spectral_sums` gives per star.
+
+        References
+        ----------
+        Module docstring (multi-linear interpolation of the logarithms).
+        """
+        from starkiln.engine.path.atmosphere import airmass_kasten_young
+
+        n_u, n_e, n_x, c = self.log_sums.shape
+        flat = self.log_sums.reshape(-1, c)
+        n = temperature_K.size
+        out = np.empty((n, c))
+        emitted = np.empty(n)
+        du = (_U_MAX - _U_MIN) / (n_u - 1)
+        for lo in range(0, n, _BLOCK):
+            sl = slice(lo, lo + _BLOCK)
+            axes = []  # (index, weight, stride) per interpolated axis
+            fu = (_u(temperature_K[sl]) - _U_MIN) / du
+            iu = np.clip(fu.astype(np.intp), 0, n_u - 2)
+            wu = fu - iu
+            axes.append((iu, wu, n_e * n_x))
+            if n_e > 1:
+                fe = ebv[sl] / self.ebv_step
+                ie = np.clip(fe.astype(np.intp), 0, n_e - 2)
+                axes.append((ie, fe - ie, n_x))
+            if n_x > 1:
+                x_star = airmass_kasten_young(altitude_deg[sl])
+                step = self.airmass[1] - self.airmass[0]
+                fx = (x_star - self.airmass[0]) / step
+                ix = np.clip(fx.astype(np.intp), 0, n_x - 2)
+                axes.append((ix, fx - ix, 1))
+            base = sum(i * stride for i, _, stride in axes)
+            acc = np.zeros((base.size, c))
+            for corner in range(1 << len(axes)):
+                index = base.copy()
+                weight = np.ones(base.size)
+                for bit, (_, w, stride) in enumerate(axes):
+                    if corner >> bit & 1:
+                        index += stride
+                        weight *= w
+                    else:
+                        weight *= 1.0 - w
+                acc += flat[index] * weight[:, None]
+            out[sl] = acc
+            emitted[sl] = (1.0 - wu) * self.log_emitted[iu] + wu * self.log_emitted[iu + 1]
+        np.exp(out, out=out)
+        return out[:, :-1], np.exp(emitted), out[:, -1]
+
+
+#: Stars per block of the interpolation (the gathers stay in cache-sized pieces).
+_BLOCK = 65536
+_LOCK = threading.Lock()
+_TABLES: dict = {}
+
+
+def _key(settings, weights_key, band, stars):
+    air = None
+    if stars.alt is not None:
+        air = (settings.site_height_m, settings.aerosol_tau550, settings.angstrom_exponent,
+               settings.ozone_du, "axis" if stars.per_star_air else float(stars.alt[0]))
+    dust = "axis" if stars.per_star_dust else float(stars.ebv[0])
+    return (weights_key, band, settings.dust_law, settings.dust_rv, dust, air)
+
+
+def _build(settings, weights, band, stars, n_e) -> PathTable | None:
+    from starkiln.engine.pipeline.render import _lattice_sums
+
+    t_nodes = temperature_nodes_K()
+    ebv = (np.arange(n_e) * EBV_STEP_MAG if stars.per_star_dust
+           else np.array([float(stars.ebv[0])]))
+    airmass = None
+    if stars.alt is None:
+        alt = None
+    elif stars.per_star_air:
+        airmass = airmass_nodes()
+        alt = altitude_at_airmass_deg(airmass)
+    else:
+        alt = np.array([float(stars.alt[0])])
+    n_x = 1 if alt is None else alt.size
+    columns = weights.shape[1] + 1
+    if t_nodes.size * ebv.size * n_x * columns * 8 > TABLE_BYTES_MAX:
+        return None
+    e_grid, a_grid = ebv, alt
+    if alt is not None:
+        e_grid, a_grid = (g.reshape(-1) for g in np.meshgrid(ebv, alt, indexing="ij"))
+    sums, emitted, arriving = _lattice_sums(settings, t_nodes, weights, band, e_grid, a_grid)
+    table = np.concatenate([sums, arriving[:, :, None]], axis=2)
+    with np.errstate(divide="ignore"):
+        log_sums = np.log(table).reshape(t_nodes.size, ebv.size, n_x, columns)
+        log_emitted = np.log(emitted)
+    if not (np.all(np.isfinite(log_sums)) and np.all(np.isfinite(log_emitted))):
+        return None  # a sum that underflows to 0: this path is rendered exactly
+    return PathTable(log_sums, log_emitted, EBV_STEP_MAG, airmass)
+
+
+def tabulated_sums(settings, weights: np.ndarray, weights_key, band: str, temperature_K,
+                   stars):
+    """The spectral sums of stars on per-star paths from the (cached) lattice, or None.
+
+    Parameters
+    ----------
+    settings : Settings
+        Dust law, R_V and the air (site height, aerosol, ozone) of the path.
+    weights : numpy.ndarray
+        (N, K) the weighting functions on the colour grid (as the render path passes them).
+    weights_key : hashable
+        What ``weights`` are (observer, with V and V' or not): part of the cache key.
+    band : str
+        The magnitudes' band (``V`` or ``G``).
+    temperature_K : numpy.ndarray
+        (n,) kelvin.
+    stars : starkiln.engine.pipeline.render._StarPath
+        The per-star E(B-V) and altitudes (and whether each is an axis or one value).
+
+    Returns
+    -------
+    tuple or None
+        (sums (n, K), emitted (n,), arriving (n,)) as the exact pass gives them, or None
+        when the lattice would exceed :data:`TABLE_BYTES_MAX` (the caller renders exactly).
+
+    References
+    ----------
+    Module docstring.
+    """
+    key = _key(settings, weights_key, band, stars)
+    n_e = 1
+    if stars.per_star_dust:
+        need = int(np.floor(float(stars.ebv.max()) / EBV_STEP_MAG)) + 2
+        n_e = min(-(-need // EBV_GROW_NODES) * EBV_GROW_NODES, _EBV_NODES_MAX)
+    with _LOCK:
+        table = _TABLES.get(key)
+        if table is None or table.ebv_nodes < n_e:
+            if table is not None:
+                n_e = max(n_e, table.ebv_nodes)
+            table = _build(settings, weights, band, stars, n_e)
+            if table is None:
+                return None
+            if len(_TABLES) >= _TABLES_KEPT:
+                _TABLES.pop(next(iter(_TABLES)))
+            _TABLES[key] = table
+    return table.sums(temperature_K, stars.ebv if stars.per_star_dust else None,
+                      stars.alt if stars.per_star_air else None)
+
+
+#: How many lattices a process keeps (the oldest goes first).
+_TABLES_KEPT = 8
+
+
+def path_extinction_mag(settings, temperature_K, dust_ebv=None, altitude_deg=None,
+                        band: str = "V") -> np.ndarray:
+    """What the path of the light adds to stars' magnitudes, from the lattice.
+
+    ``-2.5 log10(arriving / emitted)`` of the band integrals (synthetic photometry of the
+    arriving and the emitted spectrum), as ``Rendered.extinction_mag`` gives it, for many
+    stars at the cost of an interpolation: for the settings' fixed path (one node) or per-star
+    E(B-V) and altitudes. Used where the colours come from a colour grid (which holds no
+    extinction) and the flux is wanted.
+
+    Parameters
+    ----------
+    settings : Settings
+        The path (dust law, R_V, fixed E(B-V), altitude and air).
+    temperature_K : array_like
+        (n,) kelvin, 500-100 000.
+    dust_ebv, altitude_deg : array_like, optional
+        (n,) per-star E(B-V) (mag) and apparent altitudes (degrees), overriding the settings'.
+    band : str
+        The magnitudes' band, ``V`` (default) or ``G``.
+
+    Returns
+    -------
+    numpy.ndarray
+        (n,) magnitudes, >= 0; zeros without a path. Within 3e-5 mag of the exact pass
+        (tests/test_path_table.py).
+
+    References
+    ----------
+    [BessellMurphy2012] eq. 1 (band integrals); module docstring.
+    """
+    from starkiln.engine.colour.observers import cmfs
+    from starkiln.engine.path.chain import has_path
+    from starkiln.engine.pipeline.render import _StarPath
+    from starkiln.engine.stars.temperature import check_temperature
+
+    t = np.ascontiguousarray(check_temperature(temperature_K), dtype=np.float64).reshape(-1)
+    if not has_path(settings, dust_ebv, altitude_deg):
+        return np.zeros(t.size)
+    stars = _StarPath.of(settings, t, np.full(t.size, settings.dust_ebv)
+                         if dust_ebv is None else dust_ebv,
+                         None if altitude_deg is None and settings.altitude_deg is None
+                         else np.full(t.size, settings.altitude_deg) if altitude_deg is None
+                         else altitude_deg, band, True)
+    stars = dataclasses.replace(stars, per_star_dust=dust_ebv is not None,
+                                per_star_air=altitude_deg is not None)
+    got = tabulated_sums(settings, cmfs(settings.observer), (settings.observer, False), band,
+                         stars.temperature_K.reshape(-1), stars)
+    if got is None:  # too large a lattice: the exact pass
+        from starkiln.engine.pipeline.render import render
+
+        return np.asarray(render(settings, t, dust_ebv=dust_ebv,
+                                 altitude_deg=altitude_deg).extinction_mag).reshape(-1)
+    _, emitted, arriving = got
+    return -2.5 * np.log10(arriving / emitted)
