@@ -16,7 +16,7 @@ from starkiln.engine.catalogue.colouring import colour_values
 from starkiln.engine.catalogue.plan import CataloguePlan
 from starkiln.engine.errors import InputRangeError
 from starkiln.engine.pipeline import path_table as pt
-from starkiln.engine.pipeline.render import render
+from starkiln.engine.pipeline.render import path_extinction_mag, render
 from starkiln.engine.pipeline.settings import Settings
 
 RNG = np.random.default_rng(20261203)
@@ -75,7 +75,7 @@ def test_tabulated_extinction_is_the_synthetic_v_of_speclites_curve():
     wl = np.arange(470.0, 700.0, 0.25)
     response = v(wl * u.nm)
     pick = np.arange(0, 3000, 150)
-    got = pt.path_extinction_mag(Settings(), TEMPS[pick], dust_ebv=EBV[pick])
+    got = path_extinction_mag(Settings(), TEMPS[pick], dust_ebv=EBV[pick])
     for n, i in enumerate(pick):
         arriving, bare = _outside_arriving(TEMPS[i], EBV[i], wl)
         expected = -2.5 * np.log10(np.trapezoid(arriving * response, wl)

@@ -175,7 +175,7 @@ def colour_values_serial(plan: CataloguePlan, columns: dict, altitude_deg=None,
     extinction : bool
         Also give ``extinction_mag`` for every route (the fixed path of the settings, a dust
         column): from the render of the rows where they are rendered, else from the render
-        path's lattice (:func:`starkiln.engine.pipeline.path_table.path_extinction_mag`).
+        path's lattice (:func:`starkiln.engine.pipeline.render.path_extinction_mag`).
         None when nothing lies on the path.
 
     Returns
@@ -288,7 +288,7 @@ def colour_values_serial(plan: CataloguePlan, columns: dict, altitude_deg=None,
         if not want_extinction:
             extinction = None
         elif extinction is None and has_path(plan.settings, ebv):
-            from starkiln.engine.pipeline.path_table import path_extinction_mag
+            from starkiln.engine.pipeline.render import path_extinction_mag
 
             extinction = path_extinction_mag(plan.settings, temperature_K,
                                              dust_ebv=ebv).astype(np.float32)

@@ -158,3 +158,24 @@ def illuminance_lux(wavelength_nm, flux_lambda, magnitude, band: str = "V",
     step = np.gradient(wl)
     e0 = zero_point_lux(f @ (v_on * step), n, band, scotopic)
     return e0 * 10.0 ** (-0.4 * np.asarray(magnitude, dtype=np.float64))
+
+
+def band_on_colour_grid(band: str):
+    """The band of the magnitudes as weights on the colour grid (360-830 nm at 1 nm) when its
+    response lies inside it (V: one more column of the colour pass, no second spectral pass),
+    else None.
+
+    References
+    ----------
+    :func:`band_support` ([BessellMurphy2012] eq. 1).
+    """
+    from starkiln.engine.colour.cie_data import wavelengths_nm
+
+    wl_b, w_b, _ = band_support(band)
+    colour_wl = wavelengths_nm()
+    if wl_b[0] < colour_wl[0] or wl_b[-1] > colour_wl[-1]:
+        return None
+    out = np.zeros(colour_wl.size)
+    lo = int(round(wl_b[0] - colour_wl[0]))
+    out[lo:lo + w_b.size] = w_b
+    return out

@@ -41,11 +41,12 @@ References
 
 from __future__ import annotations
 
-import dataclasses
 import threading
 from dataclasses import dataclass
 
 import numpy as np
+
+from starkiln.engine.errors import InputRangeError
 
 #: Temperature nodes (even in ln(mired + MIRED_OFFSET)).
 TEMPERATURE_NODES = 1024
@@ -168,7 +169,7 @@ class PathTable:
         Returns
         -------
         tuple of numpy.ndarray
-            As :func:`starkiln.engine.pipeline.render._spectral_sums` gives per star.
+            As the render path's exact spectral pass gives per star.
 
         References
         ----------
@@ -217,6 +218,100 @@ class PathTable:
         return out[:, :-1], np.exp(emitted), out[:, -1]
 
 
+@dataclass(frozen=True)
+class StarPath:
+    """The path of the light for one render: fixed (settings) or per star (arrays).
+
+    ``temperature_K`` is broadcast against the per-star arrays; ``ebv`` and ``alt`` are None
+    for the settings' fixed path, else flat arrays of that shape (``alt`` None: no air).
+    ``per_star_dust`` / ``per_star_air``: which of them came per star (the others are the
+    settings' one value); ``tabulated``: their spectral sums may come from the lattice of
+    :mod:`starkiln.engine.pipeline.path_table`.
+    """
+
+    temperature_K: np.ndarray
+    ebv: np.ndarray | None
+    alt: np.ndarray | None
+    band: str
+    per_star_dust: bool = False
+    per_star_air: bool = False
+    tabulated: bool = False
+
+    @classmethod
+    def of(cls, settings, t, dust_ebv, altitude_deg, band, tabulated=False):
+        """The path of one render's stars: the settings' fixed one, or flat per-star arrays
+        (E(B-V) and altitudes checked, broadcast against ``t``).
+
+        References
+        ----------
+        :func:`starkiln.engine.path.dust.check_ebv`,
+        :func:`starkiln.engine.path.atmosphere.check_altitude` (the accepted ranges).
+        """
+        from starkiln.engine.path import atmosphere as atm
+        from starkiln.engine.path import dust
+
+        if dust_ebv is None and altitude_deg is None:
+            return cls(t, None, None, band)
+        ebv = (np.asarray(settings.dust_ebv) if dust_ebv is None
+               else dust.check_ebv(dust_ebv, "dust_ebv", error=InputRangeError))
+        alt = (None if altitude_deg is None
+               else atm.check_altitude(altitude_deg, error=InputRangeError))
+        if alt is None and settings.altitude_deg is not None:
+            alt = np.asarray(settings.altitude_deg)
+        arrays = [t, ebv] + ([alt] if alt is not None else [])
+        shape = np.broadcast_shapes(*(a.shape for a in arrays))
+        flat = [np.ascontiguousarray(np.broadcast_to(a, shape), dtype=np.float64).reshape(-1)
+                for a in arrays]
+        return cls(flat[0].reshape(shape), flat[1], flat[2] if alt is not None else None, band,
+                   dust_ebv is not None, altitude_deg is not None, tabulated)
+
+
+def lattice_sums(settings, t_nodes: np.ndarray, weights: np.ndarray, band: str,
+                  ebv_nodes: np.ndarray, alt_nodes: np.ndarray | None):
+    """What the render path's spectral pass gives per star, on a lattice: every temperature node
+    against every path node (E(B-V), altitude pairs; ``alt_nodes`` None: the settings' air).
+
+    Returns (sums (T, P, K), emitted (T,), arriving (T, P)). The transmissions are computed
+    once per path node and folded into the weighting functions, so the lattice costs one
+    Planck pass per temperature node (:func:`planck_weighted_sums` with ``P x K`` columns)
+    instead of one per (temperature, path) pair.
+
+    References
+    ----------
+    [CIE15] section 7.1 (summation); [Planck1901]; :func:`starkiln.engine.path.chain.path_transmission`.
+    """
+    from starkiln.engine.colour import photometry as ph
+    from starkiln.engine.colour.cie_data import wavelengths_nm
+    from starkiln.engine.colour.spectrum import planck_weighted_sums
+    from starkiln.engine.eye.brightness import band_on_colour_grid, band_support
+    from starkiln.engine.path.chain import path_transmission
+
+    n_t, k = t_nodes.size, weights.shape[1]
+    on_colour = band_on_colour_grid(band)
+    wl_b, w_b, sl_b = band_support(band)
+    colour_wl = wavelengths_nm()
+    if on_colour is None:
+        grid = ph.PHOTOMETRY_GRID_NM
+        lo = int(np.searchsorted(grid, colour_wl[0]))
+        sl_c = slice(lo, lo + weights.shape[0])
+        cols = weights
+    else:  # V: the colour grid suffices, the band is one more column
+        grid, sl_c = colour_wl, slice(0, colour_wl.size)
+        cols = np.column_stack([weights, on_colour])
+    tr = np.atleast_2d(path_transmission(settings, grid, ebv_nodes, alt_nodes))  # (P, N)
+    p = tr.shape[0]
+    folded = cols[:, None, :] * tr[:, sl_c].T[:, :, None]               # (N, P, K [+1])
+    sums = planck_weighted_sums(t_nodes, folded.reshape(cols.shape[0], -1))
+    sums = sums.reshape(n_t, p, cols.shape[1])
+    if on_colour is None:
+        emitted = planck_weighted_sums(t_nodes, w_b[:, None], wl_b)[:, 0]
+        arriving = planck_weighted_sums(t_nodes, w_b[:, None] * tr[:, sl_b].T, wl_b)
+    else:
+        emitted = planck_weighted_sums(t_nodes, on_colour[:, None])[:, 0]
+        arriving = sums[:, :, k]
+    return sums[:, :, :k], emitted, arriving
+
+
 #: Stars per block of the interpolation (the gathers stay in cache-sized pieces).
 _BLOCK = 65536
 _LOCK = threading.Lock()
@@ -233,8 +328,6 @@ def _key(settings, weights_key, band, stars):
 
 
 def _build(settings, weights, band, stars, n_e) -> PathTable | None:
-    from starkiln.engine.pipeline.render import _lattice_sums
-
     t_nodes = temperature_nodes_K()
     ebv = (np.arange(n_e) * EBV_STEP_MAG if stars.per_star_dust
            else np.array([float(stars.ebv[0])]))
@@ -253,7 +346,7 @@ def _build(settings, weights, band, stars, n_e) -> PathTable | None:
     e_grid, a_grid = ebv, alt
     if alt is not None:
         e_grid, a_grid = (g.reshape(-1) for g in np.meshgrid(ebv, alt, indexing="ij"))
-    sums, emitted, arriving = _lattice_sums(settings, t_nodes, weights, band, e_grid, a_grid)
+    sums, emitted, arriving = lattice_sums(settings, t_nodes, weights, band, e_grid, a_grid)
     table = np.concatenate([sums, arriving[:, :, None]], axis=2)
     with np.errstate(divide="ignore"):
         log_sums = np.log(table).reshape(t_nodes.size, ebv.size, n_x, columns)
@@ -279,7 +372,7 @@ def tabulated_sums(settings, weights: np.ndarray, weights_key, band: str, temper
         The magnitudes' band (``V`` or ``G``).
     temperature_K : numpy.ndarray
         (n,) kelvin.
-    stars : starkiln.engine.pipeline.render._StarPath
+    stars : StarPath
         The per-star E(B-V) and altitudes (and whether each is an axis or one value).
 
     Returns
@@ -315,59 +408,3 @@ def tabulated_sums(settings, weights: np.ndarray, weights_key, band: str, temper
 #: How many lattices a process keeps (the oldest goes first).
 _TABLES_KEPT = 8
 
-
-def path_extinction_mag(settings, temperature_K, dust_ebv=None, altitude_deg=None,
-                        band: str = "V") -> np.ndarray:
-    """What the path of the light adds to stars' magnitudes, from the lattice.
-
-    ``-2.5 log10(arriving / emitted)`` of the band integrals (synthetic photometry of the
-    arriving and the emitted spectrum), as ``Rendered.extinction_mag`` gives it, for many
-    stars at the cost of an interpolation: for the settings' fixed path (one node) or per-star
-    E(B-V) and altitudes. Used where the colours come from a colour grid (which holds no
-    extinction) and the flux is wanted.
-
-    Parameters
-    ----------
-    settings : Settings
-        The path (dust law, R_V, fixed E(B-V), altitude and air).
-    temperature_K : array_like
-        (n,) kelvin, 500-100 000.
-    dust_ebv, altitude_deg : array_like, optional
-        (n,) per-star E(B-V) (mag) and apparent altitudes (degrees), overriding the settings'.
-    band : str
-        The magnitudes' band, ``V`` (default) or ``G``.
-
-    Returns
-    -------
-    numpy.ndarray
-        (n,) magnitudes, >= 0; zeros without a path. Within 3e-5 mag of the exact pass
-        (tests/test_path_table.py).
-
-    References
-    ----------
-    [BessellMurphy2012] eq. 1 (band integrals); module docstring.
-    """
-    from starkiln.engine.colour.observers import cmfs
-    from starkiln.engine.path.chain import has_path
-    from starkiln.engine.pipeline.render import _StarPath
-    from starkiln.engine.stars.temperature import check_temperature
-
-    t = np.ascontiguousarray(check_temperature(temperature_K), dtype=np.float64).reshape(-1)
-    if not has_path(settings, dust_ebv, altitude_deg):
-        return np.zeros(t.size)
-    stars = _StarPath.of(settings, t, np.full(t.size, settings.dust_ebv)
-                         if dust_ebv is None else dust_ebv,
-                         None if altitude_deg is None and settings.altitude_deg is None
-                         else np.full(t.size, settings.altitude_deg) if altitude_deg is None
-                         else altitude_deg, band, True)
-    stars = dataclasses.replace(stars, per_star_dust=dust_ebv is not None,
-                                per_star_air=altitude_deg is not None)
-    got = tabulated_sums(settings, cmfs(settings.observer), (settings.observer, False), band,
-                         stars.temperature_K.reshape(-1), stars)
-    if got is None:  # too large a lattice: the exact pass
-        from starkiln.engine.pipeline.render import render
-
-        return np.asarray(render(settings, t, dust_ebv=dust_ebv,
-                                 altitude_deg=altitude_deg).extinction_mag).reshape(-1)
-    _, emitted, arriving = got
-    return -2.5 * np.log10(arriving / emitted)

@@ -56,6 +56,7 @@ from starkiln.engine.colour.observers import (KM_PHOTOPIC_LM_W, KM_SCOTOPIC_LM_W
                               v_scotopic, xy_to_XYZ)
 from starkiln.engine.colour.displays import D65_4DIGIT, Display
 from starkiln.engine.colour.quantisation import to_hex
+from starkiln.engine.pipeline.path_table import StarPath
 from starkiln.engine.pipeline.settings import Settings
 from starkiln.engine.stars.temperature import check_temperature
 from starkiln.engine.colour.spectrum import planck_weighted_sums
@@ -285,7 +286,7 @@ def render(settings: Settings, temperature_K, magnitude=None, *, dust_ebv=None,
         raise InputRangeError(f"path_sums {path_sums!r} is not accepted; exact or table")
     stars = None
     if has_path(settings, dust_ebv, altitude_deg):
-        stars = _StarPath.of(settings, t, dust_ebv, altitude_deg, band, path_sums == "table")
+        stars = StarPath.of(settings, t, dust_ebv, altitude_deg, band, path_sums == "table")
         t = stars.temperature_K
     size = t.size if mag is None else int(np.prod(np.broadcast_shapes(t.shape, mag.shape)))
     if size < _BLAS_SINGLE_FROM:
@@ -300,68 +301,12 @@ def render(settings: Settings, temperature_K, magnitude=None, *, dust_ebv=None,
                 else _render_night(settings, t, mag, stars, band))
 
 
-@dataclass(frozen=True)
-class _StarPath:
-    """The path of the light for one render: fixed (settings) or per star (arrays).
-
-    ``temperature_K`` is broadcast against the per-star arrays; ``ebv`` and ``alt`` are None
-    for the settings' fixed path, else flat arrays of that shape (``alt`` None: no air).
-    ``per_star_dust`` / ``per_star_air``: which of them came per star (the others are the
-    settings' one value); ``tabulated``: their spectral sums may come from the lattice of
-    :mod:`starkiln.engine.pipeline.path_table`.
-    """
-
-    temperature_K: np.ndarray
-    ebv: np.ndarray | None
-    alt: np.ndarray | None
-    band: str
-    per_star_dust: bool = False
-    per_star_air: bool = False
-    tabulated: bool = False
-
-    @classmethod
-    def of(cls, settings, t, dust_ebv, altitude_deg, band, tabulated=False):
-        from starkiln.engine.path import atmosphere as atm
-        from starkiln.engine.path import dust
-
-        if dust_ebv is None and altitude_deg is None:
-            return cls(t, None, None, band)
-        ebv = (np.asarray(settings.dust_ebv) if dust_ebv is None
-               else dust.check_ebv(dust_ebv, "dust_ebv", error=InputRangeError))
-        alt = (None if altitude_deg is None
-               else atm.check_altitude(altitude_deg, error=InputRangeError))
-        if alt is None and settings.altitude_deg is not None:
-            alt = np.asarray(settings.altitude_deg)
-        arrays = [t, ebv] + ([alt] if alt is not None else [])
-        shape = np.broadcast_shapes(*(a.shape for a in arrays))
-        flat = [np.ascontiguousarray(np.broadcast_to(a, shape), dtype=np.float64).reshape(-1)
-                for a in arrays]
-        return cls(flat[0].reshape(shape), flat[1], flat[2] if alt is not None else None, band,
-                   dust_ebv is not None, altitude_deg is not None, tabulated)
-
-
 _PATH_ROWS = 8192  # distinct (T, E(B-V), altitude) per block of per-star transmissions
 #: (8192 rows x 471 samples: a 31 MB transmission block, and two threads in the Planck sums)
 
 
-def _band_columns(band: str):
-    """The band of the magnitudes as weights: on the colour grid when its response lies inside
-    it (V: one more column of the colour pass, no second spectral pass), else None."""
-    from starkiln.engine.colour.cie_data import wavelengths_nm
-    from starkiln.engine.eye.brightness import band_support
-
-    wl_b, w_b, _ = band_support(band)
-    colour_wl = wavelengths_nm()
-    if wl_b[0] < colour_wl[0] or wl_b[-1] > colour_wl[-1]:
-        return None
-    out = np.zeros(colour_wl.size)
-    lo = int(round(wl_b[0] - colour_wl[0]))
-    out[lo:lo + w_b.size] = w_b
-    return out
-
-
 def _spectral_sums(settings: Settings, t_u: np.ndarray, weights: np.ndarray, band: str,
-                   stars: "_StarPath | None", ebv_u=None, alt_u=None):
+                   stars: "StarPath | None", ebv_u=None, alt_u=None):
     """Sums of the arriving spectra of distinct stars against the colour-grid ``weights``, and
     the band integrals of the magnitudes' band: (sums (M, K), emitted (M,), arriving (M,) or
     None without a path).
@@ -371,11 +316,11 @@ def _spectral_sums(settings: Settings, t_u: np.ndarray, weights: np.ndarray, ban
     """
     from starkiln.engine.colour import photometry as ph
     from starkiln.engine.colour.cie_data import wavelengths_nm
-    from starkiln.engine.eye.brightness import band_support
+    from starkiln.engine.eye.brightness import band_on_colour_grid, band_support
     from starkiln.engine.path.chain import path_transmission
 
     k = weights.shape[1]
-    on_colour = _band_columns(band)
+    on_colour = band_on_colour_grid(band)
     wl_b, w_b, sl_b = band_support(band)
 
     def band_pass(t, transmission=None):
@@ -422,47 +367,6 @@ def _spectral_sums(settings: Settings, t_u: np.ndarray, weights: np.ndarray, ban
     return sums[:, :k], emitted, arriving
 
 
-def _lattice_sums(settings: Settings, t_nodes: np.ndarray, weights: np.ndarray, band: str,
-                  ebv_nodes: np.ndarray, alt_nodes: np.ndarray | None):
-    """What :func:`_spectral_sums` gives per star, on a lattice: every temperature node
-    against every path node (E(B-V), altitude pairs; ``alt_nodes`` None: the settings' air).
-
-    Returns (sums (T, P, K), emitted (T,), arriving (T, P)). The transmissions are computed
-    once per path node and folded into the weighting functions, so the lattice costs one
-    Planck pass per temperature node (:func:`planck_weighted_sums` with ``P x K`` columns)
-    instead of one per (temperature, path) pair. Used by :mod:`starkiln.engine.pipeline.path_table`.
-    """
-    from starkiln.engine.colour import photometry as ph
-    from starkiln.engine.colour.cie_data import wavelengths_nm
-    from starkiln.engine.eye.brightness import band_support
-    from starkiln.engine.path.chain import path_transmission
-
-    n_t, k = t_nodes.size, weights.shape[1]
-    on_colour = _band_columns(band)
-    wl_b, w_b, sl_b = band_support(band)
-    colour_wl = wavelengths_nm()
-    if on_colour is None:
-        grid = ph.PHOTOMETRY_GRID_NM
-        lo = int(np.searchsorted(grid, colour_wl[0]))
-        sl_c = slice(lo, lo + weights.shape[0])
-        cols = weights
-    else:  # V: the colour grid suffices, the band is one more column
-        grid, sl_c = colour_wl, slice(0, colour_wl.size)
-        cols = np.column_stack([weights, on_colour])
-    tr = np.atleast_2d(path_transmission(settings, grid, ebv_nodes, alt_nodes))  # (P, N)
-    p = tr.shape[0]
-    folded = cols[:, None, :] * tr[:, sl_c].T[:, :, None]               # (N, P, K [+1])
-    sums = planck_weighted_sums(t_nodes, folded.reshape(cols.shape[0], -1))
-    sums = sums.reshape(n_t, p, cols.shape[1])
-    if on_colour is None:
-        emitted = planck_weighted_sums(t_nodes, w_b[:, None], wl_b)[:, 0]
-        arriving = planck_weighted_sums(t_nodes, w_b[:, None] * tr[:, sl_b].T, wl_b)
-    else:
-        emitted = planck_weighted_sums(t_nodes, on_colour[:, None])[:, 0]
-        arriving = sums[:, :, k]
-    return sums[:, :, :k], emitted, arriving
-
-
 @dataclass(frozen=True)
 class _Distinct:
     """Steps 1-5 once per distinct star (temperature, or (T, E(B-V), altitude) triple)."""
@@ -492,7 +396,7 @@ def _unique_rows(cols):
 
 
 def _per_temperature(settings: Settings, t_flat: np.ndarray, with_sp: bool,
-                     stars: "_StarPath | None" = None, band: str = "V") -> _Distinct:
+                     stars: "StarPath | None" = None, band: str = "V") -> _Distinct:
     """Steps 1-5 once per distinct temperature (and path): a :class:`_Distinct`.
 
     With ``with_sp`` the same spectral pass also integrates V and V' for the S/P ratio and the
@@ -540,7 +444,7 @@ def _per_temperature(settings: Settings, t_flat: np.ndarray, with_sp: bool,
     return _Distinct(unique, inverse, XYZ_u, rgb_u, ok_u, sp_u, e0_u, ext_u)
 
 
-def _render_colour(settings: Settings, t: np.ndarray, stars: "_StarPath | None" = None
+def _render_colour(settings: Settings, t: np.ndarray, stars: "StarPath | None" = None
                    ) -> Rendered:
     """Full colour per temperature (no magnitudes): steps 1-6 of the chain."""
     d = _per_temperature(settings, t.reshape(-1), False, stars)
@@ -595,7 +499,7 @@ _BLAS_SINGLE_FROM = 4096  # from this many stars, render with single-threaded BL
 
 
 def _render_night(settings: Settings, t: np.ndarray, mag: np.ndarray,
-                  stars: "_StarPath | None" = None, band: str = "V") -> Rendered:
+                  stars: "StarPath | None" = None, band: str = "V") -> Rendered:
     """Colour and brightness at night: the chain plus :mod:`starkiln.engine.eye.vision`, broadcast T x m.
 
     The spectral work runs once per distinct temperature; the per-star vision work runs in
@@ -1020,3 +924,56 @@ def _display_rgb(settings: Settings, XYZ: np.ndarray):
     if not upper:
         out = out / channel_max(out)[..., None]
     return np.minimum(np.maximum(out, 0.0), 1.0), ok
+
+def path_extinction_mag(settings, temperature_K, dust_ebv=None, altitude_deg=None,
+                        band: str = "V") -> np.ndarray:
+    """What the path of the light adds to stars' magnitudes, from the lattice.
+
+    ``-2.5 log10(arriving / emitted)`` of the band integrals (synthetic photometry of the
+    arriving and the emitted spectrum), as ``Rendered.extinction_mag`` gives it, for many
+    stars at the cost of an interpolation: for the settings' fixed path (one node) or per-star
+    E(B-V) and altitudes. Used where the colours come from a colour grid (which holds no
+    extinction) and the flux is wanted.
+
+    Parameters
+    ----------
+    settings : Settings
+        The path (dust law, R_V, fixed E(B-V), altitude and air).
+    temperature_K : array_like
+        (n,) kelvin, 500-100 000.
+    dust_ebv, altitude_deg : array_like, optional
+        (n,) per-star E(B-V) (mag) and apparent altitudes (degrees), overriding the settings'.
+    band : str
+        The magnitudes' band, ``V`` (default) or ``G``.
+
+    Returns
+    -------
+    numpy.ndarray
+        (n,) magnitudes, >= 0; zeros without a path. Within 3e-5 mag of the exact pass
+        (tests/test_path_table.py); :mod:`starkiln.engine.pipeline.path_table`.
+
+    References
+    ----------
+    [BessellMurphy2012] eq. 1 (band integrals); module docstring.
+    """
+    from starkiln.engine.path.chain import has_path
+
+    t = np.ascontiguousarray(check_temperature(temperature_K), dtype=np.float64).reshape(-1)
+    if not has_path(settings, dust_ebv, altitude_deg):
+        return np.zeros(t.size)
+    stars = StarPath.of(settings, t, np.full(t.size, settings.dust_ebv)
+                         if dust_ebv is None else dust_ebv,
+                         None if altitude_deg is None and settings.altitude_deg is None
+                         else np.full(t.size, settings.altitude_deg) if altitude_deg is None
+                         else altitude_deg, band, True)
+    stars = dataclasses.replace(stars, per_star_dust=dust_ebv is not None,
+                                per_star_air=altitude_deg is not None)
+    from starkiln.engine.pipeline.path_table import tabulated_sums
+
+    got = tabulated_sums(settings, cmfs(settings.observer), (settings.observer, False), band,
+                         stars.temperature_K.reshape(-1), stars)
+    if got is None:  # too large a lattice: the exact pass
+        return np.asarray(render(settings, t, dust_ebv=dust_ebv,
+                                 altitude_deg=altitude_deg).extinction_mag).reshape(-1)
+    _, emitted, arriving = got
+    return -2.5 * np.log10(arriving / emitted)
