@@ -181,10 +181,20 @@ def cmd_catalogue(args, out) -> int:
     for line in summary.lines():
         out.write(line + "\n")
     if plan.deredden_ebv is not None:
-        s = plan.settings
-        out.write(f"dereddened: E(B-V) {plan.deredden_ebv:g} ({s.dust_law}, R_V {s.dust_rv:g}) "
-                  "removed from the observed colours; the dust is not applied again\n")
+        out.write(f"dereddened: {dereddened_line(plan)}\n")
     return 0
+
+
+def dereddened_line(plan) -> str:
+    """What a run with ``--deredden`` removed, for its summary.
+
+    References
+    ----------
+    :mod:`starkiln.engine.path.deredden` (the method).
+    """
+    s = plan.settings
+    return (f"E(B-V) {plan.deredden_ebv:g} ({s.dust_law}, R_V {s.dust_rv:g}) removed from the "
+            "observed colours; the dust is not applied again")
 
 
 def _run(args, plan, engine):

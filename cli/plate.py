@@ -6,8 +6,10 @@ heavy at module level.
 
 from __future__ import annotations
 
-from starkiln.cli.catalogue import add_dust_column_options, add_engine_options, engine_from_args
-from starkiln.cli.options import add_colour_options, add_index_model_option, number, settings_from_args
+from starkiln.cli.catalogue import (add_dust_column_options, add_engine_options, dereddened_line,
+                                    engine_from_args)
+from starkiln.cli.options import (add_colour_options, add_deredden_option, add_index_model_option,
+                                  number, settings_from_args)
 from starkiln.engine.errors import StarkilnError
 
 from starkiln.engine.plates.make import EXR_TYPES
@@ -31,6 +33,7 @@ def add_parsers(sub) -> None:
     c.add_argument("--bv-column", metavar="NAME", help="Johnson B-V (see --index-model)")
     c.add_argument("--bp-rp-column", metavar="NAME", help="dereddened Gaia BP-RP")
     add_index_model_option(c)
+    add_deredden_option(c, "--bv-column or --bp-rp-column")
     c.add_argument("--extrapolate-bp-rp", action="store_true",
                    help="with --index-model relation: colour BP-RP outside the calibrated "
                         "range (appearance only)")
@@ -170,6 +173,8 @@ def cmd_plate(args, out) -> int:
                         log=lambda line: sys.stderr.write(f"starkiln: {line}\n"))
     for line in result.lines(args.output, spec, values):
         out.write(line + "\n")
+    if plan.deredden_ebv is not None:
+        out.write(f"dereddened: {dereddened_line(plan)}\n")
     return 0
 
 
@@ -210,7 +215,12 @@ def _apply_old_plate(args):
         args.ebv_column = args.av_column = None
         setattr(args, "av_column" if cols.get("dust_quantity") == "av" else "ebv_column",
                 cols["dust"])
-    args.old_settings = old["settings"]
+    args.old_settings = dict(old["settings"])
+    if cols.get("deredden_ebv") is not None:
+        # OLD's colours were dereddened by this E(B-V): its settings hold no dust (the dust is
+        # not applied again), so the amount comes back from the columns' record
+        args.deredden = True
+        args.old_settings["dust_ebv"] = float(cols["deredden_ebv"])
 
 
 COMMANDS = {"plate": cmd_plate}

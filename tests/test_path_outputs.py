@@ -421,3 +421,48 @@ def test_plate_metadata_carries_the_dust_and_air_fields(tmp_path):
     again = tmp_path / "again.png"
     assert main(["plate", str(src), str(again), "--settings-from", str(png)]) == 0
     assert again.read_bytes() == png.read_bytes()
+
+
+# -- plates of observed colours: --deredden --------------------------------------------------
+
+def test_plate_deredden_draws_the_catalogues_colours_and_rebuilds(tmp_path, capsys):
+    # One render path: the star's footprint in a display plate sums to the colour times the
+    # intensity that `starkiln catalogue --deredden` writes for the same row (within 2e-6, the
+    # float32 columns); that the dereddening itself is right is checked against speclite's
+    # filters in tests/test_deredden.py. --settings-from OLD rebuilds the plate byte for byte
+    # (OLD's settings hold no dust: the amount comes back from its columns' record).
+    import OpenEXR
+    from PIL import Image
+    import json
+
+    src = _write_csv(tmp_path / "obs.csv", [(0, 40.0, 10.0, 0.71, 3.3, 0.0, 0.0)],
+                     header="id,ra,dec,bv,vmag,ebv,av")
+    common = ["--bv-column", "bv", "--magnitude-column", "vmag", "--deredden", "--ebv", "0.5"]
+    table_out = tmp_path / "obs_out.csv"
+    assert main(["catalogue", str(src), str(table_out), "--no-progress", "--exact",
+                 *common]) == 0
+    row = _read_csv(table_out)
+    expected = _rgb(row)[0] * row["intensity"][0]
+    exr = tmp_path / "obs.exr"
+    capsys.readouterr()
+    assert main(["plate", str(src), str(exr), "--size", "360", *common]) == 0
+    assert "dereddened: E(B-V) 0.5 (G23, R_V 3.1) removed" in capsys.readouterr().out
+    with OpenEXR.File(str(exr)) as f:
+        drawn = np.asarray(f.channels()["RGB"].pixels, dtype=np.float64).sum(axis=(0, 1))
+    assert np.allclose(drawn, expected, atol=2e-6, rtol=0)
+    png, again = tmp_path / "obs.png", tmp_path / "again.png"
+    assert main(["plate", str(src), str(png), "--size", "360", *common]) == 0
+    with Image.open(png) as im:
+        meta = json.loads(im.text["starkiln"])
+    assert meta["columns"]["deredden_ebv"] == 0.5 and meta["settings"]["dust_ebv"] == 0.0
+    assert main(["plate", str(src), str(again), "--settings-from", str(png)]) == 0
+    assert again.read_bytes() == png.read_bytes()
+
+
+def test_plate_deredden_without_dust_exits_2(tmp_path, capsys):
+    src = _write_csv(tmp_path / "obs.csv", [(0, 40.0, 10.0, 0.71, 3.3, 0.0, 0.0)],
+                     header="id,ra,dec,bv,vmag,ebv,av")
+    out = tmp_path / "obs.png"
+    assert main(["plate", str(src), str(out), "--bv-column", "bv", "--deredden"]) == 2
+    assert _one_line_error(capsys, "--deredden needs the dust")
+    assert not out.exists()

@@ -1,7 +1,7 @@
 """The tabulated light path (engine/pipeline/path_table.py, ``render(..., path_sums="table")``):
 what it gives against spectra built outside Starkiln and against the exact pass.
 
-Outside references, named beside each check: astropy's blackbody ([Astropy]), dust-extinction's
+Outside references, named beside each check: astropy's blackbody ([Astropy2022]), dust-extinction's
 G23 law ([DustExtinction], Gordon et al. 2023), colour-science's CIE 1931 colour-matching
 functions and summation ([ColourScience], [CIE15] section 7.1), speclite's Bessell V filter
 ([Speclite], [Bessell1990]), colour-science's CIEDE2000 ([CIE15] section 8.3).

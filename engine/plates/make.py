@@ -263,7 +263,8 @@ def make_plate(input_path, output_path, plan, spec, *, ra_column=None, dec_colum
                                    "source_column": plan.source_column,
                                    "magnitude": plan.magnitude_column,
                                    "dust": plan.dust_column,
-                                   "dust_quantity": plan.dust_quantity},
+                                   "dust_quantity": plan.dust_quantity,
+                                   "deredden_ebv": plan.deredden_ebv},
                           output_type=output_type,
                           layout=plate_files.CROSS_LAYOUT if cube else None)
     if cube:
