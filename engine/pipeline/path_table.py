@@ -26,12 +26,15 @@ The lattice
 The logarithms of the sums are interpolated multi-linearly. Measured against the exact pass
 over 20 000 random stars (500-100 000 K; E(B-V) 0-10 mag, or altitudes 0-90 degrees): the sums
 within 8.3e-5 relative (below 1e-4 mag in brightness), the chromaticity xy within 6.5e-6, the
-extinction within 2.3e-5 mag; on the display that is CIEDE2000 below 0.007
-(tests/test_path_table.py holds the bounds). The lattice is built once per process and path
+extinction within 2.3e-5 mag; on the display that is CIEDE2000 below 0.007 (with dust and
+air both per star, on the coarser three-axis lattice: CIEDE2000 below 0.009, intensity within
+2.1e-4, extinction within 2.9e-5 mag; tests/test_path_table.py holds the bounds). The lattice is built once per process and path
 (:func:`planck_weighted_sums` with one column per path node: one Planck pass per temperature
 node), about 0.05 s for 80 dust nodes, and kept in memory (:data:`TABLE_BYTES_MAX` bounds it:
-a per-star dust column *and* per-star altitudes would need a three-axis lattice of several
-hundred MB, so that case returns None and the caller renders exactly).
+with a per-star dust column *and* per-star altitudes the lattice has three axes, on
+:data:`TEMPERATURE_NODES_3D` temperatures and every :data:`AIRMASS_STEP_3D` in airmass, which
+fits for E(B-V) up to about 1 mag; a lattice that would not fit returns None and the caller
+renders exactly).
 
 References
 ----------
@@ -56,6 +59,10 @@ MIRED_OFFSET = 30.0
 EBV_STEP_MAG = 0.025
 #: Spacing of the airmass nodes.
 AIRMASS_STEP = 0.25
+#: With E(B-V) *and* altitude per star the lattice has three axes: these coarser steps keep it
+#: inside :data:`TABLE_BYTES_MAX` for E(B-V) up to 1.2 mag (about 1.5 s to build).
+TEMPERATURE_NODES_3D = 512
+AIRMASS_STEP_3D = 0.25
 #: The largest lattice kept, bytes (beyond it the caller renders exactly).
 TABLE_BYTES_MAX = 96 * 2 ** 20
 #: The E(B-V) lattice grows in steps of this many nodes (so a catalogue's chunks share it).
@@ -71,31 +78,31 @@ def _u(temperature_K) -> np.ndarray:
     return np.log(1e6 / temperature_K + MIRED_OFFSET)
 
 
-def temperature_nodes_K() -> np.ndarray:
+def temperature_nodes_K(n: int = TEMPERATURE_NODES) -> np.ndarray:
     """The lattice's temperature nodes, kelvin (hot to cool).
 
     Returns
     -------
     numpy.ndarray
-        (:data:`TEMPERATURE_NODES`,) temperatures even in ``ln(mired + 30)``, clipped to
+        (``n``,) temperatures even in ``ln(mired + 30)``, clipped to
         500-100 000 K.
 
     References
     ----------
     Module docstring; [WyszeckiStiles1982] 3.11 (mired).
     """
-    u = np.linspace(_U_MIN, _U_MAX, TEMPERATURE_NODES)
+    u = np.linspace(_U_MIN, _U_MAX, n)
     return np.clip(1e6 / (np.exp(u) - MIRED_OFFSET), 500.0, 100_000.0)
 
 
-def airmass_nodes() -> np.ndarray:
+def airmass_nodes(step: float = AIRMASS_STEP) -> np.ndarray:
     """The lattice's airmass nodes: even from the zenith's Kasten & Young airmass (0.9997) to
     the horizon's (37.92).
 
     Returns
     -------
     numpy.ndarray
-        (n,) airmasses, spacing at most :data:`AIRMASS_STEP`.
+        (n,) airmasses, spacing at most ``step``.
 
     References
     ----------
@@ -104,7 +111,7 @@ def airmass_nodes() -> np.ndarray:
     from starkiln.engine.path.atmosphere import airmass_kasten_young
 
     zenith, horizon = (float(x) for x in airmass_kasten_young(np.array([90.0, 0.0])))
-    return np.linspace(zenith, horizon, int(np.ceil((horizon - zenith) / AIRMASS_STEP)) + 1)
+    return np.linspace(zenith, horizon, int(np.ceil((horizon - zenith) / step)) + 1)
 
 
 def altitude_at_airmass_deg(airmass) -> np.ndarray:
@@ -138,7 +145,8 @@ def altitude_at_airmass_deg(airmass) -> np.ndarray:
 class PathTable:
     """The log spectral sums of arriving light on a lattice (module docstring).
 
-    ``log_sums`` is (temperature nodes, E(B-V) nodes, air nodes, K + 1): the K weighting
+    ``log_sums`` (float32: its rounding, 3e-6 relative at most, is far below the
+    interpolation's) is (temperature nodes, E(B-V) nodes, air nodes, K + 1): the K weighting
     functions' sums, then the band integral of the arriving spectrum; ``log_emitted`` the band
     integral of the emitted one per temperature node. An axis of one node is fixed (no
     interpolation along it).
@@ -312,6 +320,8 @@ def lattice_sums(settings, t_nodes: np.ndarray, weights: np.ndarray, band: str,
     return sums[:, :, :k], emitted, arriving
 
 
+#: Path nodes per slice of the lattice's build (the folded weights about 23 MB a slice).
+_BUILD_NODES = 1024
 #: Stars per block of the interpolation (the gathers stay in cache-sized pieces).
 _BLOCK = 65536
 _LOCK = threading.Lock()
@@ -328,29 +338,36 @@ def _key(settings, weights_key, band, stars):
 
 
 def _build(settings, weights, band, stars, n_e) -> PathTable | None:
-    t_nodes = temperature_nodes_K()
+    both = stars.per_star_dust and stars.per_star_air
+    t_nodes = temperature_nodes_K(TEMPERATURE_NODES_3D if both else TEMPERATURE_NODES)
     ebv = (np.arange(n_e) * EBV_STEP_MAG if stars.per_star_dust
            else np.array([float(stars.ebv[0])]))
     airmass = None
     if stars.alt is None:
         alt = None
     elif stars.per_star_air:
-        airmass = airmass_nodes()
+        airmass = airmass_nodes(AIRMASS_STEP_3D if both else AIRMASS_STEP)
         alt = altitude_at_airmass_deg(airmass)
     else:
         alt = np.array([float(stars.alt[0])])
     n_x = 1 if alt is None else alt.size
     columns = weights.shape[1] + 1
-    if t_nodes.size * ebv.size * n_x * columns * 8 > TABLE_BYTES_MAX:
+    if t_nodes.size * ebv.size * n_x * columns * 4 > TABLE_BYTES_MAX:
         return None
     e_grid, a_grid = ebv, alt
     if alt is not None:
         e_grid, a_grid = (g.reshape(-1) for g in np.meshgrid(ebv, alt, indexing="ij"))
-    sums, emitted, arriving = lattice_sums(settings, t_nodes, weights, band, e_grid, a_grid)
-    table = np.concatenate([sums, arriving[:, :, None]], axis=2)
+    log_sums = np.empty((t_nodes.size, e_grid.size, columns), dtype=np.float32)
+    for lo in range(0, e_grid.size, _BUILD_NODES):  # path nodes in slices: bounded memory
+        sl = slice(lo, lo + _BUILD_NODES)
+        sums, emitted, arriving = lattice_sums(settings, t_nodes, weights, band, e_grid[sl],
+                                               None if a_grid is None else a_grid[sl])
+        with np.errstate(divide="ignore"):
+            log_sums[:, sl, :-1] = np.log(sums)
+            log_sums[:, sl, -1] = np.log(arriving)
     with np.errstate(divide="ignore"):
-        log_sums = np.log(table).reshape(t_nodes.size, ebv.size, n_x, columns)
         log_emitted = np.log(emitted)
+    log_sums = log_sums.reshape(t_nodes.size, ebv.size, n_x, columns)
     if not (np.all(np.isfinite(log_sums)) and np.all(np.isfinite(log_emitted))):
         return None  # a sum that underflows to 0: this path is rendered exactly
     return PathTable(log_sums, log_emitted, EBV_STEP_MAG, airmass)
@@ -389,7 +406,8 @@ def tabulated_sums(settings, weights: np.ndarray, weights_key, band: str, temper
     n_e = 1
     if stars.per_star_dust:
         need = int(np.floor(float(stars.ebv.max()) / EBV_STEP_MAG)) + 2
-        n_e = min(-(-need // EBV_GROW_NODES) * EBV_GROW_NODES, _EBV_NODES_MAX)
+        grow = 8 if stars.per_star_air else EBV_GROW_NODES  # three axes: grow finely
+        n_e = min(-(-need // grow) * grow, _EBV_NODES_MAX)
     with _LOCK:
         table = _TABLES.get(key)
         if table is None or table.ebv_nodes < n_e:
