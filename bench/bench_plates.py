@@ -9,8 +9,9 @@ Prints measured figures beside the goals, with ratios, in one run:
 - the slope in stars (s per million between 1 M and 10 M) and in pixels (the same 1 M stars on
   a plate of a quarter of the pixels);
 - side by side, a plain per-star loop (each star its own small numpy slice, the same
-  pixel-integrated Gaussian), timed on a sample and scaled: goal >= 50x. The drawing runs its
-  chunks on two threads (``drawing.THREADS``); the 1 M plate is also timed on one thread, so
+  pixel-integrated Gaussian), timed on a sample and scaled: goal >= 50x. The drawing (numba's
+  compiled loop, compiled and cached before the timing) runs each chunk on two threads
+  (``drawing.THREADS``); the 1 M plate is also timed on one thread, so
   the ratio can be read either way (the loop is one thread);
 - 1 M stars on a cube of six 2048^2 faces (footprints spilling over the edges), no goal;
 - allocating and zeroing the 8192 x 4096 plate, timed apart (page faults of a fresh 400 MB

@@ -34,29 +34,26 @@ Edges
 
 Speed
 -----
-There is no per-star Python loop. Stars are grouped by footprint size and, with a radix sort
-on a 16-bit row key, into bands of rows; a chunk of stars becomes a sparse matrix with one
-column per star and one row per pixel of the band its footprints touch (CSC: the column of a
-star is its ``(2k + 1)^2`` weights, built directly, no sorting of pixels), and the compiled
-CSC product of ``scipy.sparse`` sums all footprints of the chunk, all channels at once,
-straight into the image rows of the band (the loop behind ``csc_array @ ndarray``, which
-adds into its output). Where that loop is not importable the public ``matrix @ values``
-fills a dense band that is then added to the image (or, for few stars on a wide band,
-``numpy.add.at``); the sums are the same. Chunks run on two threads (the compiled loops
-release the GIL), the sums into the image under a lock. The weights and the sums are in the
+There is no per-star Python loop. Stars are grouped by footprint size and, with a radix sort on
+a 16-bit key of their (face) row, put in row order; in chunks, the per-axis weights of every
+star are computed at once (numpy), and a compiled loop (numba, ``@njit(nogil=True)``, cached on
+disk after the first compile) adds each star's separable product into the image, channel by
+channel, applying the edge rules above as it goes. In row order consecutive footprints touch
+the same few image rows, which stay in the cache. On two threads a chunk is cut into the stars
+well above and well below a middle row (their footprints cannot share a pixel: more than a
+footprint apart), drawn at once, then the few in between. Stars whose footprint crosses a cube
+edge take the reprojection route (``numpy.add.at``). The weights and the sums are in the
 image's precision (float32 for a float32 plate: a footprint's sum is still its value within
-about 1e-7 relative). Memory: the image and about 250 bytes a star of the chunks in flight.
+about 1e-7 relative). Memory: the image and about 100 bytes a star of the chunk in flight.
 """
 
 from __future__ import annotations
 
 import os
-import threading
 from functools import lru_cache
 from concurrent.futures import ThreadPoolExecutor
 
 import numpy as np
-from scipy import sparse
 from scipy.special import erf
 
 from starkiln.engine.errors import InputRangeError
@@ -66,15 +63,7 @@ FOOTPRINT_SIGMAS = 4.0
 #: Stars per chunk for a 7 x 7 footprint (the temporary arrays about 60 MB); wider footprints
 #: take proportionally fewer stars a chunk, so the memory stays bounded for any sigma.
 CHUNK_STARS = 1 << 17
-#: ``Y += A X`` for a CSC matrix ``A`` and dense row-major ``X``, ``Y``: the compiled loop behind
-#: ``scipy.sparse``'s ``csc_array @ ndarray`` (scipy.sparse._sparsetools.csc_matvecs), used
-#: to sum a chunk straight into the image. It is not public API, so if it is missing the
-#: public product into a band (then added to the image) is used; both give the same sums.
-try:
-    from scipy.sparse._sparsetools import csc_matvecs as _IN_PLACE
-except ImportError:                                     # pragma: no cover - other scipy
-    _IN_PLACE = None
-#: Worker threads for the chunks (numpy and scipy.sparse release the GIL in their loops).
+#: Worker threads for a chunk (the compiled loop releases the GIL).
 THREADS = max(1, min(2, os.cpu_count() or 1))
 _SQRT2 = np.sqrt(2.0)
 
@@ -230,28 +219,41 @@ def deposit(image, x_px, y_px, values, sigma_px, wrap_x=False, face=None, *, val
     rows_total = faces * height
     groups = [np.arange(x.size)] if k_all.min() == k_all.max() else \
         [np.flatnonzero(k_all == k) for k in np.unique(k_all)]
-    tasks = []
-    for members in groups:
-        # bands of rows: a stable radix sort on a 16-bit key of the star's (face) row
-        row = f[members] * height + y[members].clip(0, height - 1)
-        key = (row * (65535.0 / rows_total)).astype(np.uint16)
-        members = members[np.argsort(key, kind="stable")]
-        k = int(k_all[members[0]])
-        step = max(1, CHUNK_STARS * 49 // (2 * k + 1) ** 2)
-        tasks += [(members[lo:lo + step], k) for lo in range(0, members.size, step)]
-    lock = threading.Lock()
+    scatter = _scatter_kernel()
+    empty = np.zeros(0, dtype=np.bool_)
+    with ThreadPoolExecutor(THREADS) if THREADS > 1 else _Serial() as pool:
+        for members in groups:
+            # row order: a stable radix sort on a 16-bit key of the star's (face) row
+            row = f[members] * height + y[members].clip(0, height - 1)
+            key = (row * (65535.0 / rows_total)).astype(np.uint16)
+            members = members[np.argsort(key, kind="stable")]
+            k = int(k_all[members[0]])
+            step = max(1, CHUNK_STARS * 49 // (2 * k + 1) ** 2)
+            for lo in range(0, members.size, step):
+                sel = members[lo:lo + step]
+                _deposit_chunk(plane, geometry, x[sel], y[sel], vals[sel], sigma[sel], f[sel],
+                               k, wtype, empty if valid_flat is None else valid_flat,
+                               scatter, pool)
 
-    def run(task):
-        sel, k = task
-        _deposit_chunk(plane, geometry, x[sel], y[sel], vals[sel], sigma[sel], f[sel], k,
-                       wtype, valid_flat, lock)
 
-    if len(tasks) == 1 or THREADS == 1:
-        for task in tasks:
-            run(task)
-        return
-    with ThreadPoolExecutor(THREADS) as pool:
-        list(pool.map(run, tasks))
+class _Serial:
+    """A stand-in for the thread pool on one thread: ``submit`` runs at once."""
+
+    def __enter__(self):
+        return self
+
+    def __exit__(self, *exc):
+        return False
+
+    class _Done:
+        def __init__(self, value):
+            self._value = value
+
+        def result(self):
+            return self._value
+
+    def submit(self, fn, *args):
+        return self._Done(fn(*args))
 
 
 class _Geometry:
@@ -262,85 +264,111 @@ class _Geometry:
         self.wrap_x, self.cube = wrap_x, cube
 
 
-def _deposit_chunk(plane, g, x, y, vals, sigma, f, k, wtype, valid_flat, lock):
-    """One chunk of stars sharing the footprint half-width ``k`` (vectorised); the sums go
-    into ``plane`` under ``lock`` (chunks run on two threads)."""
+def _deposit_chunk(plane, g, x, y, vals, sigma, f, k, wtype, valid_flat, scatter, pool):
+    """One chunk of stars in row order sharing the footprint half-width ``k``: the weights
+    (vectorised), then the compiled loop adds them into ``plane`` (two row-disjoint parts at
+    once on two threads, then the stars between them)."""
     side = 2 * k + 1
     col0, wx = _axis_weights(x, sigma, k, wtype)
     row0, wy = _axis_weights(y, sigma, k, wtype)
-    cols = col0[:, None] + np.arange(side)               # (n, side)
-    rows = row0[:, None] + np.arange(side)
-    folded = spill = None
-    if g.wrap_x:
-        if rows.min() < 0 or rows.max() >= g.height:     # some footprints reach over a pole
-            over_top, over_bottom = rows < 0, rows >= g.height
-            folded = over_top | over_bottom
-            rows = np.where(over_top, -1 - rows,
-                            np.where(over_bottom, 2 * g.height - 1 - rows, rows))
-            rows = rows.clip(0, g.height - 1)            # a footprint taller than the image
-        if cols.min() < 0 or cols.max() >= g.width:      # some footprints cross the seam
-            cols = np.mod(cols, g.width)
+    if g.cube:
+        spill = ((col0 < 0) | (col0 + side > g.width) | (row0 < 0) | (row0 + side > g.height))
+        if spill.any():
+            # stars whose footprint crosses a cube edge: reproject the pixels off the face
+            few = np.flatnonzero(spill)
+            index = _spilled_index(g, f[few], col0[few], row0[few], side)
+            weight = wy[few][:, :, None] * wx[few][:, None, :]
+            _add_at(plane, index, weight.reshape(few.size, -1), vals[few])
     else:
-        off_c = (cols < 0) | (cols >= g.width)
-        off_r = (rows < 0) | (rows >= g.height)
-        if g.cube:
-            spill = off_c.any(axis=1) | off_r.any(axis=1)
-        else:
-            # off the image: the per-axis weight is zero there (separable), the index clipped
-            wx = np.where(off_c, 0, wx).astype(wtype, copy=False)
-            wy = np.where(off_r, 0, wy).astype(wtype, copy=False)
-        cols, rows = cols.clip(0, g.width - 1), rows.clip(0, g.height - 1)
-    weight = wy[:, :, None] * wx[:, None, :]             # (n, side, side): the separable product
-    if spill is not None and spill.any():
-        # stars whose footprint crosses a cube edge: reproject the pixels off the face
-        few = np.flatnonzero(spill)
-        index = _spilled_index(g, f[few], col0[few], row0[few], side)
-        with lock:
-            _add_at(plane, index, weight[few].reshape(few.size, -1), vals[few])
-        keep = ~spill
-        cols, rows, weight, vals, f = cols[keep], rows[keep], weight[keep], vals[keep], f[keep]
-        folded = None
-        if cols.shape[0] == 0:
-            return
-    row_base = (f[:, None] * g.height + rows) * g.width  # (n, side), flat pixel of column 0
-    p0 = int(row_base.min())
-    p1 = int(row_base.max()) + g.width
-    itype = np.int32 if p1 - p0 < 2 ** 31 else np.int64
-    index = (row_base - p0).astype(itype)[:, :, None] + cols.astype(itype)[:, None, :]
-    if folded is not None and folded.any():
-        # rows over a pole: half-way round in longitude (a few stars near the poles)
-        few = np.flatnonzero(folded.any(axis=1))
-        turned = np.mod(cols[few] + g.width // 2, g.width).astype(itype)
-        over = (row_base[few] - p0).astype(itype)[:, :, None] + turned[:, None, :]
-        index[few] = np.where(folded[few][:, :, None], over, index[few])
-    n = index.shape[0]
-    index = index.reshape(n, -1)
-    weight = weight.reshape(n, -1)
-    if valid_flat is not None:
-        weight = weight * valid_flat[p0:p1][index]
-        total = weight.sum(axis=1, keepdims=True)
-        weight = np.divide(weight, total, out=np.zeros_like(weight), where=total > 0)
-    per_star = index.shape[1]
-    indptr = np.arange(0, n * per_star + 1, per_star, dtype=itype)
-    weight = np.ascontiguousarray(weight.reshape(-1), dtype=vals.dtype)
-    index = index.reshape(-1)
-    if _IN_PLACE is not None and plane.dtype == vals.dtype:
-        # the same product, summed straight into the image rows (no band to allocate)
-        target = plane[p0:p1].reshape(-1)
-        with lock:
-            _IN_PLACE(p1 - p0, n, plane.shape[1], indptr, index, weight,
-                      np.ascontiguousarray(vals).reshape(-1), target)
+        spill = None
+    order = np.arange(x.size) if spill is None else np.flatnonzero(~spill)
+    if order.size == 0:
         return
-    if p1 - p0 > 8 * index.size:
-        # few stars on a wide band: scatter them one by one in compiled code
-        with lock:
-            _add_at(plane, index.reshape(n, -1).astype(np.intp) + p0,
-                    weight.reshape(n, -1), vals)
+    face_row = f[order] * g.height + row0[order]
+    args = (plane, wx, wy, col0, row0, f, vals, g.height, g.width, g.wrap_x, valid_flat)
+    middle = int(face_row[order.size // 2])
+    upper = order[face_row < middle - side]
+    lower = order[face_row > middle + side]
+    if isinstance(pool, _Serial) or upper.size == 0 or lower.size == 0:
+        scatter(order, *args)
         return
-    matrix = sparse.csc_array((weight, index, indptr), shape=(p1 - p0, n))
-    band = matrix @ vals
-    with lock:
-        plane[p0:p1] += band
+    between = order[(face_row >= middle - side) & (face_row <= middle + side)]
+    jobs = [pool.submit(scatter, part, *args) for part in (upper, lower)]
+    for job in jobs:
+        job.result()
+    scatter(between, *args)
+
+
+@lru_cache(maxsize=1)
+def _scatter_kernel():
+    """The compiled loop that adds footprints into the image (numba, imported on first use so
+    that commands without plates do not load it; compiled once and cached on disk)."""
+    from numba import njit
+
+    @njit(cache=True, nogil=True)
+    def scatter(order, plane, wx, wy, col0, row0, face, vals, height, width, wrap, valid):
+        side = wx.shape[1]
+        channels = plane.shape[1]
+        half = width // 2
+        use_valid = valid.size > 0
+        one = np.ones(1, dtype=wx.dtype)  # the weights' precision for the scale
+        for t in range(order.size):
+            s = order[t]
+            one[0] = 1.0
+            if use_valid:  # renormalise over the pixels that may receive light
+                total = 0.0
+                for j in range(side):
+                    r = row0[s] + j
+                    if r < 0 or r >= height:
+                        continue
+                    for i in range(side):
+                        c = col0[s] + i
+                        if 0 <= c < width and valid[r * width + c]:
+                            total += wy[s, j] * wx[s, i]
+                if total <= 0.0:
+                    continue
+                one[0] = 1.0 / total
+            scale = one[0]
+            top = face[s] * height
+            for j in range(side):
+                r = row0[s] + j
+                shift = 0
+                if r < 0 or r >= height:
+                    if not wrap:
+                        continue
+                    # over a pole: folded back, half-way round in longitude
+                    r = -1 - r if r < 0 else 2 * height - 1 - r
+                    r = min(max(r, 0), height - 1)
+                    shift = half
+                wyj = wy[s, j] * scale
+                base = (top + r) * width
+                c0 = col0[s] + shift
+                if wrap and c0 >= width:
+                    c0 -= width
+                if (0 <= c0 and c0 + side <= width and not use_valid and channels == 3):
+                    # the common case: the whole row of the footprint on the image
+                    v0, v1, v2 = vals[s, 0], vals[s, 1], vals[s, 2]
+                    for i in range(side):
+                        w = wyj * wx[s, i]
+                        p = base + c0 + i
+                        plane[p, 0] += w * v0
+                        plane[p, 1] += w * v1
+                        plane[p, 2] += w * v2
+                    continue
+                for i in range(side):
+                    c = c0 + i
+                    if wrap:
+                        c = c % width
+                    elif c < 0 or c >= width:
+                        continue
+                    if use_valid and not valid[r * width + c]:
+                        continue
+                    w = wyj * wx[s, i]
+                    p = base + c
+                    for ch in range(channels):
+                        plane[p, ch] += w * vals[s, ch]
+
+    return scatter
 
 
 def _spilled_index(g, f, col0, row0, side):
