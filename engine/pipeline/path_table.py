@@ -19,21 +19,25 @@ The lattice
   largest value asked for so far (the lattice grows on demand, up to 10 mag). Each
   wavelength's transmission is exponential in E(B-V), so the log sums are nearly linear.
 - **Air** (per-star altitudes): nodes every :data:`AIRMASS_STEP` in the Kasten & Young (1989)
-  airmass X from the zenith's 0.9997 to the horizon's 37.92; the slant optical depth is close to linear in X.
-- A path quantity that is the same for every star (the settings' fixed E(B-V) or altitude,
-  or one value for a whole chunk) is a single node, computed exactly.
+  airmass X from the zenith's 0.9997 to the horizon's 37.92; the slant optical depth is close
+  to linear in X.
+- A path quantity that is the same for every star (the settings' fixed E(B-V) or altitude)
+  is a single node, computed exactly. Which quantities are axes follows from what the caller
+  gave per star, never from the values of a chunk, so a star's colour does not depend on its
+  neighbours.
 
 The logarithms of the sums are interpolated multi-linearly. Measured against the exact pass
 over 20 000 random stars (500-100 000 K; E(B-V) 0-10 mag, or altitudes 0-90 degrees): the sums
 within 8.3e-5 relative (below 1e-4 mag in brightness), the chromaticity xy within 6.5e-6, the
 extinction within 2.3e-5 mag; on the display that is CIEDE2000 below 0.007 (with dust and
 air both per star, on the coarser three-axis lattice: CIEDE2000 below 0.009, intensity within
-2.1e-4, extinction within 2.9e-5 mag; tests/test_path_table.py holds the bounds). The lattice is built once per process and path
+2.1e-4, extinction within 2.9e-5 mag; tests/test_path_table.py holds the bounds). The
+lattice is built once per process and path
 (:func:`planck_weighted_sums` with one column per path node: one Planck pass per temperature
 node), about 0.05 s for 80 dust nodes, and kept in memory (:data:`TABLE_BYTES_MAX` bounds it:
 with a per-star dust column *and* per-star altitudes the lattice has three axes, on
 :data:`TEMPERATURE_NODES_3D` temperatures and every :data:`AIRMASS_STEP_3D` in airmass, which
-fits for E(B-V) up to about 1 mag; a lattice that would not fit returns None and the caller
+fits for E(B-V) up to 1.2 mag; a lattice that would not fit returns None and the caller
 renders exactly).
 
 References
