@@ -50,6 +50,7 @@ about 1e-7 relative). Memory: the image and about 60 bytes a star of the stars d
 from __future__ import annotations
 
 import os
+from contextlib import nullcontext
 from functools import lru_cache
 from concurrent.futures import ThreadPoolExecutor
 
@@ -60,10 +61,10 @@ from starkiln.engine.errors import InputRangeError
 
 #: Half-width of a footprint in sigmas (the footprint covers at least this on every side).
 FOOTPRINT_SIGMAS = 4.0
-#: Stars per chunk for a 7 x 7 footprint (the temporary arrays about 60 MB); wider footprints
-#: take proportionally fewer stars a chunk, so the memory stays bounded for any sigma.
+#: Cube stars spilling over a face edge, per chunk of the reprojection route, for a 7 x 7
+#: footprint (its temporary arrays about 60 MB); wider footprints take proportionally fewer.
 CHUNK_STARS = 1 << 17
-#: Worker threads for a chunk (the compiled loop releases the GIL).
+#: Worker threads of the compiled loop (it releases the GIL).
 THREADS = max(1, min(2, os.cpu_count() or 1))
 _SQRT2 = np.sqrt(2.0)
 
@@ -222,7 +223,7 @@ def deposit(image, x_px, y_px, values, sigma_px, wrap_x=False, face=None, *, val
     scatter = _scatter_kernel()
     valid_arr = np.zeros(0, dtype=np.bool_) if valid_flat is None else valid_flat
     sig = np.ascontiguousarray(sigma, dtype=np.float64)
-    with ThreadPoolExecutor(THREADS) if THREADS > 1 else _Serial() as pool:
+    with ThreadPoolExecutor(THREADS) if THREADS > 1 else nullcontext() as pool:
         for members in groups:
             # row order: a stable radix sort on a 16-bit key of the star's (face) row
             row = f[members] * height + y[members].clip(0, height - 1)
@@ -241,7 +242,7 @@ def deposit(image, x_px, y_px, values, sigma_px, wrap_x=False, face=None, *, val
             args = (plane, xs, ys, vals[members], fs, ss, k, height, width, wrap_x, valid_arr,
                     nodes, table, slope)
             upper, lower, between = _row_parts(fs, ys, height, k)
-            if isinstance(pool, _Serial) or upper.size == 0 or lower.size == 0:
+            if pool is None or upper.size == 0 or lower.size == 0:
                 scatter(np.arange(members.size), *args)
                 continue
             jobs = [pool.submit(scatter, part, *args) for part in (upper, lower)]
@@ -252,16 +253,6 @@ def deposit(image, x_px, y_px, values, sigma_px, wrap_x=False, face=None, *, val
 
 #: No erf table (the compiled loop then calls erf itself).
 _NO_TABLE = np.zeros((0, 0), dtype=np.float32)
-
-
-class _Serial:
-    """A stand-in for the thread pool on one thread."""
-
-    def __enter__(self):
-        return self
-
-    def __exit__(self, *exc):
-        return False
 
 
 class _Geometry:
